@@ -1,0 +1,333 @@
+//! Standard atmospheres: U.S. Standard Atmosphere 1976 to 86 km, and the ICAO / ISO 2533
+//! constant set.
+//!
+//! A standard atmosphere is a stack of layers in geopotential height `H`, each with a
+//! linear temperature `T(H) = Tb + L (H - Hb)`. Pressure follows from hydrostatic balance
+//! and the ideal gas law (the hypsometric equation, see [`crate::hypsometric`]):
+//!
+//! * `L != 0`: `p = pb (T / Tb)^(-g0 / (R L))`
+//! * `L == 0`: `p = pb exp(-g0 (H - Hb) / (R Tb))`
+//!
+//! Sources: *U.S. Standard Atmosphere, 1976*, NOAA-S/T 76-1562, U.S. Government Printing
+//! Office, 1976: equations 23 and 33a/33b, constants in section 1.2 and Table 4
+//! (layer bases and lapse rates). ISO 2533:1975 *Standard Atmosphere* and ICAO Doc 7488/3
+//! *Manual of the ICAO Standard Atmosphere* (1993) use the same layers to 80 km
+//! geopotential with the specific gas constant given directly as 287.052 87 J/(kg K).
+//!
+//! The base pressures in the tables below are not typed in from a printed table: they
+//! were computed in f64 from the defining constants, and the test
+//! `base_pressures_follow_from_constants` recomputes them from the layer equations and
+//! checks them against the printed values of the standard.
+//!
+//! The models run from -5 km geopotential (the U.S. 1976 and ICAO tables start at
+//! -5 km; sea-level pressure above 1013.25 hPa and sites below sea level give negative
+//! pressure altitudes) to their tops: 84 852.05 m geopotential = 86 km geometric for
+//! U.S. 1976, and 80 km geopotential for ICAO.
+//!
+//! ```
+//! use isohypse::{atmosphere, Pressure};
+//! // Pressure altitude (geometric, U.S. 1976) of a 700 hPa reading:
+//! let h = atmosphere::pressure_altitude(Pressure::from_hpa(700.0)?)?;
+//! assert!((h.meters() - 3013.0).abs() < 2.0);
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+
+// Constants keep the digits of their sources, beyond what f32 holds.
+#![allow(clippy::excessive_precision)]
+
+use crate::Error;
+use crate::hypsometric;
+use crate::units::{Height, Pressure, Temperature};
+
+/// One layer of a standard atmosphere: its base, and the lapse rate up to the next base.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Layer {
+    /// Geopotential height of the layer base, m'.
+    pub base_geopotential_m: f32,
+    /// Temperature at the base, K.
+    pub base_temperature_k: f32,
+    /// Temperature gradient dT/dH, K per geopotential metre (negative in the troposphere).
+    pub lapse_rate_k_per_m: f32,
+    /// Pressure at the base, Pa.
+    pub base_pressure_pa: f32,
+}
+
+/// Temperature, pressure and density at one height.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct AtmosphereState {
+    /// Air temperature.
+    pub temperature: Temperature,
+    /// Air pressure.
+    pub pressure: Pressure,
+    /// Air density, kg/m^3.
+    pub density_kg_m3: f32,
+}
+
+/// A standard atmosphere: constants and layer table.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct StandardAtmosphere {
+    /// Short name of the standard.
+    pub name: &'static str,
+    /// Specific gas constant of dry air R = R* / M0, J/(kg K).
+    pub gas_constant: f32,
+    /// Standard acceleration of gravity g0, m/s^2 (defines geopotential metres).
+    pub standard_gravity: f32,
+    /// Effective Earth radius r0 used to convert geopotential to geometric height, m.
+    pub earth_radius_m: f32,
+    /// Layers from the bottom; the last entry only marks the top of the model
+    /// (its lapse rate is not used).
+    pub layers: [Layer; 9],
+}
+
+/// Number of usable layers (the last table row is the top).
+const LAYER_COUNT: usize = 8;
+
+/// Specific gas constant of dry air in U.S. 1976: R* / M0 = 8 314.32 / 28.964 4
+/// = 287.053 07 J/(kg K) (U.S. Standard Atmosphere 1976, section 1.2.4 and Table 2).
+pub const US_1976_GAS_CONSTANT: f32 = 287.053_07;
+/// Standard acceleration of gravity, m/s^2 (exact; 3rd CGPM 1901; U.S. 1976 and ISO 2533).
+pub const STANDARD_GRAVITY: f32 = 9.806_65;
+/// Effective Earth radius of U.S. 1976 for the geopotential conversion, m (section 1.2.2).
+pub const US_1976_EARTH_RADIUS_M: f32 = 6_356_766.0;
+/// Sea-level standard pressure, Pa (U.S. 1976 and ISO 2533).
+pub const SEA_LEVEL_PRESSURE_PA: f32 = 101_325.0;
+/// Sea-level standard temperature, K (U.S. 1976 and ISO 2533).
+pub const SEA_LEVEL_TEMPERATURE_K: f32 = 288.15;
+
+const fn layer(h: f32, t: f32, l: f32, p: f32) -> Layer {
+    Layer {
+        base_geopotential_m: h,
+        base_temperature_k: t,
+        lapse_rate_k_per_m: l,
+        base_pressure_pa: p,
+    }
+}
+
+/// U.S. Standard Atmosphere 1976, -5 km to 86 km geometric (the default everywhere).
+///
+/// Base pressures (computed in f64 from the constants; printed values of the standard in
+/// Table 4 and the tables of part 4: 101 325, 22 632.06, 5 474.889, 868.018 7,
+/// 110.906 3, 66.938 87, 3.956 420, 0.373 383 6 Pa).
+pub const US_1976: StandardAtmosphere = StandardAtmosphere {
+    name: "U.S. Standard Atmosphere 1976",
+    gas_constant: US_1976_GAS_CONSTANT,
+    standard_gravity: STANDARD_GRAVITY,
+    earth_radius_m: US_1976_EARTH_RADIUS_M,
+    layers: [
+        layer(-5_000.0, 320.65, -0.0065, 177_686.98),
+        layer(0.0, 288.15, -0.0065, 101_325.0),
+        layer(11_000.0, 216.65, 0.0, 22_632.064),
+        layer(20_000.0, 216.65, 0.001, 5_474.888_7),
+        layer(32_000.0, 228.65, 0.0028, 868.018_7),
+        layer(47_000.0, 270.65, 0.0, 110.906_306),
+        layer(51_000.0, 270.65, -0.0028, 66.938_873),
+        layer(71_000.0, 214.65, -0.002, 3.956_420_4),
+        // top: 86 km geometric = 84 852.05 m' geopotential with r0 = 6 356 766 m
+        layer(84_852.05, 186.945_9, 0.0, 0.373_382_9),
+    ],
+};
+
+/// ICAO Standard Atmosphere (ICAO Doc 7488/3, 1993) = ISO 2533:1975, -5 km to 80 km
+/// geopotential. Same layers as U.S. 1976 below 80 km; R = 287.052 87 J/(kg K) given
+/// directly, so pressures differ from U.S. 1976 by 1e-6 to 9e-6 relative.
+pub const ICAO: StandardAtmosphere = StandardAtmosphere {
+    name: "ICAO Standard Atmosphere / ISO 2533",
+    gas_constant: 287.052_87,
+    standard_gravity: STANDARD_GRAVITY,
+    earth_radius_m: US_1976_EARTH_RADIUS_M,
+    layers: [
+        layer(-5_000.0, 320.65, -0.0065, 177_687.05),
+        layer(0.0, 288.15, -0.0065, 101_325.0),
+        layer(11_000.0, 216.65, 0.0, 22_632.04),
+        layer(20_000.0, 216.65, 0.001, 5_474.877_4),
+        layer(32_000.0, 228.65, 0.0028, 868.015_8),
+        layer(47_000.0, 270.65, 0.0, 110.905_77),
+        layer(51_000.0, 270.65, -0.0028, 66.938_53),
+        layer(71_000.0, 214.65, -0.002, 3.956_392_2),
+        // top: 80 km geopotential
+        layer(80_000.0, 196.65, 0.0, 0.886_272_24),
+    ],
+};
+
+impl Default for StandardAtmosphere {
+    fn default() -> Self {
+        US_1976
+    }
+}
+
+impl StandardAtmosphere {
+    /// Lowest geopotential height of the model, m'.
+    pub fn bottom_geopotential_m(&self) -> f32 {
+        self.layers[0].base_geopotential_m
+    }
+
+    /// Highest geopotential height of the model, m'.
+    pub fn top_geopotential_m(&self) -> f32 {
+        self.layers[LAYER_COUNT].base_geopotential_m
+    }
+
+    /// Highest pressure of the model (at its bottom), Pa.
+    pub fn bottom_pressure_pa(&self) -> f32 {
+        self.layers[0].base_pressure_pa
+    }
+
+    /// Lowest pressure of the model (at its top), Pa.
+    pub fn top_pressure_pa(&self) -> f32 {
+        self.layers[LAYER_COUNT].base_pressure_pa
+    }
+
+    /// The layer holding geopotential height `h` (m'), or an error outside the model.
+    fn layer_for_geopotential(&self, h: f32) -> Result<&Layer, Error> {
+        if !h.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        if h < self.bottom_geopotential_m() {
+            return Err(Error::BelowModelBottom);
+        }
+        if h > self.top_geopotential_m() {
+            return Err(Error::AboveModelTop);
+        }
+        // The first layer whose upper boundary is at or above h. Found by a linear scan
+        // from the bottom: most readings are in the two lowest layers.
+        let mut chosen = &self.layers[0];
+        for pair in self.layers.windows(2) {
+            if let [lower, upper] = pair {
+                chosen = lower;
+                if h <= upper.base_geopotential_m {
+                    break;
+                }
+            }
+        }
+        Ok(chosen)
+    }
+
+    /// The layer holding pressure `p_pa`, or an error outside the model.
+    fn layer_for_pressure(&self, p_pa: f32) -> Result<&Layer, Error> {
+        if p_pa > self.bottom_pressure_pa() {
+            return Err(Error::BelowModelBottom);
+        }
+        if p_pa < self.top_pressure_pa() {
+            return Err(Error::AboveModelTop);
+        }
+        let mut chosen = &self.layers[0];
+        for pair in self.layers.windows(2) {
+            if let [lower, upper] = pair {
+                chosen = lower;
+                if p_pa >= upper.base_pressure_pa {
+                    break;
+                }
+            }
+        }
+        Ok(chosen)
+    }
+
+    /// Temperature, pressure and density at geopotential height `h` (m').
+    ///
+    /// Equations: `T = Tb + L (H - Hb)`; pressure from
+    /// [`hypsometric::pressure_at_lapse_height`] or
+    /// [`hypsometric::pressure_at_isothermal_height`]; density `rho = p / (R T)`
+    /// (U.S. 1976 equations 23, 33a, 33b, 42).
+    ///
+    /// Errors: [`Error::BelowModelBottom`], [`Error::AboveModelTop`].
+    pub fn at_geopotential(&self, h: Height) -> Result<AtmosphereState, Error> {
+        let hm = h.meters();
+        let layer = self.layer_for_geopotential(hm)?;
+        let dh = hm - layer.base_geopotential_m;
+        let t = layer.base_temperature_k + layer.lapse_rate_k_per_m * dh;
+        let p = if layer.lapse_rate_k_per_m == 0.0 {
+            hypsometric::pressure_at_isothermal_height(
+                layer.base_pressure_pa,
+                layer.base_temperature_k,
+                dh,
+                self.gas_constant,
+                self.standard_gravity,
+            )
+        } else {
+            hypsometric::pressure_at_lapse_height(
+                layer.base_pressure_pa,
+                layer.base_temperature_k,
+                layer.lapse_rate_k_per_m,
+                dh,
+                self.gas_constant,
+                self.standard_gravity,
+            )
+        };
+        let temperature = Temperature::from_kelvin(t)?;
+        let pressure = Pressure::from_pa(p)?;
+        Ok(AtmosphereState {
+            temperature,
+            pressure,
+            density_kg_m3: p / (self.gas_constant * t),
+        })
+    }
+
+    /// Temperature, pressure and density at geometric height `z` (m above mean sea
+    /// level), converted to geopotential with this standard's Earth radius.
+    pub fn at_geometric(&self, z: Height) -> Result<AtmosphereState, Error> {
+        let h = crate::geopotential::geopotential_from_geometric(z, self.earth_radius_m)?;
+        self.at_geopotential(h)
+    }
+
+    /// Geopotential height (m') at which this standard has pressure `p`: the inverse of
+    /// [`Self::at_geopotential`], solved in closed form per layer
+    /// ([`hypsometric::lapse_layer_height`], [`hypsometric::isothermal_layer_height`]).
+    ///
+    /// Errors: [`Error::BelowModelBottom`] for pressure above the model's bottom pressure,
+    /// [`Error::AboveModelTop`] for pressure below its top pressure.
+    pub fn geopotential_height(&self, p: Pressure) -> Result<Height, Error> {
+        let pa = p.pa();
+        let layer = self.layer_for_pressure(pa)?;
+        let dh = if layer.lapse_rate_k_per_m == 0.0 {
+            hypsometric::isothermal_layer_height(
+                layer.base_pressure_pa,
+                layer.base_temperature_k,
+                pa,
+                self.gas_constant,
+                self.standard_gravity,
+            )
+        } else {
+            hypsometric::lapse_layer_height(
+                layer.base_pressure_pa,
+                layer.base_temperature_k,
+                layer.lapse_rate_k_per_m,
+                pa,
+                self.gas_constant,
+                self.standard_gravity,
+            )
+        };
+        Height::from_meters(layer.base_geopotential_m + dh)
+    }
+
+    /// Pressure altitude: the geometric height (m) at which this standard has pressure
+    /// `p`. Independent of latitude by definition (the standard's own Earth radius).
+    pub fn pressure_altitude(&self, p: Pressure) -> Result<Height, Error> {
+        let h = self.geopotential_height(p)?;
+        crate::geopotential::geometric_from_geopotential(h, self.earth_radius_m)
+    }
+
+    /// Pressure of this standard at geometric height `z`.
+    pub fn pressure_at(&self, z: Height) -> Result<Pressure, Error> {
+        Ok(self.at_geometric(z)?.pressure)
+    }
+
+    /// Temperature of this standard at geometric height `z`.
+    pub fn temperature_at(&self, z: Height) -> Result<Temperature, Error> {
+        Ok(self.at_geometric(z)?.temperature)
+    }
+}
+
+/// Pressure altitude in the U.S. Standard Atmosphere 1976: the geometric height at which
+/// the standard has pressure `p`. The everyday "standard pressure to height" call.
+///
+/// ```
+/// use isohypse::{atmosphere::pressure_altitude, Pressure};
+/// let h = pressure_altitude(Pressure::from_pa(101_325.0)?)?;
+/// assert!(h.meters().abs() < 1e-3);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+pub fn pressure_altitude(p: Pressure) -> Result<Height, Error> {
+    US_1976.pressure_altitude(p)
+}
