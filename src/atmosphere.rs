@@ -19,9 +19,9 @@
 //! `base_pressures_follow_from_constants` recomputes them from the layer equations and
 //! checks them against the printed values of the standard.
 //!
-//! The models run from -5 km geopotential (the U.S. 1976 and ICAO tables start at
-//! -5 km; sea-level pressure above 1013.25 hPa and sites below sea level give negative
-//! pressure altitudes) to their tops: 84 852.05 m geopotential = 86 km geometric for
+//! The models run from -5 004 m geopotential (just below -5 km geometric, where the
+//! U.S. 1976 tables start; sea-level pressure above 1013.25 hPa and sites below sea level
+//! give negative pressure altitudes) to their tops: 84 852.05 m geopotential = 86 km geometric for
 //! U.S. 1976, and 80 km geopotential for ICAO.
 //!
 //! ```
@@ -106,7 +106,7 @@ const fn layer(h: f32, t: f32, l: f32, p: f32) -> Layer {
     }
 }
 
-/// U.S. Standard Atmosphere 1976, -5 km to 86 km geometric (the default everywhere).
+/// U.S. Standard Atmosphere 1976, -5 km to 86 km geometric (-5 004 m' to 84 852.05 m') (the default everywhere).
 ///
 /// Base pressures (computed in f64 from the constants; printed values of the standard in
 /// Table 4 and the tables of part 4: 101 325, 22 632.06, 5 474.889, 868.018 7,
@@ -117,7 +117,7 @@ pub const US_1976: StandardAtmosphere = StandardAtmosphere {
     standard_gravity: STANDARD_GRAVITY,
     earth_radius_m: US_1976_EARTH_RADIUS_M,
     layers: [
-        layer(-5_000.0, 320.65, -0.0065, 177_686.98),
+        layer(-5_004.0, 320.676, -0.0065, 177_762.72),
         layer(0.0, 288.15, -0.0065, 101_325.0),
         layer(11_000.0, 216.65, 0.0, 22_632.064),
         layer(20_000.0, 216.65, 0.001, 5_474.888_7),
@@ -126,12 +126,12 @@ pub const US_1976: StandardAtmosphere = StandardAtmosphere {
         layer(51_000.0, 270.65, -0.0028, 66.938_873),
         layer(71_000.0, 214.65, -0.002, 3.956_420_4),
         // top: 86 km geometric = 84 852.05 m' geopotential with r0 = 6 356 766 m
-        layer(84_852.05, 186.945_9, 0.0, 0.373_382_9),
+        layer(84_852.05, 186.945_9, 0.0, 0.373_380_18),
     ],
 };
 
 /// ICAO Standard Atmosphere (ICAO Doc 7488/3, 1993) = ISO 2533:1975, -5 km to 80 km
-/// geopotential. Same layers as U.S. 1976 below 80 km; R = 287.052 87 J/(kg K) given
+/// geopotential (from -5 004 m'). Same layers as U.S. 1976 below 80 km; R = 287.052 87 J/(kg K) given
 /// directly, so pressures differ from U.S. 1976 by 1e-6 to 9e-6 relative.
 pub const ICAO: StandardAtmosphere = StandardAtmosphere {
     name: "ICAO Standard Atmosphere / ISO 2533",
@@ -139,7 +139,7 @@ pub const ICAO: StandardAtmosphere = StandardAtmosphere {
     standard_gravity: STANDARD_GRAVITY,
     earth_radius_m: US_1976_EARTH_RADIUS_M,
     layers: [
-        layer(-5_000.0, 320.65, -0.0065, 177_687.05),
+        layer(-5_004.0, 320.676, -0.0065, 177_762.78),
         layer(0.0, 288.15, -0.0065, 101_325.0),
         layer(11_000.0, 216.65, 0.0, 22_632.04),
         layer(20_000.0, 216.65, 0.001, 5_474.877_4),
@@ -205,11 +205,14 @@ impl StandardAtmosphere {
     }
 
     /// The layer holding pressure `p_pa`, or an error outside the model.
+    ///
+    /// Pressures within 1e-6 relative of the model's ends are accepted, so that the
+    /// forward function's f32 rounding at the very ends always inverts.
     fn layer_for_pressure(&self, p_pa: f32) -> Result<&Layer, Error> {
-        if p_pa > self.bottom_pressure_pa() {
+        if p_pa > self.bottom_pressure_pa() * (1.0 + 1.0e-6) {
             return Err(Error::BelowModelBottom);
         }
-        if p_pa < self.top_pressure_pa() {
+        if p_pa < self.top_pressure_pa() * (1.0 - 1.0e-6) {
             return Err(Error::AboveModelTop);
         }
         let mut chosen = &self.layers[0];

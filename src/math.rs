@@ -27,7 +27,7 @@ use micromath::F32Ext as M;
 pub(crate) fn ln(x: f32) -> f32 {
     #[cfg(feature = "micromath")]
     {
-        M::ln(x)
+        small_ln(x)
     }
     #[cfg(all(feature = "libm", not(feature = "micromath")))]
     {
@@ -40,7 +40,7 @@ pub(crate) fn ln(x: f32) -> f32 {
 pub(crate) fn exp(x: f32) -> f32 {
     #[cfg(feature = "micromath")]
     {
-        M::exp(x)
+        small_exp(x)
     }
     #[cfg(all(feature = "libm", not(feature = "micromath")))]
     {
@@ -59,7 +59,10 @@ pub(crate) fn ln_1p(x: f32) -> f32 {
         if x.abs() < 1.0e-3 {
             x * (1.0 - x * (0.5 - x * (1.0 / 3.0 - x * 0.25)))
         } else {
-            M::ln(1.0 + x)
+            let u = 1.0 + x;
+            // ln(u) corrected for the rounding of 1 + x (Goldberg 1991, "What every
+            // computer scientist should know about floating-point arithmetic", thm. 4).
+            small_ln(u) - ((u - 1.0) - x) / u
         }
     }
     #[cfg(all(feature = "libm", not(feature = "micromath")))]
@@ -70,16 +73,18 @@ pub(crate) fn ln_1p(x: f32) -> f32 {
 
 /// e^x - 1, accurate for small x.
 ///
-/// `micromath` has no `exp_m1`; written here as a short series for |x| < 1e-3 and
-/// `exp(x) - 1` beyond.
+/// `micromath` has no `exp_m1`; written here as a Taylor series for |x| < 0.05
+/// (truncation below 2e-13 relative) and `exp(x) - 1` beyond.
 #[inline]
 pub(crate) fn exp_m1(x: f32) -> f32 {
     #[cfg(feature = "micromath")]
     {
-        if x.abs() < 1.0e-3 {
-            x * (1.0 + x * (0.5 + x * (1.0 / 6.0 + x * (1.0 / 24.0))))
+        if x.abs() < 0.05 {
+            x * (1.0
+                + x * (0.5
+                    + x * (1.0 / 6.0 + x * (1.0 / 24.0 + x * (1.0 / 120.0 + x * (1.0 / 720.0))))))
         } else {
-            M::exp(x) - 1.0
+            small_exp(x) - 1.0
         }
     }
     #[cfg(all(feature = "libm", not(feature = "micromath")))]
@@ -125,4 +130,58 @@ pub(crate) fn sin(x: f32) -> f32 {
     {
         libm::sinf(x)
     }
+}
+
+/// Natural logarithm for the `micromath` backend, written here because micromath 2.1's
+/// `ln` is off by up to 0.08 absolute for some arguments below 1 (measured against f64:
+/// ln(0.9) gave -0.1823 instead of -0.1054), far too much for altitude.
+///
+/// `x = m 2^e` with `m` in [sqrt(1/2), sqrt(2)), then
+/// `ln x = e ln 2 + 2 atanh(s)`, `s = (m - 1) / (m + 1)`,
+/// `2 atanh(s) = 2 (s + s^3/3 + s^5/5 + s^7/7 + s^9/9)` (|s| <= 0.1716, so the first
+/// omitted term is below 3e-9). Only safe bit manipulation (`to_bits`/`from_bits`).
+/// Subnormal and non-positive inputs are not expected (callers pass pressures and ratios
+/// of valid pressures); they return a finite but meaningless value rather than panic.
+#[cfg(feature = "micromath")]
+fn small_ln(x: f32) -> f32 {
+    const LN_2: f32 = core::f32::consts::LN_2;
+    const SQRT_2: f32 = core::f32::consts::SQRT_2;
+    let bits = x.to_bits();
+    let mut e = ((bits >> 23) & 0xff) as i32 - 127;
+    let mut m = f32::from_bits((bits & 0x007f_ffff) | 0x3f80_0000);
+    if m > SQRT_2 {
+        m *= 0.5;
+        e += 1;
+    }
+    let s = (m - 1.0) / (m + 1.0);
+    let s2 = s * s;
+    let series = s * (2.0 + s2 * (2.0 / 3.0 + s2 * (0.4 + s2 * (2.0 / 7.0 + s2 * (2.0 / 9.0)))));
+    e as f32 * LN_2 + series
+}
+
+/// e^x for the `micromath` backend, written here because micromath 2.1's `exp` is off by
+/// up to 2e-3 relative for some arguments (measured against f64 through the pressure of
+/// the standard atmosphere), about 20 m of height.
+///
+/// `x = k ln 2 + r` with `|r| <= ln(2)/2` (ln 2 split in a high and a low part so `r` is
+/// exact to f32), `e^x = 2^k e^r`, `e^r` by its Taylor series to r^7 (truncation below
+/// 2e-8 relative). Inputs are clamped to [-87, 88], the normal range of f32.
+#[cfg(feature = "micromath")]
+fn small_exp(x: f32) -> f32 {
+    const LN_2_HI: f32 = 0.693_145_75;
+    const LN_2_LO: f32 = 1.428_606_8e-6;
+    let x = x.clamp(-87.0, 88.0);
+    let t = x * core::f32::consts::LOG2_E;
+    let k = (if t >= 0.0 { t + 0.5 } else { t - 0.5 }) as i32;
+    let kf = k as f32;
+    let r = (x - kf * LN_2_HI) - kf * LN_2_LO;
+    let p = 1.0
+        + r * (1.0
+            + r * (0.5
+                + r * (1.0 / 6.0
+                    + r * (1.0 / 24.0
+                        + r * (1.0 / 120.0 + r * (1.0 / 720.0 + r * (1.0 / 5040.0)))))));
+    // 2^k as f32 bits; k is within -126..=127 after the clamp.
+    let scale = f32::from_bits(((k + 127).clamp(1, 254) as u32) << 23);
+    p * scale
 }

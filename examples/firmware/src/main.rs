@@ -1,0 +1,387 @@
+//! Runs isohypse on a Cortex-M core under QEMU and measures it.
+//!
+//! 1. Computes the library's standard pressure -> height conversion and the one-line
+//!    sea-level power formula for the demo samples, and compares both with the values
+//!    `build.rs` computed on the host from the same source and maths backend (within
+//!    1 mm). Any difference fails the run (semihosting exit with failure).
+//! 2. Counts instructions per call for each row of a table of (name, inputs, closure).
+//!    QEMU runs with `-icount shift=0`: every guest instruction advances virtual time
+//!    by exactly 1 ns, and SysTick, clocked from the core clock, counts virtual time.
+//!    The firmware calibrates instructions per tick with a closure of exactly 1000 `nop`
+//!    instructions, and subtracts the loop and call overhead measured with an identity
+//!    closure, so a row's figure is the instructions its closure adds per call.
+//!
+//! Output goes to the host over semihosting; `run.sh` collects the tables.
+
+#![no_std]
+#![no_main]
+#![deny(unsafe_code)]
+
+mod formulas;
+
+/// Demo samples and host-computed results (see `build.rs`).
+mod samples {
+    include!(concat!(env!("OUT_DIR"), "/samples.rs"));
+}
+
+use core::hint::black_box;
+
+use cortex_m::peripheral::{Peripherals, SYST, syst::SystClkSource};
+use cortex_m_rt::entry;
+use cortex_m_semihosting::{debug, hprintln};
+use panic_semihosting as _;
+
+use formulas::SAMPLE_COUNT;
+use samples::{HOST_BASELINE_M, HOST_LIBRARY_M, PRESSURES_PA};
+
+/// Every row runs over all samples this many times (600 calls), so that the tick
+/// resolution (40 or 62.5 instructions) is well below 0.1 instruction per call.
+const REPEATS: usize = 20;
+/// Largest accepted difference between the firmware's and the host's result, m.
+const TOLERANCE_M: f32 = 0.001;
+/// SysTick is a 24-bit down counter.
+const SYSTICK_MASK: u32 = 0x00FF_FFFF;
+
+#[cfg(feature = "micromath")]
+const BACKEND: &str = "micromath";
+#[cfg(not(feature = "micromath"))]
+const BACKEND: &str = "libm";
+
+/// The library calls. With feature `baseline-only` they are replaced by stand-ins with no
+/// library code, so the ELF size difference is the library's share of the firmware.
+#[cfg(not(feature = "baseline-only"))]
+mod library {
+    /// Whether this build contains the library.
+    pub const LINKED: bool = true;
+
+    /// `isohypse::atmosphere::pressure_altitude` (geometric metres, U.S. 1976).
+    pub fn pressure_altitude(p_pa: f32) -> f32 {
+        crate::formulas::library_pressure_altitude(p_pa)
+    }
+
+    /// Geopotential height only (no conversion to geometric height).
+    pub fn geopotential_height(p_pa: f32) -> f32 {
+        match isohypse::Pressure::from_pa(p_pa)
+            .and_then(|p| isohypse::atmosphere::US_1976.geopotential_height(p))
+        {
+            Ok(h) => h.meters(),
+            Err(_) => f32::NAN,
+        }
+    }
+}
+
+#[cfg(feature = "baseline-only")]
+#[allow(dead_code)]
+mod library {
+    pub const LINKED: bool = false;
+    pub fn pressure_altitude(p_pa: f32) -> f32 {
+        core::hint::black_box(p_pa)
+    }
+    pub fn geopotential_height(p_pa: f32) -> f32 {
+        core::hint::black_box(p_pa)
+    }
+}
+
+/// One measured row: a name, the inputs it is called with, and the code per call.
+/// Rows may keep state between calls (`FnMut`), e.g. a filter step.
+struct Row<'a> {
+    name: &'a str,
+    inputs: &'a [f32; SAMPLE_COUNT],
+    body: &'a mut dyn FnMut(f32) -> f32,
+}
+
+/// SysTick ticks taken by `REPEATS` passes of `body` over `inputs`.
+fn ticks(body: &mut dyn FnMut(f32) -> f32, inputs: &[f32; SAMPLE_COUNT]) -> u32 {
+    let start = SYST::get_current();
+    for _ in 0..REPEATS {
+        for &x in inputs {
+            black_box(body(black_box(x)));
+        }
+    }
+    let end = SYST::get_current();
+    start.wrapping_sub(end) & SYSTICK_MASK
+}
+
+macro_rules! nop10 {
+    () => {
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+    };
+}
+macro_rules! nop100 {
+    () => {
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+        nop10!();
+    };
+}
+/// Instructions in the calibration closure besides those of the identity closure.
+const CALIBRATION_NOPS: u32 = 1000;
+
+#[entry]
+fn main() -> ! {
+    let ok = run();
+    debug::exit(if ok { debug::EXIT_SUCCESS } else { debug::EXIT_FAILURE });
+    #[allow(clippy::empty_loop)]
+    loop {}
+}
+
+fn run() -> bool {
+    let Some(mut peripherals) = Peripherals::take() else {
+        hprintln!("error: peripherals already taken");
+        return false;
+    };
+    let syst = &mut peripherals.SYST;
+    syst.set_clock_source(SystClkSource::Core);
+    syst.set_reload(SYSTICK_MASK);
+    syst.clear_current();
+    syst.enable_counter();
+
+    hprintln!(
+        "isohypse firmware on {} [{}], maths backend {}, opt-level {}",
+        env!("FIRMWARE_BOARD"),
+        env!("FIRMWARE_TARGET"),
+        BACKEND,
+        env!("FIRMWARE_OPT_LEVEL")
+    );
+
+    let ok = check();
+    measure();
+    ok
+}
+
+/// Compares the firmware's results with the host's; prints the table and returns
+/// whether every sample agrees within `TOLERANCE_M`.
+fn check() -> bool {
+    hprintln!("");
+    hprintln!("check: firmware vs host (build.rs), same code and backend, tolerance 1 mm");
+    hprintln!("| p (hPa) | library (m) | host (m) | diff (m) | baseline (m) | host (m) | diff (m) |");
+    hprintln!("| ---: | ---: | ---: | ---: | ---: | ---: | ---: |");
+    let mut ok = true;
+    let mut library_exact = 0;
+    let mut baseline_exact = 0;
+    let mut library_worst = 0.0_f32;
+    let mut baseline_worst = 0.0_f32;
+    for ((&p, &host_lib), &host_base) in PRESSURES_PA
+        .iter()
+        .zip(HOST_LIBRARY_M.iter())
+        .zip(HOST_BASELINE_M.iter())
+    {
+        let lib = library::pressure_altitude(black_box(p));
+        let base = formulas::sea_level_power_formula(black_box(p));
+        let d_lib = lib - host_lib;
+        let d_base = base - host_base;
+        hprintln!(
+            "| {:.1} | {:.3} | {:.3} | {:.1e} | {:.3} | {:.3} | {:.1e} |",
+            p / 100.0,
+            lib,
+            host_lib,
+            d_lib,
+            base,
+            host_base,
+            d_base
+        );
+        // Written so that NaN fails.
+        if library::LINKED && !(libm::fabsf(d_lib) <= TOLERANCE_M) {
+            ok = false;
+        }
+        if !(libm::fabsf(d_base) <= TOLERANCE_M) {
+            ok = false;
+        }
+        library_exact += usize::from(lib.to_bits() == host_lib.to_bits());
+        baseline_exact += usize::from(base.to_bits() == host_base.to_bits());
+        library_worst = library_worst.max(libm::fabsf(d_lib));
+        baseline_worst = baseline_worst.max(libm::fabsf(d_base));
+    }
+    if library::LINKED {
+        hprintln!(
+            "check library : {} samples, {} bit-identical to host, worst |diff| {:e} m",
+            SAMPLE_COUNT,
+            library_exact,
+            library_worst
+        );
+    } else {
+        hprintln!("check library : not linked (baseline-only build)");
+    }
+    hprintln!(
+        "check baseline: {} samples, {} bit-identical to host, worst |diff| {:e} m",
+        SAMPLE_COUNT,
+        baseline_exact,
+        baseline_worst
+    );
+    let ok = ok && library::LINKED;
+    hprintln!("check: {}", if ok { "PASS" } else { "FAIL" });
+    ok
+}
+
+/// Runs every row, prints instructions per call and the ratio to the baseline.
+fn measure() {
+    const P0: f32 = 101_325.0;
+    const EXPONENT: f32 = 0.190_263;
+    let pressures = &PRESSURES_PA;
+    // Arguments the maths functions see inside the formulas, for the breakdown rows.
+    let ratios: [f32; SAMPLE_COUNT] = core::array::from_fn(|i| pressures[i] / P0);
+    #[cfg(not(feature = "micromath"))]
+    let offsets: [f32; SAMPLE_COUNT] = core::array::from_fn(|i| ratios[i] - 1.0);
+    let exponents: [f32; SAMPLE_COUNT] =
+        core::array::from_fn(|i| EXPONENT * libm::logf(ratios[i]));
+
+    // Fixed rows: overhead and calibration.
+    let mut identity = |x: f32| x;
+    let mut nops = |x: f32| {
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        nop100!();
+        x
+    };
+    let empty = ticks(&mut identity, pressures);
+    let calibration = ticks(&mut nops, pressures);
+    let calls = (REPEATS * SAMPLE_COUNT) as u32;
+    let per_tick = calibration.saturating_sub(empty);
+    if per_tick == 0 {
+        hprintln!("error: SysTick does not count; cannot measure");
+        return;
+    }
+    // instructions per call = CALIBRATION_NOPS * (row - empty) / (calibration - empty)
+    let per_call = |t: u32| -> f32 {
+        (t as f32 - empty as f32) * CALIBRATION_NOPS as f32 / per_tick as f32
+    };
+    hprintln!("");
+    hprintln!(
+        "calibration: {} calls x {} nop = {} ticks -> {:.3} instructions per SysTick tick",
+        calls,
+        CALIBRATION_NOPS,
+        per_tick,
+        (calls * CALIBRATION_NOPS) as f32 / per_tick as f32
+    );
+    hprintln!(
+        "loop + call overhead (subtracted from every row): {:.1} instructions per call",
+        empty as f32 * CALIBRATION_NOPS as f32 / per_tick as f32
+    );
+
+    // The measured rows. The first is the baseline the others are compared with.
+    // Add rows here (e.g. a filter step, a sounding step, the full pipeline).
+    let mut baseline = |p: f32| formulas::sea_level_power_formula(p);
+    let mut pressure_altitude = |p: f32| library::pressure_altitude(p);
+    let mut geopotential = |p: f32| library::geopotential_height(p);
+    #[cfg(not(feature = "micromath"))]
+    let mut log1pf = |x: f32| libm::log1pf(x);
+    #[cfg(not(feature = "micromath"))]
+    let mut expm1f = |x: f32| libm::expm1f(x);
+    #[cfg(not(feature = "micromath"))]
+    let mut logf = |x: f32| libm::logf(x);
+    #[cfg(not(feature = "micromath"))]
+    let mut expf = |x: f32| libm::expf(x);
+    #[cfg(feature = "micromath")]
+    let mut logf = |x: f32| micromath::F32Ext::ln(x);
+    #[cfg(feature = "micromath")]
+    let mut expf = |x: f32| micromath::F32Ext::exp(x);
+    let mut powf = |x: f32| formulas::backend_powf(x, EXPONENT);
+
+    let rows: &mut [Row] = &mut [
+        Row {
+            name: "baseline: 44330.77 * (1 - powf(p / 101325, 0.190263))",
+            inputs: pressures,
+            body: &mut baseline,
+        },
+        Row {
+            name: "atmosphere::pressure_altitude(Pressure::from_pa(p)?)",
+            inputs: pressures,
+            body: &mut pressure_altitude,
+        },
+        Row {
+            name: "  part: US_1976.geopotential_height (no geometric step)",
+            inputs: pressures,
+            body: &mut geopotential,
+        },
+        #[cfg(not(feature = "micromath"))]
+        Row {
+            name: "  maths: libm::log1pf(p / p0 - 1)",
+            inputs: &offsets,
+            body: &mut log1pf,
+        },
+        #[cfg(not(feature = "micromath"))]
+        Row {
+            name: "  maths: libm::expm1f(0.190263 * ln(p / p0))",
+            inputs: &exponents,
+            body: &mut expm1f,
+        },
+        Row {
+            name: if cfg!(feature = "micromath") {
+                "  maths: micromath ln(p / p0)"
+            } else {
+                "  maths: libm::logf(p / p0)"
+            },
+            inputs: &ratios,
+            body: &mut logf,
+        },
+        Row {
+            name: if cfg!(feature = "micromath") {
+                "  maths: micromath exp(0.190263 * ln(p / p0))"
+            } else {
+                "  maths: libm::expf(0.190263 * ln(p / p0))"
+            },
+            inputs: &exponents,
+            body: &mut expf,
+        },
+        Row {
+            name: if cfg!(feature = "micromath") {
+                "  maths: micromath powf(p / p0, 0.190263)"
+            } else {
+                "  maths: libm::powf(p / p0, 0.190263)"
+            },
+            inputs: &ratios,
+            body: &mut powf,
+        },
+    ];
+
+    let mut baseline_per_call = 0.0_f32;
+    hprintln!("");
+    hprintln!(
+        "instructions per call ({} calls per row, overhead subtracted), {} [{}]",
+        calls,
+        env!("FIRMWARE_TARGET"),
+        BACKEND
+    );
+    hprintln!("| row | instructions per call | x baseline |");
+    hprintln!("| --- | ---: | ---: |");
+    for (i, row) in rows.iter_mut().enumerate() {
+        let n = per_call(ticks(row.body, row.inputs));
+        if i == 0 {
+            baseline_per_call = n;
+        }
+        let library_row = row.name.contains("pressure_altitude") || row.name.contains("part:");
+        if library_row && !library::LINKED {
+            hprintln!("| {} | (not linked) | |", row.name);
+        } else {
+            hprintln!(
+                "| {} | {:.1} | {:.2} |",
+                row.name,
+                n,
+                n / baseline_per_call
+            );
+        }
+    }
+}
