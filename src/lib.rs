@@ -12,7 +12,13 @@
 //! 2. **Physics** — [`atmosphere`] (U.S. Standard Atmosphere 1976 to 86 km and the ICAO /
 //!    ISO 2533 constant set, forward and inverse), [`geopotential`] (geometric <->
 //!    geopotential height, WGS-84 normal gravity), [`hypsometric`] (layer thickness and
-//!    its closed forms).
+//!    its closed forms), [`humidity`] (saturation vapour pressure, mixing ratio, virtual
+//!    temperature), [`model`] (layer temperature models: pressure <-> height from a
+//!    reference).
+//! 3. **Datums** — [`datum`] (pressure altitude, QNH, QFE, density altitude, calibration
+//!    from known elevations).
+//! 6. **Trackers** — [`track`] (walking devices: ascent/descent totals with hysteresis,
+//!    weather drift at rest, known-elevation fixes, 3-hour pressure tendency).
 //!
 //! Every formula's documentation gives the equation and its published source.
 //!
@@ -40,10 +46,16 @@
 )]
 
 pub mod atmosphere;
+pub mod datum;
 pub mod error;
+pub mod flight;
 pub mod geopotential;
+pub mod humidity;
 pub mod hypsometric;
 mod math;
+pub mod model;
+pub mod sounding;
+pub mod track;
 pub mod units;
 
 pub use error::Error;

@@ -1,0 +1,379 @@
+//! Flight phases: on the ground, ascent, float, burst, descent, landed.
+//!
+//! A debounced state machine on height and vertical speed. A phase changes only when
+//! the condition for the next phase has held for its debounce time, so a gust, a bounce
+//! or a noisy speed estimate does not flip phases. Events (launch, float, burst,
+//! descent, landing) are kept with their time and height in a small fixed ring, and the
+//! apex (highest height and its time) is tracked.
+//!
+//! The same machine serves the three users: a balloon goes through every phase; a drone
+//! hop shows ground, ascent, float (hover), descent, landed; a walk shows ascent,
+//! float (level walking or rest) and descent.
+//!
+//! Thresholds are common practice for balloon telemetry, not taken from a standard:
+//! ascent above +1 m/s, descent below -1 m/s, burst a fall faster than 5 m/s reached
+//! within seconds of rising or floating (a parachute descent starts at tens of m/s at
+//! 30 km), rest below 0.5 m/s.
+//!
+//! ```
+//! use isohypse::flight::{FlightPhases, Phase, PhaseSettings};
+//! let mut phases = FlightPhases::new(PhaseSettings::BALLOON)?;
+//! let mut t = 0.0;
+//! while t < 30.0 {
+//!     phases.update(t, 5.0 * t as f32, 5.0)?; // rising at 5 m/s
+//!     t += 1.0;
+//! }
+//! assert_eq!(phases.phase(), Phase::Ascent);
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+
+use crate::Error;
+
+/// The phase of a flight.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Phase {
+    /// Before launch / take-off: not yet seen climbing.
+    #[default]
+    Ground,
+    /// Climbing.
+    Ascent,
+    /// Level: balloon float, drone hover, level walking or rest.
+    Float,
+    /// The sudden turn from rising or floating to fast descent (reported on the sample
+    /// where it is detected; the next sample is in [`Phase::Descent`]).
+    Burst,
+    /// Descending.
+    Descent,
+    /// At rest after a descent.
+    Landed,
+}
+
+impl Phase {
+    /// Lower-case name, as the replay tool writes it.
+    pub const fn name(self) -> &'static str {
+        match self {
+            Phase::Ground => "ground",
+            Phase::Ascent => "ascent",
+            Phase::Float => "float",
+            Phase::Burst => "burst",
+            Phase::Descent => "descent",
+            Phase::Landed => "landed",
+        }
+    }
+}
+
+/// A phase change with the time and height of the sample that confirmed it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PhaseEvent {
+    /// Phase entered.
+    pub phase: Phase,
+    /// Time the condition started to hold (the debounce start), s.
+    pub time_s: f64,
+    /// Height at that time, m.
+    pub height_m: f32,
+}
+
+/// Thresholds and debounce times of [`FlightPhases`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PhaseSettings {
+    /// Vertical speed above which the vehicle climbs, m/s (> 0).
+    pub ascent_mps: f32,
+    /// Vertical speed below minus this value means descending, m/s (> 0).
+    pub descent_mps: f32,
+    /// A fall faster than this from ascent or float is a burst, m/s (> `descent_mps`).
+    pub burst_mps: f32,
+    /// Below this speed (absolute) the vehicle is level or at rest, m/s (> 0).
+    pub rest_mps: f32,
+    /// Time a climb or descent must hold, s.
+    pub debounce_s: f32,
+    /// Time a fast fall must hold to be a burst, s.
+    pub burst_debounce_s: f32,
+    /// Time a level flight must hold to be float, s.
+    pub float_debounce_s: f32,
+    /// Time at rest after descent to be landed, s.
+    pub landed_debounce_s: f32,
+}
+
+impl PhaseSettings {
+    /// Balloon flights (common practice values, see the module documentation).
+    pub const BALLOON: PhaseSettings = PhaseSettings {
+        ascent_mps: 1.0,
+        descent_mps: 1.0,
+        burst_mps: 5.0,
+        rest_mps: 0.5,
+        debounce_s: 10.0,
+        burst_debounce_s: 3.0,
+        float_debounce_s: 60.0,
+        landed_debounce_s: 30.0,
+    };
+    /// Small drones: faster reactions, no burst in practice (set very high).
+    pub const DRONE: PhaseSettings = PhaseSettings {
+        ascent_mps: 0.3,
+        descent_mps: 0.3,
+        burst_mps: 50.0,
+        rest_mps: 0.15,
+        debounce_s: 0.5,
+        burst_debounce_s: 0.5,
+        float_debounce_s: 1.0,
+        landed_debounce_s: 2.0,
+    };
+    /// Walking: slow vertical speeds (a steep trail climbs 0.1-0.3 m/s).
+    pub const HIKE: PhaseSettings = PhaseSettings {
+        ascent_mps: 0.05,
+        descent_mps: 0.05,
+        burst_mps: 50.0,
+        rest_mps: 0.02,
+        debounce_s: 60.0,
+        burst_debounce_s: 60.0,
+        float_debounce_s: 120.0,
+        landed_debounce_s: 600.0,
+    };
+
+    /// Check the documented ranges.
+    pub fn validate(&self) -> Result<(), Error> {
+        let positive = [
+            self.ascent_mps,
+            self.descent_mps,
+            self.burst_mps,
+            self.rest_mps,
+        ];
+        let times = [
+            self.debounce_s,
+            self.burst_debounce_s,
+            self.float_debounce_s,
+            self.landed_debounce_s,
+        ];
+        let ok = positive.iter().all(|x| x.is_finite() && *x > 0.0)
+            && times.iter().all(|x| x.is_finite() && *x >= 0.0)
+            && self.burst_mps > self.descent_mps
+            && self.rest_mps <= self.ascent_mps
+            && self.rest_mps <= self.descent_mps;
+        if ok {
+            Ok(())
+        } else {
+            Err(Error::InvalidSetting)
+        }
+    }
+}
+
+/// Number of events kept (the most recent ones).
+pub const EVENT_CAPACITY: usize = 8;
+
+/// The phase state machine. State: about 180 bytes (mostly the event ring). O(1) per
+/// sample.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FlightPhases {
+    settings: PhaseSettings,
+    phase: Phase,
+    candidate: Option<(Phase, f64, f32)>,
+    last_time_s: Option<f64>,
+    apex: Option<(f64, f32)>,
+    events: [Option<PhaseEvent>; EVENT_CAPACITY],
+    next_event: usize,
+}
+
+impl FlightPhases {
+    /// A tracker on the ground. Errors: [`Error::InvalidSetting`].
+    pub fn new(settings: PhaseSettings) -> Result<Self, Error> {
+        settings.validate()?;
+        Ok(Self {
+            settings,
+            phase: Phase::Ground,
+            candidate: None,
+            last_time_s: None,
+            apex: None,
+            events: [None; EVENT_CAPACITY],
+            next_event: 0,
+        })
+    }
+
+    /// Current phase.
+    pub fn phase(&self) -> Phase {
+        self.phase
+    }
+
+    /// Settings in use.
+    pub fn settings(&self) -> PhaseSettings {
+        self.settings
+    }
+
+    /// Replace the settings (validated first; the phase is kept).
+    pub fn set_settings(&mut self, settings: PhaseSettings) -> Result<(), Error> {
+        settings.validate()?;
+        self.settings = settings;
+        Ok(())
+    }
+
+    /// Highest height seen since launch and its time, `(time_s, height_m)`.
+    pub fn apex(&self) -> Option<(f64, f32)> {
+        self.apex
+    }
+
+    /// Events, oldest first (at most [`EVENT_CAPACITY`], the most recent).
+    pub fn events(&self) -> impl Iterator<Item = PhaseEvent> + '_ {
+        let (newer, older) = self.events.split_at(self.next_event % EVENT_CAPACITY);
+        older.iter().chain(newer.iter()).filter_map(|e| *e)
+    }
+
+    /// Feed one sample: time (s, strictly increasing), height (m) and vertical speed
+    /// (m/s, up positive). Returns the phase after the sample. Errors, with the state
+    /// unchanged: [`Error::NotFinite`], [`Error::NotIncreasing`] for time.
+    pub fn update(&mut self, time_s: f64, height_m: f32, speed_mps: f32) -> Result<Phase, Error> {
+        if !(time_s.is_finite() && height_m.is_finite() && speed_mps.is_finite()) {
+            return Err(Error::NotFinite);
+        }
+        if let Some(last) = self.last_time_s {
+            if time_s <= last {
+                return Err(Error::NotIncreasing);
+            }
+        }
+        self.last_time_s = Some(time_s);
+        let s = self.settings;
+        if self.phase == Phase::Burst {
+            self.phase = Phase::Descent;
+        }
+        // The phase this sample argues for, and how long it must hold.
+        let wanted: Option<(Phase, f32)> = match self.phase {
+            Phase::Ground | Phase::Landed => {
+                (speed_mps > s.ascent_mps).then_some((Phase::Ascent, s.debounce_s))
+            }
+            Phase::Ascent | Phase::Float => {
+                if speed_mps < -s.burst_mps {
+                    Some((Phase::Burst, s.burst_debounce_s))
+                } else if speed_mps < -s.descent_mps {
+                    Some((Phase::Descent, s.debounce_s))
+                } else if self.phase == Phase::Ascent && speed_mps.abs() < s.rest_mps {
+                    Some((Phase::Float, s.float_debounce_s))
+                } else if self.phase == Phase::Float && speed_mps > s.ascent_mps {
+                    Some((Phase::Ascent, s.debounce_s))
+                } else {
+                    None
+                }
+            }
+            Phase::Descent | Phase::Burst => {
+                if speed_mps.abs() < s.rest_mps {
+                    Some((Phase::Landed, s.landed_debounce_s))
+                } else if speed_mps > s.ascent_mps {
+                    Some((Phase::Ascent, s.debounce_s))
+                } else {
+                    None
+                }
+            }
+        };
+        match wanted {
+            None => self.candidate = None,
+            Some((next, hold)) => {
+                let (start_t, start_h) = match self.candidate {
+                    // a burst candidate also counts toward a plain descent and back
+                    Some((c, t0, h0))
+                        if c == next
+                            || (matches!(c, Phase::Burst | Phase::Descent)
+                                && matches!(next, Phase::Burst | Phase::Descent)) =>
+                    {
+                        (t0, h0)
+                    }
+                    _ => (time_s, height_m),
+                };
+                self.candidate = Some((next, start_t, start_h));
+                if time_s - start_t >= f64::from(hold) {
+                    self.phase = next;
+                    self.candidate = None;
+                    self.push_event(PhaseEvent {
+                        phase: next,
+                        time_s: start_t,
+                        height_m: start_h,
+                    });
+                }
+            }
+        }
+        if matches!(self.phase, Phase::Ascent | Phase::Float)
+            && self.apex.is_none_or(|(_, h)| height_m > h)
+        {
+            self.apex = Some((time_s, height_m));
+        }
+        Ok(self.phase)
+    }
+
+    fn push_event(&mut self, event: PhaseEvent) {
+        let i = self.next_event % EVENT_CAPACITY;
+        if let Some(slot) = self.events.get_mut(i) {
+            *slot = Some(event);
+        }
+        self.next_event = (i + 1) % EVENT_CAPACITY;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Feed a speed profile at 1 Hz, integrating height.
+    fn run(phases: &mut FlightPhases, t0: f64, seconds: u32, speed: f32, h: &mut f32) -> f64 {
+        let mut t = t0;
+        for _ in 0..seconds {
+            t += 1.0;
+            *h += speed;
+            phases.update(t, *h, speed).unwrap();
+        }
+        t
+    }
+
+    #[test]
+    fn balloon_goes_through_every_phase() {
+        let mut p = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
+        let mut h = 100.0;
+        let mut t = run(&mut p, 0.0, 60, 0.0, &mut h);
+        assert_eq!(p.phase(), Phase::Ground);
+        t = run(&mut p, t, 600, 5.0, &mut h);
+        assert_eq!(p.phase(), Phase::Ascent);
+        t = run(&mut p, t, 120, 0.1, &mut h);
+        assert_eq!(p.phase(), Phase::Float);
+        // burst: fast fall
+        t += 1.0;
+        h -= 30.0;
+        p.update(t, h, -30.0).unwrap();
+        t = run(&mut p, t, 3, -30.0, &mut h);
+        let saw_burst = p.events().any(|e| e.phase == Phase::Burst);
+        assert!(saw_burst);
+        t = run(&mut p, t, 300, -8.0, &mut h);
+        assert_eq!(p.phase(), Phase::Descent);
+        run(&mut p, t, 60, 0.0, &mut h);
+        assert_eq!(p.phase(), Phase::Landed);
+        let apex = p.apex().unwrap();
+        assert!((apex.1 - (100.0 + 3000.0 + 12.0)).abs() < 1.0);
+        let kinds: heapless::Vec<Phase, 8> = p.events().map(|e| e.phase).collect();
+        assert_eq!(
+            kinds.as_slice(),
+            [Phase::Ascent, Phase::Float, Phase::Burst, Phase::Landed]
+        );
+    }
+
+    #[test]
+    fn short_gust_does_not_change_phase() {
+        let mut p = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
+        let mut h = 0.0;
+        let t = run(&mut p, 0.0, 5, 3.0, &mut h); // 5 s < 10 s debounce
+        run(&mut p, t, 30, 0.0, &mut h);
+        assert_eq!(p.phase(), Phase::Ground);
+        assert_eq!(p.events().count(), 0);
+    }
+
+    #[test]
+    fn bad_input_leaves_state_unchanged() {
+        let mut p = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
+        p.update(1.0, 0.0, 2.0).unwrap();
+        let before = p.clone();
+        assert_eq!(p.update(1.0, 0.0, 2.0), Err(Error::NotIncreasing));
+        assert_eq!(p.update(0.5, 0.0, 2.0), Err(Error::NotIncreasing));
+        assert_eq!(p.update(2.0, f32::NAN, 2.0), Err(Error::NotFinite));
+        assert_eq!(p.update(f64::INFINITY, 0.0, 2.0), Err(Error::NotFinite));
+        assert_eq!(p, before);
+        let mut bad = PhaseSettings::BALLOON;
+        bad.burst_mps = 0.5;
+        assert_eq!(p.set_settings(bad), Err(Error::InvalidSetting));
+        assert_eq!(p, before);
+    }
+}
