@@ -159,11 +159,8 @@ impl PhaseSettings {
     }
 }
 
-/// Number of events kept (the most recent ones).
-pub const EVENT_CAPACITY: usize = 8;
-
-/// The phase state machine. State: about 180 bytes (mostly the event ring). O(1) per
-/// sample.
+/// The phase state machine. State: 96 bytes (`size_of`, printed by the pipeline's
+/// size test). O(1) per sample.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FlightPhases {
     settings: PhaseSettings,
@@ -171,8 +168,7 @@ pub struct FlightPhases {
     candidate: Option<(Phase, f64, f32)>,
     last_time_s: Option<f64>,
     apex: Option<(f64, f32)>,
-    events: [Option<PhaseEvent>; EVENT_CAPACITY],
-    next_event: usize,
+    last_event: Option<PhaseEvent>,
 }
 
 impl FlightPhases {
@@ -185,8 +181,7 @@ impl FlightPhases {
             candidate: None,
             last_time_s: None,
             apex: None,
-            events: [None; EVENT_CAPACITY],
-            next_event: 0,
+            last_event: None,
         })
     }
 
@@ -212,16 +207,21 @@ impl FlightPhases {
         self.apex
     }
 
-    /// Events, oldest first (at most [`EVENT_CAPACITY`], the most recent).
-    pub fn events(&self) -> impl Iterator<Item = PhaseEvent> + '_ {
-        let (newer, older) = self.events.split_at(self.next_event % EVENT_CAPACITY);
-        older.iter().chain(newer.iter()).filter_map(|e| *e)
+    /// The most recent phase change.
+    pub fn last_event(&self) -> Option<PhaseEvent> {
+        self.last_event
     }
 
     /// Feed one sample: time (s, strictly increasing), height (m) and vertical speed
-    /// (m/s, up positive). Returns the phase after the sample. Errors, with the state
-    /// unchanged: [`Error::NotFinite`], [`Error::NotIncreasing`] for time.
-    pub fn update(&mut self, time_s: f64, height_m: f32, speed_mps: f32) -> Result<Phase, Error> {
+    /// (m/s, up positive). Returns the phase change this sample confirmed, if any
+    /// (the current phase is [`Self::phase`]). Errors, with the state unchanged:
+    /// [`Error::NotFinite`], [`Error::NotIncreasing`] for time.
+    pub fn update(
+        &mut self,
+        time_s: f64,
+        height_m: f32,
+        speed_mps: f32,
+    ) -> Result<Option<PhaseEvent>, Error> {
         if !(time_s.is_finite() && height_m.is_finite() && speed_mps.is_finite()) {
             return Err(Error::NotFinite);
         }
@@ -263,6 +263,7 @@ impl FlightPhases {
                 }
             }
         };
+        let mut event = None;
         match wanted {
             None => self.candidate = None,
             Some((next, hold)) => {
@@ -281,11 +282,12 @@ impl FlightPhases {
                 if time_s - start_t >= f64::from(hold) {
                     self.phase = next;
                     self.candidate = None;
-                    self.push_event(PhaseEvent {
+                    event = Some(PhaseEvent {
                         phase: next,
                         time_s: start_t,
                         height_m: start_h,
                     });
+                    self.last_event = event;
                 }
             }
         }
@@ -294,15 +296,7 @@ impl FlightPhases {
         {
             self.apex = Some((time_s, height_m));
         }
-        Ok(self.phase)
-    }
-
-    fn push_event(&mut self, event: PhaseEvent) {
-        let i = self.next_event % EVENT_CAPACITY;
-        if let Some(slot) = self.events.get_mut(i) {
-            *slot = Some(event);
-        }
-        self.next_event = (i + 1) % EVENT_CAPACITY;
+        Ok(event)
     }
 }
 
@@ -310,13 +304,22 @@ impl FlightPhases {
 mod tests {
     use super::*;
 
-    /// Feed a speed profile at 1 Hz, integrating height.
-    fn run(phases: &mut FlightPhases, t0: f64, seconds: u32, speed: f32, h: &mut f32) -> f64 {
+    /// Feed a speed profile at 1 Hz, integrating height; collect events.
+    fn run(
+        phases: &mut FlightPhases,
+        t0: f64,
+        seconds: u32,
+        speed: f32,
+        h: &mut f32,
+        events: &mut heapless::Vec<Phase, 8>,
+    ) -> f64 {
         let mut t = t0;
         for _ in 0..seconds {
             t += 1.0;
             *h += speed;
-            phases.update(t, *h, speed).unwrap();
+            if let Some(e) = phases.update(t, *h, speed).unwrap() {
+                events.push(e.phase).unwrap();
+            }
         }
         t
     }
@@ -325,28 +328,24 @@ mod tests {
     fn balloon_goes_through_every_phase() {
         let mut p = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
         let mut h = 100.0;
-        let mut t = run(&mut p, 0.0, 60, 0.0, &mut h);
+        let mut ev = heapless::Vec::new();
+        let mut t = run(&mut p, 0.0, 60, 0.0, &mut h, &mut ev);
         assert_eq!(p.phase(), Phase::Ground);
-        t = run(&mut p, t, 600, 5.0, &mut h);
+        t = run(&mut p, t, 600, 5.0, &mut h, &mut ev);
         assert_eq!(p.phase(), Phase::Ascent);
-        t = run(&mut p, t, 120, 0.1, &mut h);
+        t = run(&mut p, t, 120, 0.1, &mut h, &mut ev);
         assert_eq!(p.phase(), Phase::Float);
         // burst: fast fall
-        t += 1.0;
-        h -= 30.0;
-        p.update(t, h, -30.0).unwrap();
-        t = run(&mut p, t, 3, -30.0, &mut h);
-        let saw_burst = p.events().any(|e| e.phase == Phase::Burst);
-        assert!(saw_burst);
-        t = run(&mut p, t, 300, -8.0, &mut h);
+        t = run(&mut p, t, 4, -30.0, &mut h, &mut ev);
+        assert!(ev.contains(&Phase::Burst));
+        t = run(&mut p, t, 300, -8.0, &mut h, &mut ev);
         assert_eq!(p.phase(), Phase::Descent);
-        run(&mut p, t, 60, 0.0, &mut h);
+        run(&mut p, t, 60, 0.0, &mut h, &mut ev);
         assert_eq!(p.phase(), Phase::Landed);
         let apex = p.apex().unwrap();
         assert!((apex.1 - (100.0 + 3000.0 + 12.0)).abs() < 1.0);
-        let kinds: heapless::Vec<Phase, 8> = p.events().map(|e| e.phase).collect();
         assert_eq!(
-            kinds.as_slice(),
+            ev.as_slice(),
             [Phase::Ascent, Phase::Float, Phase::Burst, Phase::Landed]
         );
     }
@@ -355,10 +354,12 @@ mod tests {
     fn short_gust_does_not_change_phase() {
         let mut p = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
         let mut h = 0.0;
-        let t = run(&mut p, 0.0, 5, 3.0, &mut h); // 5 s < 10 s debounce
-        run(&mut p, t, 30, 0.0, &mut h);
+        let mut ev = heapless::Vec::new();
+        let t = run(&mut p, 0.0, 5, 3.0, &mut h, &mut ev); // 5 s < 10 s debounce
+        run(&mut p, t, 30, 0.0, &mut h, &mut ev);
         assert_eq!(p.phase(), Phase::Ground);
-        assert_eq!(p.events().count(), 0);
+        assert!(ev.is_empty());
+        assert_eq!(p.last_event(), None);
     }
 
     #[test]

@@ -1,0 +1,832 @@
+//! One call per sample: the composed pipeline and the three presets.
+//!
+//! ```text
+//! Sample -> validation -> height model -> datum (start altitude, ground reference,
+//!        known-elevation fixes) -> estimator (Kalman, gated) -> trackers (phases,
+//!        totals, weather drift, tendency) -> Output (+ flags)
+//! ```
+//!
+//! A sample that fails validation leaves every state untouched and comes back as an
+//! [`Output`] with the previous estimate and a rejection flag. A sample the estimator
+//! gates out as an outlier is also carried forward and flagged ([`Flags::OUTLIER`]).
+//! Nothing here panics or allocates.
+//!
+//! ```
+//! use isohypse::pipeline::{Pipeline, Sample, Settings};
+//! let mut drone = Pipeline::<2>::new(Settings::drone())?;
+//! let mut t = 0.0;
+//! for _ in 0..200 {
+//!     t += 0.02;
+//!     let out = drone.process(&Sample::pressure(t, 98_000.0));
+//!     assert!(out.accepted());
+//! }
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+
+use crate::atmosphere::{STANDARD_GRAVITY, US_1976, US_1976_GAS_CONSTANT};
+use crate::filter::{
+    GroundReference, GroundReferenceConfig, KalmanOutcome, VerticalKalman, VerticalKalmanConfig,
+};
+use crate::flight::{FlightPhases, Phase, PhaseEvent, PhaseSettings};
+use crate::geopotential::Gravity;
+use crate::sounding::Sounding;
+use crate::track::{AscentTotals, HikeConfig, HikeTracker};
+use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
+use crate::Error;
+
+/// One reading. Only time and pressure are required; every other channel is optional.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Sample {
+    /// Time, s, strictly increasing between accepted samples (any origin).
+    pub time_s: f64,
+    /// Static pressure, Pa.
+    pub pressure_pa: f32,
+    /// Air temperature, degC.
+    pub temperature_c: Option<f32>,
+    /// Relative humidity over water, %.
+    pub humidity_pct: Option<f32>,
+    /// Earth-frame vertical acceleration with gravity removed, m/s^2, measured at this
+    /// sample's time (for accelerometer samples between pressure samples see
+    /// [`Pipeline::accelerometer`]).
+    pub accel_up_mps2: Option<f32>,
+    /// A known geometric elevation of the device now (summit marker, map, trusted
+    /// satellite fix), m.
+    pub known_altitude_m: Option<f32>,
+}
+
+impl Sample {
+    /// A sample with time and pressure only.
+    pub const fn pressure(time_s: f64, pressure_pa: f32) -> Self {
+        Self {
+            time_s,
+            pressure_pa,
+            temperature_c: None,
+            humidity_pct: None,
+            accel_up_mps2: None,
+            known_altitude_m: None,
+        }
+    }
+}
+
+/// Bit flags on an [`Output`]: what was rejected, held or assumed, and why.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Flags(pub u32);
+
+impl Flags {
+    /// Sample rejected: time not finite or not after the previous accepted sample.
+    pub const REJECTED_TIME: Flags = Flags(1 << 0);
+    /// Sample rejected: pressure not finite, not positive or outside the settings' range.
+    pub const REJECTED_PRESSURE: Flags = Flags(1 << 1);
+    /// Sample rejected: the height model could not place the pressure (beyond its range).
+    pub const REJECTED_MODEL: Flags = Flags(1 << 2);
+    /// The estimator's gate rejected the height as an outlier; the estimate was carried
+    /// forward.
+    pub const OUTLIER: Flags = Flags(1 << 3);
+    /// The estimator re-acquired (reset its height to the measurement) after a dropout
+    /// or a run of outliers.
+    pub const REACQUIRED: Flags = Flags(1 << 4);
+    /// A temperature was given but invalid, and ignored.
+    pub const TEMPERATURE_IGNORED: Flags = Flags(1 << 5);
+    /// No temperature: the last one was held.
+    pub const TEMPERATURE_HELD: Flags = Flags(1 << 6);
+    /// No temperature yet: the standard atmosphere's was assumed.
+    pub const TEMPERATURE_ASSUMED: Flags = Flags(1 << 7);
+    /// A humidity was given but invalid, and ignored.
+    pub const HUMIDITY_IGNORED: Flags = Flags(1 << 8);
+    /// An acceleration was given but invalid, and ignored.
+    pub const ACCEL_IGNORED: Flags = Flags(1 << 9);
+    /// A known-elevation fix was taken.
+    pub const FIX_APPLIED: Flags = Flags(1 << 10);
+    /// A known-elevation fix was given but invalid, and ignored.
+    pub const FIX_IGNORED: Flags = Flags(1 << 11);
+    /// Height taken from the stored ascent profile (balloon descent).
+    pub const ON_PROFILE: Flags = Flags(1 << 12);
+    /// At rest: pressure change is attributed to weather (hike).
+    pub const AT_REST: Flags = Flags(1 << 13);
+    /// The 3-hour pressure fall reached the alert threshold (hike).
+    pub const FALLING_PRESSURE: Flags = Flags(1 << 14);
+    /// The ground reference is still being averaged.
+    pub const GROUND_AVERAGING: Flags = Flags(1 << 15);
+
+    const NAMES: [(Flags, &'static str); 16] = [
+        (Flags::REJECTED_TIME, "rejected_time"),
+        (Flags::REJECTED_PRESSURE, "rejected_pressure"),
+        (Flags::REJECTED_MODEL, "rejected_model"),
+        (Flags::OUTLIER, "outlier"),
+        (Flags::REACQUIRED, "reacquired"),
+        (Flags::TEMPERATURE_IGNORED, "temperature_ignored"),
+        (Flags::TEMPERATURE_HELD, "temperature_held"),
+        (Flags::TEMPERATURE_ASSUMED, "temperature_assumed"),
+        (Flags::HUMIDITY_IGNORED, "humidity_ignored"),
+        (Flags::ACCEL_IGNORED, "accel_ignored"),
+        (Flags::FIX_APPLIED, "fix_applied"),
+        (Flags::FIX_IGNORED, "fix_ignored"),
+        (Flags::ON_PROFILE, "on_profile"),
+        (Flags::AT_REST, "at_rest"),
+        (Flags::FALLING_PRESSURE, "falling_pressure"),
+        (Flags::GROUND_AVERAGING, "ground_averaging"),
+    ];
+
+    /// True if every bit of `other` is set.
+    pub const fn contains(self, other: Flags) -> bool {
+        self.0 & other.0 == other.0
+    }
+
+    /// True if any rejection bit is set (the sample changed nothing).
+    pub const fn rejected(self) -> bool {
+        self.0 & (Self::REJECTED_TIME.0 | Self::REJECTED_PRESSURE.0 | Self::REJECTED_MODEL.0)
+            != 0
+    }
+
+    fn set(&mut self, other: Flags) {
+        self.0 |= other.0;
+    }
+
+    /// Names of the set flags, e.g. for a log line (`outlier`, `temperature_held`...).
+    pub fn names(self) -> impl Iterator<Item = &'static str> {
+        Self::NAMES
+            .into_iter()
+            .filter(move |(f, _)| self.contains(*f))
+            .map(|(_, n)| n)
+    }
+}
+
+/// What the pipeline says after each sample.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Output {
+    /// Time of the sample, s.
+    pub time_s: f64,
+    /// Height, m (geometric; above mean sea level, or above the ground reference when
+    /// the start altitude is 0).
+    pub altitude_m: f32,
+    /// Height from this sample alone (model and datum, before the estimator), m.
+    pub raw_altitude_m: f32,
+    /// Vertical speed, m/s, up positive.
+    pub vertical_speed_mps: f32,
+    /// 1-sigma of the height, m.
+    pub altitude_sigma_m: f32,
+    /// Flight phase.
+    pub phase: Phase,
+    /// The phase change this sample confirmed, if any.
+    pub event: Option<PhaseEvent>,
+    /// Total ascent, m.
+    pub ascent_m: f32,
+    /// Total descent, m.
+    pub descent_m: f32,
+    /// 3-hour pressure tendency, hPa (hike preset), negative when falling.
+    pub tendency_hpa: Option<f32>,
+    /// What was rejected, held or assumed.
+    pub flags: Flags,
+}
+
+impl Output {
+    /// The sample was used (not rejected).
+    pub const fn accepted(&self) -> bool {
+        !self.flags.rejected()
+    }
+}
+
+/// Where heights come from.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum HeightModel {
+    /// U.S. Standard Atmosphere 1976 pressure altitude (plus the datum offset).
+    Standard,
+    /// Layer-by-layer integration of each sample's pressure, temperature and humidity
+    /// from the first sample ([`crate::sounding`]).
+    Sounding {
+        /// After burst, take heights from the profile stored on the way up instead of
+        /// integrating with the lagging temperature sensor.
+        descent_on_profile: bool,
+    },
+}
+
+/// How heights are smoothed and vertical speed is estimated.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Estimator {
+    /// Pointwise conversion: no smoothing, no outlier rejection; vertical speed is the
+    /// difference of consecutive heights.
+    Off,
+    /// Kalman filter over height, vertical speed and accelerometer bias, with innovation
+    /// gating ([`crate::filter::VerticalKalman`]).
+    Kalman(VerticalKalmanConfig),
+}
+
+/// Per-use tracker.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Tracking {
+    /// Flight phases and plain ascent/descent totals with a hysteresis band, m.
+    Flight {
+        /// Phase thresholds.
+        phases: PhaseSettings,
+        /// Hysteresis band of the totals, m.
+        totals_band_m: f32,
+    },
+    /// Walking: totals with weather-drift handling, fixes and tendency
+    /// ([`crate::track::HikeTracker`]), plus phases.
+    Hike {
+        /// Hike tracker settings.
+        hike: HikeConfig,
+        /// Phase thresholds.
+        phases: PhaseSettings,
+    },
+}
+
+/// Pipeline settings. Presets: [`Settings::balloon`], [`Settings::drone`],
+/// [`Settings::hike`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Settings {
+    /// Height model.
+    pub model: HeightModel,
+    /// Estimator.
+    pub estimator: Estimator,
+    /// Tracker.
+    pub tracking: Tracking,
+    /// Geometric height of the ground reference (the mean of the samples at rest before
+    /// motion starts), m. `None`: no datum shift (standard model: pressure altitude;
+    /// sounding: starts at the first sample's pressure altitude).
+    pub start_altitude_m: Option<f32>,
+    /// Latitude for gravity (sounding model and geometric heights), degrees. `None`:
+    /// standard gravity 9.806 65 m/s^2 with the U.S. 1976 inverse-square law.
+    pub latitude_deg: Option<f32>,
+    /// Samples averaged into the ground reference before motion (>= 1); more are
+    /// averaged while the phase stays on the ground.
+    pub ground_min_samples: u32,
+    /// Accepted pressure range, Pa (inclusive).
+    pub pressure_range_pa: (f32, f32),
+    /// 1-sigma pressure noise of the sensor, Pa (for the height sigma).
+    pub pressure_noise_pa: f32,
+    /// 1-sigma uncertainty of the mean column temperature, K (for the height sigma).
+    pub temperature_uncertainty_k: f32,
+    /// Time constant with which a known-elevation fix moves the datum, s (0: at once).
+    pub fix_time_constant_s: f32,
+}
+
+impl Settings {
+    /// Balloon: sounding model with descent on the stored profile, Kalman filter on
+    /// barometric height alone (1 Hz samples, wide dynamics for burst), flight phases.
+    pub fn balloon() -> Self {
+        Self {
+            model: HeightModel::Sounding {
+                descent_on_profile: true,
+            },
+            estimator: Estimator::Kalman(VerticalKalmanConfig {
+                baro_sigma_m: 0.5,
+                baro_only_accel_density: 1.0,
+                initial_speed_sigma_mps: 5.0,
+                max_step_s: 30.0,
+                accel_timeout_s: 0.5,
+                baro_timeout_s: 60.0,
+                reacquire_after: 5,
+                ..VerticalKalmanConfig::default()
+            }),
+            tracking: Tracking::Flight {
+                phases: PhaseSettings::BALLOON,
+                totals_band_m: 10.0,
+            },
+            start_altitude_m: None,
+            latitude_deg: None,
+            ground_min_samples: 10,
+            pressure_range_pa: (US_1976.top_pressure_pa(), 110_000.0),
+            pressure_noise_pa: 2.0,
+            temperature_uncertainty_k: 0.5,
+            fix_time_constant_s: 10.0,
+        }
+    }
+
+    /// Drone: standard model, height above the ground reference taken at arming, Kalman
+    /// filter with accelerometer and gating, phases tuned for hops.
+    pub fn drone() -> Self {
+        Self {
+            model: HeightModel::Standard,
+            estimator: Estimator::Kalman(VerticalKalmanConfig::default()),
+            tracking: Tracking::Flight {
+                phases: PhaseSettings::DRONE,
+                totals_band_m: 0.5,
+            },
+            start_altitude_m: Some(0.0),
+            latitude_deg: None,
+            ground_min_samples: 50,
+            pressure_range_pa: (30_000.0, 110_000.0),
+            pressure_noise_pa: 1.5,
+            temperature_uncertainty_k: 2.0,
+            fix_time_constant_s: 2.0,
+        }
+    }
+
+    /// Hike: standard model, the hike tracker (smoothing, totals with hysteresis,
+    /// weather drift at rest, fixes, tendency), no Kalman filter (the tracker smooths).
+    pub fn hike() -> Self {
+        Self {
+            model: HeightModel::Standard,
+            estimator: Estimator::Off,
+            tracking: Tracking::Hike {
+                hike: HikeConfig::default(),
+                phases: PhaseSettings::HIKE,
+            },
+            start_altitude_m: None,
+            latitude_deg: None,
+            ground_min_samples: 1,
+            pressure_range_pa: (25_000.0, 110_000.0),
+            pressure_noise_pa: 2.0,
+            temperature_uncertainty_k: 5.0,
+            fix_time_constant_s: 30.0,
+        }
+    }
+
+    /// Check every field against its documented range. Errors: [`Error::InvalidSetting`]
+    /// (and the nested settings' own checks).
+    pub fn validate(&self) -> Result<(), Error> {
+        let (lo, hi) = self.pressure_range_pa;
+        let ok = lo.is_finite()
+            && hi.is_finite()
+            && lo > 0.0
+            && lo < hi
+            && self.ground_min_samples >= 1
+            && self.pressure_noise_pa.is_finite()
+            && self.pressure_noise_pa >= 0.0
+            && self.temperature_uncertainty_k.is_finite()
+            && self.temperature_uncertainty_k >= 0.0
+            && self.fix_time_constant_s.is_finite()
+            && self.fix_time_constant_s >= 0.0
+            && self.start_altitude_m.is_none_or(|h| h.is_finite() && h.abs() < 90_000.0);
+        if !ok {
+            return Err(Error::InvalidSetting);
+        }
+        if let Some(lat) = self.latitude_deg {
+            Gravity::at_latitude(lat)?;
+        }
+        if let Estimator::Kalman(k) = self.estimator {
+            k.validate()?;
+        }
+        match self.tracking {
+            Tracking::Flight {
+                phases,
+                totals_band_m,
+            } => {
+                phases.validate()?;
+                AscentTotals::new(totals_band_m)?;
+            }
+            Tracking::Hike { hike, phases } => {
+                phases.validate()?;
+                hike.validate()?;
+            }
+        }
+        Ok(())
+    }
+
+    fn gravity(&self) -> Result<Gravity, Error> {
+        match self.latitude_deg {
+            Some(lat) => Gravity::at_latitude(lat),
+            None => Ok(Gravity::Standard),
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+#[allow(clippy::large_enum_variant)]
+enum TrackState {
+    Flight(AscentTotals),
+    Hike(HikeTracker),
+}
+
+/// The composed per-sample pipeline; `N` is the capacity of the balloon's stored
+/// profile (use 2 for the other presets: the profile is then unused and small).
+///
+/// State size: printed by the test `pipeline_state_sizes` and in README.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Pipeline<const N: usize> {
+    settings: Settings,
+    gravity: Gravity,
+    sounding: Option<Sounding<N>>,
+    kalman: Option<VerticalKalman>,
+    ground: GroundReference,
+    phases: FlightPhases,
+    track: TrackState,
+    /// Datum offset added to the model height, m, and its target (fixes slew to it).
+    offset_m: f32,
+    offset_target_m: f32,
+    /// Height (after datum) of the ground reference, once frozen.
+    ground_frozen: bool,
+    last_time_s: Option<f64>,
+    last_temperature: Option<Temperature>,
+    outliers: u32,
+    last: Output,
+}
+
+impl<const N: usize> Pipeline<N> {
+    /// A pipeline with `settings` (validated). Errors: [`Error::InvalidSetting`] and the
+    /// nested settings' errors.
+    pub fn new(settings: Settings) -> Result<Self, Error> {
+        settings.validate()?;
+        let kalman = match settings.estimator {
+            Estimator::Off => None,
+            Estimator::Kalman(k) => Some(VerticalKalman::new(k)?),
+        };
+        let (phases, track) = match settings.tracking {
+            Tracking::Flight {
+                phases,
+                totals_band_m,
+            } => (
+                FlightPhases::new(phases)?,
+                TrackState::Flight(AscentTotals::new(totals_band_m)?),
+            ),
+            Tracking::Hike { hike, phases } => (
+                FlightPhases::new(phases)?,
+                TrackState::Hike(HikeTracker::new(hike)?),
+            ),
+        };
+        Ok(Self {
+            gravity: settings.gravity()?,
+            settings,
+            sounding: None,
+            kalman,
+            ground: GroundReference::new(GroundReferenceConfig {
+                min_samples: settings.ground_min_samples.max(2),
+                min_duration_s: 0.0,
+            })?,
+            phases,
+            track,
+            offset_m: 0.0,
+            offset_target_m: 0.0,
+            ground_frozen: false,
+            last_time_s: None,
+            last_temperature: None,
+            outliers: 0,
+            last: Output::default(),
+        })
+    }
+
+    /// The settings in use.
+    pub fn settings(&self) -> &Settings {
+        &self.settings
+    }
+
+    /// The last output.
+    pub fn last_output(&self) -> &Output {
+        &self.last
+    }
+
+    /// The sounding (balloon model), once started.
+    pub fn sounding(&self) -> Option<&Sounding<N>> {
+        self.sounding.as_ref()
+    }
+
+    /// The flight phase tracker.
+    pub fn phases(&self) -> &FlightPhases {
+        &self.phases
+    }
+
+    /// Number of barometer samples the estimator rejected as outliers.
+    pub fn outlier_count(&self) -> u32 {
+        self.outliers
+    }
+
+    /// Set a new sea-level-referenced start altitude at run time (the datum). The
+    /// estimator, phases and totals keep their state; the height moves to the new datum
+    /// through [`Settings::fix_time_constant_s`]. Errors: [`Error::InvalidSetting`].
+    pub fn set_start_altitude(&mut self, start_altitude_m: Option<f32>) -> Result<(), Error> {
+        let mut s = self.settings;
+        s.start_altitude_m = start_altitude_m;
+        s.validate()?;
+        self.settings = s;
+        self.ground_frozen = false;
+        self.ground.rezero();
+        Ok(())
+    }
+
+    /// Re-zero: the next samples at rest become the new ground reference (drone
+    /// re-arming).
+    pub fn rezero(&mut self) {
+        self.ground.rezero();
+        self.ground_frozen = false;
+    }
+
+    /// Flag a barometer disturbance (propeller wash, ground effect): the Kalman filter
+    /// trusts the barometer less while set.
+    pub fn set_baro_disturbed(&mut self, disturbed: bool) {
+        if let Some(k) = self.kalman.as_mut() {
+            k.set_baro_disturbed(disturbed);
+        }
+    }
+
+    /// An accelerometer sample between pressure samples (earth-frame vertical
+    /// acceleration with gravity removed, m/s^2). Errors, state unchanged: those of
+    /// [`VerticalKalman::predict`]; `Ok` and ignored without a Kalman estimator.
+    pub fn accelerometer(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
+        match self.kalman.as_mut() {
+            Some(k) => k.predict(time_s, accel_up_mps2),
+            None => Ok(()),
+        }
+    }
+
+    /// Process one sample. Never fails: problems are reported in [`Output::flags`], and
+    /// a rejected sample leaves the whole pipeline unchanged.
+    pub fn process(&mut self, sample: &Sample) -> Output {
+        let mut flags = Flags::default();
+        let rejected = |f: Flags, last: &Output| {
+            let mut out = *last;
+            out.time_s = sample.time_s;
+            out.flags = f;
+            out.event = None;
+            out
+        };
+        // 1. Validation of the required channels.
+        let time_ok = sample.time_s.is_finite()
+            && self.last_time_s.is_none_or(|t| sample.time_s > t);
+        if !time_ok {
+            return rejected(Flags::REJECTED_TIME, &self.last);
+        }
+        let (lo, hi) = self.settings.pressure_range_pa;
+        let pressure = match Pressure::from_pa(sample.pressure_pa) {
+            Ok(p) if p.pa() >= lo && p.pa() <= hi => p,
+            _ => return rejected(Flags::REJECTED_PRESSURE, &self.last),
+        };
+        // Optional channels: an invalid value is ignored and flagged.
+        let temperature = match sample.temperature_c.map(Temperature::from_celsius) {
+            Some(Ok(t)) => Some(t),
+            Some(Err(_)) => {
+                flags.set(Flags::TEMPERATURE_IGNORED);
+                None
+            }
+            None => None,
+        };
+        let humidity = match sample.humidity_pct.map(RelativeHumidity::from_percent) {
+            Some(Ok(h)) => Some(h),
+            Some(Err(_)) => {
+                flags.set(Flags::HUMIDITY_IGNORED);
+                None
+            }
+            None => None,
+        };
+        let accel = match sample.accel_up_mps2 {
+            Some(a) if a.is_finite() && a.abs() <= 20.0 * STANDARD_GRAVITY => Some(a),
+            Some(_) => {
+                flags.set(Flags::ACCEL_IGNORED);
+                None
+            }
+            None => None,
+        };
+        let fix = match sample.known_altitude_m {
+            Some(h) if h.is_finite() && h.abs() < 90_000.0 => Some(h),
+            Some(_) => {
+                flags.set(Flags::FIX_IGNORED);
+                None
+            }
+            None => None,
+        };
+
+        // 2. Height model, computed on copies so that a failure changes nothing.
+        let mut sounding = self.sounding.clone();
+        let model = self.model_height(&mut sounding, pressure, temperature, humidity, &mut flags);
+        let Ok((model_m, column_t)) = model else {
+            return rejected(Flags::REJECTED_MODEL, &self.last);
+        };
+
+        // 3. Datum: ground reference while on the ground, then fixes.
+        let mut ground = self.ground;
+        let mut ground_frozen = self.ground_frozen;
+        let mut offset_target = self.offset_target_m;
+        let mut offset = self.offset_m;
+        if let Some(start) = self.settings.start_altitude_m {
+            if !ground_frozen {
+                if self.phases.phase() == Phase::Ground {
+                    if ground.push(sample.time_s, height_or_zero(model_m)).is_err() {
+                        return rejected(Flags::REJECTED_TIME, &self.last);
+                    }
+                    if let Ok(mean) = ground.mean() {
+                        offset_target = start - mean.meters();
+                        offset = offset_target;
+                    }
+                    if !ground.is_ready() {
+                        flags.set(Flags::GROUND_AVERAGING);
+                    }
+                } else {
+                    ground_frozen = true;
+                }
+            }
+        }
+        if let Some(known) = fix {
+            if !matches!(self.track, TrackState::Hike(_)) {
+                // the estimate (not the single sample) is what the fix corrects
+                let current = if self.last_time_s.is_some() {
+                    self.last.altitude_m - offset
+                } else {
+                    model_m
+                };
+                offset_target = known - current;
+                ground_frozen = true;
+            }
+            flags.set(Flags::FIX_APPLIED);
+        }
+        if let Some(last_t) = self.last_time_s {
+            let dt = (sample.time_s - last_t) as f32;
+            let tau = self.settings.fix_time_constant_s;
+            let k = if tau > 0.0 { dt / (tau + dt) } else { 1.0 };
+            offset += k * (offset_target - offset);
+        } else {
+            offset = offset_target;
+        }
+        let raw_m = model_m + offset;
+        let Ok(raw) = Height::from_meters(raw_m) else {
+            return rejected(Flags::REJECTED_MODEL, &self.last);
+        };
+
+        // 4. Estimator.
+        let mut kalman = self.kalman;
+        let (height_m, speed_mps, sigma_m) = match kalman.as_mut() {
+            None => {
+                let speed = match self.last_time_s {
+                    Some(t) if self.last.accepted() => {
+                        (raw_m - self.last.raw_altitude_m) / (sample.time_s - t) as f32
+                    }
+                    _ => 0.0,
+                };
+                (raw_m, speed, self.model_sigma(pressure, column_t, raw_m))
+            }
+            Some(k) => {
+                if let Some(a) = accel {
+                    if k.predict(sample.time_s, a).is_err() {
+                        flags.set(Flags::ACCEL_IGNORED);
+                    }
+                }
+                match k.correct(sample.time_s, raw) {
+                    Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
+                    Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
+                    Ok(_) => {}
+                    Err(_) => return rejected(Flags::REJECTED_MODEL, &self.last),
+                }
+                match k.estimate() {
+                    Some(e) => (
+                        e.height.meters(),
+                        e.vertical_speed.mps(),
+                        e.height_sigma_m,
+                    ),
+                    None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m)),
+                }
+            }
+        };
+
+        // 5. Trackers.
+        let mut phases = self.phases.clone();
+        let event = phases.update(sample.time_s, height_m, speed_mps).ok().flatten();
+        let mut track = self.track.clone();
+        let (out_height, ascent, descent, tendency) = match &mut track {
+            TrackState::Flight(totals) => {
+                totals.update(Height::from_meters(height_m).unwrap_or(raw));
+                (height_m, totals.ascent_m(), totals.descent_m(), None)
+            }
+            TrackState::Hike(hike) => {
+                match hike.update_pressure_altitude(sample.time_s, raw) {
+                    Ok(mut r) => {
+                        if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
+                            // the first fix of a walk applies at once, later ones slew
+                            let applied = if self.last_time_s.is_none() {
+                                hike.set_elevation(h)
+                            } else {
+                                hike.fix_elevation(h)
+                            };
+                            if applied.is_ok() && self.last_time_s.is_none() {
+                                r.height = h;
+                            }
+                        }
+                        if r.resting {
+                            flags.set(Flags::AT_REST);
+                        }
+                        if r.falling_pressure_alert {
+                            flags.set(Flags::FALLING_PRESSURE);
+                        }
+                        (r.height.meters(), r.ascent_m, r.descent_m, r.tendency_hpa)
+                    }
+                    Err(_) => return rejected(Flags::REJECTED_MODEL, &self.last),
+                }
+            }
+        };
+
+        // 6. Commit.
+        self.sounding = sounding;
+        self.ground = ground;
+        self.ground_frozen = ground_frozen;
+        self.offset_m = offset;
+        self.offset_target_m = offset_target;
+        self.kalman = kalman;
+        self.phases = phases;
+        self.track = track;
+        self.last_time_s = Some(sample.time_s);
+        if temperature.is_some() {
+            self.last_temperature = temperature;
+        }
+        if flags.contains(Flags::OUTLIER) {
+            self.outliers = self.outliers.saturating_add(1);
+        }
+        self.last = Output {
+            time_s: sample.time_s,
+            altitude_m: out_height,
+            raw_altitude_m: raw_m,
+            vertical_speed_mps: speed_mps,
+            altitude_sigma_m: sigma_m,
+            phase: self.phases.phase(),
+            event,
+            ascent_m: ascent,
+            descent_m: descent,
+            tendency_hpa: tendency,
+            flags,
+        };
+        self.last
+    }
+
+    /// Height of the sample from the model (before the datum), m, and the column
+    /// temperature used, K.
+    fn model_height(
+        &self,
+        sounding: &mut Option<Sounding<N>>,
+        p: Pressure,
+        t: Option<Temperature>,
+        rh: Option<RelativeHumidity>,
+        flags: &mut Flags,
+    ) -> Result<(f32, f32), Error> {
+        let std_height = US_1976.pressure_altitude(p)?;
+        match self.settings.model {
+            HeightModel::Standard => {
+                let t_std = US_1976.temperature_at(std_height)?.kelvin();
+                Ok((std_height.meters(), t.map_or(t_std, |t| t.kelvin())))
+            }
+            HeightModel::Sounding { descent_on_profile } => {
+                let t = match (t, self.last_temperature) {
+                    (Some(t), _) => t,
+                    (None, Some(held)) => {
+                        flags.set(Flags::TEMPERATURE_HELD);
+                        held
+                    }
+                    (None, None) => {
+                        flags.set(Flags::TEMPERATURE_ASSUMED);
+                        US_1976.temperature_at(std_height)?
+                    }
+                };
+                match sounding {
+                    None => {
+                        let base = match self.settings.start_altitude_m {
+                            Some(h) => Height::from_meters(h)?,
+                            None => std_height,
+                        };
+                        let s = Sounding::new(base, self.gravity, p, t, rh)?;
+                        *sounding = Some(s);
+                        // the datum offset is applied later: report model height
+                        // relative to the start altitude's frame
+                        Ok((base.meters() - self.start_offset(), t.kelvin()))
+                    }
+                    Some(s) => {
+                        let descending = matches!(
+                            self.phases.phase(),
+                            Phase::Burst | Phase::Descent | Phase::Landed
+                        );
+                        if descending {
+                            s.set_recording(false);
+                        }
+                        let step = s.update(p, Some(t), rh)?;
+                        if descending && descent_on_profile {
+                            if let Ok(h) = s.height_on_profile(p) {
+                                flags.set(Flags::ON_PROFILE);
+                                return Ok((h.meters() - self.start_offset(), t.kelvin()));
+                            }
+                        }
+                        Ok((step.geometric.meters() - self.start_offset(), t.kelvin()))
+                    }
+                }
+            }
+        }
+    }
+
+    /// The sounding already starts at the start altitude, so the ground-reference
+    /// offset must not add it again: report its heights relative to zero.
+    fn start_offset(&self) -> f32 {
+        match self.settings.model {
+            HeightModel::Sounding { .. } => self.settings.start_altitude_m.unwrap_or(0.0),
+            HeightModel::Standard => 0.0,
+        }
+    }
+
+    /// First-order 1-sigma of a pointwise height: pressure noise through the scale
+    /// height, and the column temperature uncertainty scaling the height above the
+    /// datum reference (hypsometric equation: dz = (R T / g) dp / p, and
+    /// dz / z = dT / T). The two add in quadrature.
+    fn model_sigma(&self, p: Pressure, column_t: f32, height_m: f32) -> f32 {
+        let from_pressure =
+            US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * self.settings.pressure_noise_pa
+                / p.pa();
+        let reference = self.settings.start_altitude_m.unwrap_or(0.0);
+        let from_temperature =
+            (height_m - reference).abs() * self.settings.temperature_uncertainty_k / column_t;
+        crate::math::sqrt(from_pressure * from_pressure + from_temperature * from_temperature)
+    }
+}
+
+fn height_or_zero(m: f32) -> Height {
+    Height::from_meters(m).unwrap_or(Height::ZERO)
+}
