@@ -1,0 +1,158 @@
+//! The composed pipeline: presets, rejection without state change, run-time settings,
+//! state sizes.
+
+use isohypse::atmosphere::{self, US_1976};
+use isohypse::flight::Phase;
+use isohypse::pipeline::{Estimator, Flags, HeightModel, Pipeline, Sample, Settings};
+use isohypse::{Error, Height, Pressure};
+
+fn p_at(z: f32) -> f32 {
+    US_1976.pressure_at(Height::from_meters(z).unwrap()).unwrap().pa()
+}
+
+#[test]
+fn pipeline_state_sizes() {
+    use core::mem::size_of;
+    let rows = [
+        ("Pipeline<2> (drone, hike presets)", size_of::<Pipeline<2>>()),
+        ("Pipeline<64> (balloon, 64 levels)", size_of::<Pipeline<64>>()),
+        ("Pipeline<256> (balloon, 256 levels)", size_of::<Pipeline<256>>()),
+        ("Settings", size_of::<Settings>()),
+        ("filter::VerticalKalman", size_of::<isohypse::filter::VerticalKalman>()),
+        ("flight::FlightPhases", size_of::<isohypse::flight::FlightPhases>()),
+        ("track::HikeTracker", size_of::<isohypse::track::HikeTracker>()),
+        ("sounding::Sounding<2>", size_of::<isohypse::sounding::Sounding<2>>()),
+        ("sounding::Profile<256>", size_of::<isohypse::sounding::Profile<256>>()),
+    ];
+    println!("| state (host, {}-bit) | bytes |", usize::BITS);
+    println!("| --- | --- |");
+    for (name, size) in rows {
+        println!("| {name} | {size} |");
+    }
+    // The balloon pipeline grows by 12 bytes per profile level.
+    assert_eq!(
+        size_of::<Pipeline<256>>() - size_of::<Pipeline<64>>(),
+        12 * (256 - 64)
+    );
+}
+
+#[test]
+fn pointwise_standard_is_pressure_altitude() {
+    // shared/design.md: with the standard model, no filter and no start altitude the
+    // output is the standard pressure altitude of each row.
+    let mut s = Settings::balloon();
+    s.model = HeightModel::Standard;
+    s.estimator = Estimator::Off;
+    let mut pipe = Pipeline::<2>::new(s).unwrap();
+    for (i, p) in [101_325.0f32, 90_000.0, 50_000.0, 1_000.0, 10.0].iter().enumerate() {
+        let out = pipe.process(&Sample::pressure(i as f64, *p));
+        assert!(out.accepted());
+        let expect = atmosphere::pressure_altitude(Pressure::from_pa(*p).unwrap()).unwrap();
+        assert_eq!(out.altitude_m, expect.meters());
+    }
+}
+
+#[test]
+fn rejected_samples_change_nothing() {
+    for settings in [Settings::balloon(), Settings::drone(), Settings::hike()] {
+        let mut pipe = Pipeline::<16>::new(settings).unwrap();
+        for i in 0..100 {
+            let mut s = Sample::pressure(i as f64 * 0.1, p_at(200.0 + 0.01 * i as f32));
+            s.temperature_c = Some(15.0);
+            pipe.process(&s);
+        }
+        let before = pipe.clone();
+        let bad = [
+            Sample::pressure(9.9, 98_000.0),       // time repeats
+            Sample::pressure(5.0, 98_000.0),       // time goes back
+            Sample::pressure(f64::NAN, 98_000.0),  // time NaN
+            Sample::pressure(20.0, f32::NAN),      // pressure NaN
+            Sample::pressure(20.0, -1.0),          // negative pressure
+            Sample::pressure(20.0, 0.0),           // zero pressure
+            Sample::pressure(20.0, 130_000.0),     // above 1200 hPa
+            Sample::pressure(20.0, f32::INFINITY), // infinite pressure
+        ];
+        for s in bad {
+            let out = pipe.process(&s);
+            assert!(out.flags.rejected(), "{s:?} -> {:?}", out.flags);
+            assert_eq!(pipe, before, "state changed by {s:?}");
+        }
+    }
+}
+
+#[test]
+fn invalid_optional_channels_are_flagged_and_ignored() {
+    let mut pipe = Pipeline::<16>::new(Settings::balloon()).unwrap();
+    let mut s = Sample::pressure(0.0, 95_000.0);
+    s.temperature_c = Some(-300.0);
+    s.humidity_pct = Some(130.0);
+    s.accel_up_mps2 = Some(f32::NAN);
+    s.known_altitude_m = Some(f32::INFINITY);
+    let out = pipe.process(&s);
+    assert!(out.accepted());
+    for f in [
+        Flags::TEMPERATURE_IGNORED,
+        Flags::HUMIDITY_IGNORED,
+        Flags::ACCEL_IGNORED,
+        Flags::FIX_IGNORED,
+        Flags::TEMPERATURE_ASSUMED,
+    ] {
+        assert!(out.flags.contains(f), "{:?} lacks {f:?}", out.flags);
+    }
+    let names: Vec<&str> = out.flags.names().collect();
+    assert!(names.contains(&"temperature_ignored"));
+}
+
+#[test]
+fn invalid_settings_are_refused_and_old_ones_kept() {
+    let mut bad = Settings::drone();
+    bad.pressure_range_pa = (100.0, 50.0);
+    assert_eq!(Pipeline::<2>::new(bad).err(), Some(Error::InvalidSetting));
+    let mut bad = Settings::balloon();
+    bad.latitude_deg = Some(120.0);
+    assert!(Pipeline::<2>::new(bad).is_err());
+    let mut pipe = Pipeline::<2>::new(Settings::drone()).unwrap();
+    pipe.process(&Sample::pressure(0.0, 98_000.0));
+    let before = pipe.clone();
+    assert_eq!(
+        pipe.set_start_altitude(Some(f32::NAN)),
+        Err(Error::InvalidSetting)
+    );
+    assert_eq!(pipe, before);
+    // a valid change takes effect without resetting the estimator
+    pipe.set_start_altitude(Some(120.0)).unwrap();
+    assert_eq!(pipe.settings().start_altitude_m, Some(120.0));
+}
+
+#[test]
+fn drone_ground_reference_zeroes_height() {
+    // 2 s at rest at 50 Hz with a pressure offset from standard: the height above the
+    // ground reference starts near 0, whatever the site's pressure.
+    let mut pipe = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let ground = p_at(437.0);
+    let mut last = None;
+    for i in 0..100 {
+        last = Some(pipe.process(&Sample::pressure(i as f64 * 0.02, ground)));
+    }
+    let out = last.unwrap();
+    assert_eq!(out.phase, Phase::Ground);
+    assert!(out.altitude_m.abs() < 0.01, "{}", out.altitude_m);
+}
+
+#[test]
+fn sounding_preset_starts_at_start_altitude() {
+    let mut s = Settings::balloon();
+    s.start_altitude_m = Some(310.0);
+    s.latitude_deg = Some(64.2);
+    let mut pipe = Pipeline::<64>::new(s).unwrap();
+    let mut out = None;
+    for i in 0..30 {
+        let mut sample = Sample::pressure(i as f64, 97_000.0);
+        sample.temperature_c = Some(20.0);
+        sample.humidity_pct = Some(60.0);
+        out = Some(pipe.process(&sample));
+    }
+    let out = out.unwrap();
+    assert!((out.altitude_m - 310.0).abs() < 0.05, "{}", out.altitude_m);
+    assert!(pipe.sounding().is_some());
+}
