@@ -3,6 +3,64 @@
 //! Height from pressure and temperature on microcontrollers: `#![no_std]`, no heap, no
 //! panics.
 //!
+//! ## Height in five lines
+//!
+//! Make a pipeline from a preset, feed it each reading, read the result. The same
+//! pipeline runs in the host replay tool (`examples/replay.rs`) and on the device.
+//!
+//! A drone: height above the take-off point and vertical speed, barometer fused with the
+//! accelerometer, outliers gated out.
+//!
+//! ```
+//! use isohypse::pipeline::{Pipeline, Sample, Settings};
+//! let mut drone = Pipeline::<2>::new(Settings::drone())?;
+//! let mut sample = Sample::pressure(0.0, 97_700.0);
+//! sample.accel_up_mps2 = Some(0.0);
+//! let out = drone.process(&sample);
+//! assert!(out.accepted() && out.altitude_m.abs() < 0.1);
+//! drone.accelerometer(0.005, 0.02)?; // IMU samples between barometer samples
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+//!
+//! A balloon: layer-by-layer sounding from the launch elevation with the launch latitude's
+//! gravity, flight phases, descent on the profile stored on the way up (here 256 levels).
+//!
+//! ```
+//! use isohypse::pipeline::{Pipeline, Sample, Settings};
+//! let mut settings = Settings::balloon();
+//! settings.start_altitude_m = Some(310.0);
+//! settings.latitude_deg = Some(64.2);
+//! let mut balloon = Pipeline::<256>::new(settings)?;
+//! let out = balloon.process(&Sample {
+//!     time_s: 0.0,
+//!     pressure_pa: 97_300.0,
+//!     temperature_c: Some(24.5),
+//!     humidity_pct: Some(70.0),
+//!     ..Sample::default()
+//! });
+//! assert!((out.altitude_m - 310.0).abs() < 0.5);
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+//!
+//! A walking device: smoothed height, ascent and descent totals that ignore noise and
+//! weather drift at rest, known-elevation fixes, the 3-hour pressure tendency.
+//!
+//! ```
+//! use isohypse::pipeline::{Pipeline, Sample, Settings};
+//! let mut hike = Pipeline::<2>::new(Settings::hike())?;
+//! let out = hike.process(&Sample {
+//!     time_s: 0.0,
+//!     pressure_pa: 93_500.0,
+//!     known_altitude_m: Some(652.0), // the trailhead sign
+//!     ..Sample::default()
+//! });
+//! assert!((out.altitude_m - 652.0).abs() < 0.5);
+//! println!("ascent {} m, descent {} m", out.ascent_m, out.descent_m);
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+//!
+//! ## Where things live
+//!
 //! The crate is built in layers; each uses only those above it in this list.
 //!
 //! 1. **Units, errors, maths** — [`units`] ([`Pressure`], [`Temperature`], [`Height`],
@@ -17,8 +75,15 @@
 //!    reference).
 //! 3. **Datums** — [`datum`] (pressure altitude, QNH, QFE, density altitude, calibration
 //!    from known elevations).
-//! 6. **Trackers** — [`track`] (walking devices: ascent/descent totals with hysteresis,
+//! 4. **Soundings** — [`sounding`] (layer-by-layer integration of a balloon ascent, the
+//!    stored profile, heights on it for the descent).
+//! 5. **Filters** — [`filter`] (median, moving average, one-pole, alpha-beta, a Kalman
+//!    filter for height, vertical speed and accelerometer bias, ground reference).
+//! 6. **Trackers** — [`flight`] (flight phases: ground, ascent, float, burst, descent,
+//!    landed) and [`track`] (walking devices: ascent/descent totals with hysteresis,
 //!    weather drift at rest, known-elevation fixes, 3-hour pressure tendency).
+//! 7. **Pipeline** — [`pipeline`] (one call per sample, presets for balloon, drone and
+//!    hike), and the optional `embedded-hal` sensor adapter and `defmt` formatting.
 //!
 //! Every formula's documentation gives the equation and its published source.
 //!
@@ -48,12 +113,14 @@
 pub mod atmosphere;
 pub mod datum;
 pub mod error;
+pub mod filter;
 pub mod flight;
 pub mod geopotential;
 pub mod humidity;
 pub mod hypsometric;
 mod math;
 pub mod model;
+pub mod pipeline;
 pub mod sounding;
 pub mod track;
 pub mod units;

@@ -603,9 +603,13 @@ impl<const N: usize> Pipeline<N> {
                     if let Ok(mean) = ground.mean() {
                         offset_target = start - mean.meters();
                         offset = offset_target;
-                    }
-                    if !ground.is_ready() {
+                    } else {
                         flags.set(Flags::GROUND_AVERAGING);
+                        if self.last_time_s.is_none() {
+                            // provisional until enough samples are averaged
+                            offset_target = start - model_m;
+                            offset = offset_target;
+                        }
                     }
                 } else {
                     ground_frozen = true;
