@@ -240,6 +240,11 @@ impl StandardAtmosphere {
     /// Pressures within 1e-6 relative of the model's ends are accepted, so that the
     /// forward function's f32 rounding at the very ends always inverts.
     fn layer_for_pressure(&self, p_pa: f32) -> Result<&Layer, Error> {
+        // Fast path: the troposphere above sea level, where most readings fall.
+        let (sea_level, tropopause) = (&self.layers[1], &self.layers[2]);
+        if p_pa <= sea_level.base_pressure_pa && p_pa >= tropopause.base_pressure_pa {
+            return Ok(sea_level);
+        }
         if p_pa > self.bottom_pressure_pa() * (1.0 + 1.0e-6) {
             return Err(Error::BelowModelBottom);
         }
@@ -319,11 +324,11 @@ impl StandardAtmosphere {
         // ln(p / pb) as ln of the ratio: its absolute error is about one f32 step
         // (6e-8), 0.5 mm of height; the cancellation near the base is handled by
         // exp_m1 below, not here. Constants per layer are precomputed.
-        let log_ratio = math::ln(pa * layer.inverse_base_pressure);
+        let log_ratio = math::small_ln(pa * layer.inverse_base_pressure);
         let dh = if layer.exponent == 0.0 {
             layer.height_scale_m * log_ratio
         } else {
-            layer.height_scale_m * math::exp_m1(layer.exponent * log_ratio)
+            layer.height_scale_m * math::small_exp_m1(layer.exponent * log_ratio)
         };
         Height::from_meters(layer.base_geopotential_m + dh)
     }

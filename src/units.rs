@@ -44,11 +44,14 @@ pub struct Pressure(f32);
 impl Pressure {
     /// From pascals. Errors: [`Error::NotFinite`], [`Error::PressureNotPositive`].
     pub fn from_pa(pa: f32) -> Result<Self, Error> {
-        let pa = finite(pa)?;
-        if pa > 0.0 {
+        // Two comparisons on the accepted path (NaN fails both); the error is
+        // classified only when the value is refused.
+        if pa > 0.0 && pa <= f32::MAX {
             Ok(Self(pa))
-        } else {
+        } else if pa.is_finite() {
             Err(Error::PressureNotPositive)
+        } else {
+            Err(Error::NotFinite)
         }
     }
     /// From hectopascals (millibars).
