@@ -42,6 +42,9 @@ pub enum Error {
     InvalidSetting,
     /// A sensor or bus read failed; the sample was not taken.
     SensorRead,
+    /// A sample was finite but outside the range the receiving filter accepts as
+    /// physical (for example an acceleration beyond the configured limit).
+    SampleOutOfRange,
 }
 
 impl core::fmt::Display for Error {
@@ -60,6 +63,7 @@ impl core::fmt::Display for Error {
             Error::NotEnoughData => "not enough stored data",
             Error::InvalidSetting => "setting outside its documented range",
             Error::SensorRead => "sensor read failed",
+            Error::SampleOutOfRange => "sample outside the accepted physical range",
         };
         f.write_str(text)
     }

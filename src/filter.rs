@@ -6,11 +6,11 @@
 //! | type | job | time per sample | state |
 //! | --- | --- | --- | --- |
 //! | [`Median`] | spike rejection over the last `N` samples | O(N) | `8 N + 16` bytes (64-bit host) |
-//! | [`MovingAverage`] | mean of the last `N` samples | O(1) | `4 N + 36` bytes (64-bit host) |
+//! | [`MovingAverage`] | mean of the last `N` samples | O(1) | `4 N + 36` bytes, padded to 8 (64-bit host) |
 //! | [`OnePole`] | first-order low-pass, cut-off in Hz, any time step | O(1) | 24 bytes |
 //! | [`AlphaBeta`] | height and vertical speed, fixed gains | O(1) | 32 bytes |
-//! | [`VerticalKalman`] | height, vertical speed, accelerometer bias | O(1) | see its docs |
-//! | [`GroundReference`] | mean height at rest before take-off | O(1) | see its docs |
+//! | [`VerticalKalman`] | height, vertical speed, accelerometer bias | O(1) | 168 bytes (64-bit host) |
+//! | [`GroundReference`] | mean height at rest before take-off | O(1) | 48 bytes (64-bit host) |
 //!
 //! # Time stamps
 //!
@@ -58,7 +58,8 @@ fn step_s(last: f64, now: f64) -> Result<f32, Error> {
         return Err(Error::NotIncreasing);
     }
     // Narrowing after the subtraction keeps full resolution of the step.
-    Ok((now - last) as f32)
+    // Capped so that an absurd gap cannot become an infinite `f32`.
+    Ok((now - last).min(1.0e30) as f32)
 }
 
 /// Validates a time stamp on its own (finite).

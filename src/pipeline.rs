@@ -23,6 +23,7 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 
+use crate::Error;
 use crate::atmosphere::{STANDARD_GRAVITY, US_1976, US_1976_GAS_CONSTANT};
 use crate::filter::{
     GroundReference, GroundReferenceConfig, KalmanOutcome, VerticalKalman, VerticalKalmanConfig,
@@ -32,7 +33,6 @@ use crate::geopotential::Gravity;
 use crate::sounding::Sounding;
 use crate::track::{AscentTotals, HikeConfig, HikeTracker};
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
-use crate::Error;
 
 /// One reading. Only time and pressure are required; every other channel is optional.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -136,8 +136,7 @@ impl Flags {
 
     /// True if any rejection bit is set (the sample changed nothing).
     pub const fn rejected(self) -> bool {
-        self.0 & (Self::REJECTED_TIME.0 | Self::REJECTED_PRESSURE.0 | Self::REJECTED_MODEL.0)
-            != 0
+        self.0 & (Self::REJECTED_TIME.0 | Self::REJECTED_PRESSURE.0 | Self::REJECTED_MODEL.0) != 0
     }
 
     fn set(&mut self, other: Flags) {
@@ -278,8 +277,9 @@ impl Settings {
             },
             estimator: Estimator::Kalman(VerticalKalmanConfig {
                 baro_sigma_m: 0.5,
-                baro_only_accel_density: 1.0,
-                initial_speed_sigma_mps: 5.0,
+                // burst turns +5 m/s into -50 m/s within seconds
+                baro_only_accel_density: 3.0,
+                initial_speed_sigma_mps: 30.0,
                 max_step_s: 30.0,
                 accel_timeout_s: 0.5,
                 baro_timeout_s: 60.0,
@@ -288,7 +288,8 @@ impl Settings {
             }),
             tracking: Tracking::Flight {
                 phases: PhaseSettings::BALLOON,
-                totals_band_m: 10.0,
+                // height noise reaches about 10 m (1-sigma) near 30 km
+                totals_band_m: 30.0,
             },
             start_altitude_m: None,
             latitude_deg: None,
@@ -355,7 +356,9 @@ impl Settings {
             && self.temperature_uncertainty_k >= 0.0
             && self.fix_time_constant_s.is_finite()
             && self.fix_time_constant_s >= 0.0
-            && self.start_altitude_m.is_none_or(|h| h.is_finite() && h.abs() < 90_000.0);
+            && self
+                .start_altitude_m
+                .is_none_or(|h| h.is_finite() && h.abs() < 90_000.0);
         if !ok {
             return Err(Error::InvalidSetting);
         }
@@ -417,6 +420,7 @@ pub struct Pipeline<const N: usize> {
     last_time_s: Option<f64>,
     last_temperature: Option<Temperature>,
     outliers: u32,
+    hike_speed_mps: f32,
     last: Output,
 }
 
@@ -459,6 +463,7 @@ impl<const N: usize> Pipeline<N> {
             last_time_s: None,
             last_temperature: None,
             outliers: 0,
+            hike_speed_mps: 0.0,
             last: Output::default(),
         })
     }
@@ -538,8 +543,8 @@ impl<const N: usize> Pipeline<N> {
             out
         };
         // 1. Validation of the required channels.
-        let time_ok = sample.time_s.is_finite()
-            && self.last_time_s.is_none_or(|t| sample.time_s > t);
+        let time_ok =
+            sample.time_s.is_finite() && self.last_time_s.is_none_or(|t| sample.time_s > t);
         if !time_ok {
             return rejected(Flags::REJECTED_TIME, &self.last);
         }
@@ -660,27 +665,24 @@ impl<const N: usize> Pipeline<N> {
                         flags.set(Flags::ACCEL_IGNORED);
                     }
                 }
-                match k.correct(sample.time_s, raw) {
+                // Height noise of this sample from the sensor's pressure noise.
+                let sigma = self.pressure_sigma_m(pressure, column_t).max(1.0e-3);
+                match k.correct_with_sigma(sample.time_s, raw, sigma) {
                     Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
                     Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
                     Ok(_) => {}
                     Err(_) => return rejected(Flags::REJECTED_MODEL, &self.last),
                 }
                 match k.estimate() {
-                    Some(e) => (
-                        e.height.meters(),
-                        e.vertical_speed.mps(),
-                        e.height_sigma_m,
-                    ),
+                    Some(e) => (e.height.meters(), e.vertical_speed.mps(), e.height_sigma_m),
                     None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m)),
                 }
             }
         };
 
         // 5. Trackers.
-        let mut phases = self.phases.clone();
-        let event = phases.update(sample.time_s, height_m, speed_mps).ok().flatten();
         let mut track = self.track.clone();
+        let mut hike_speed = self.hike_speed_mps;
         let (out_height, ascent, descent, tendency) = match &mut track {
             TrackState::Flight(totals) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
@@ -706,14 +708,37 @@ impl<const N: usize> Pipeline<N> {
                         if r.falling_pressure_alert {
                             flags.set(Flags::FALLING_PRESSURE);
                         }
-                        (r.height.meters(), r.ascent_m, r.descent_m, r.tendency_hpa)
+                        let h = r.height.meters();
+                        // vertical speed of the tracked height, smoothed (the raw
+                        // difference of 2 Pa noise at 1 Hz is 0.2 m/s)
+                        if let Some(t_last) = self.last_time_s {
+                            let dt = (sample.time_s - t_last) as f32;
+                            if dt > 0.0 {
+                                let v = (h - self.last.altitude_m) / dt;
+                                let k = dt / (HIKE_SPEED_TIME_CONSTANT_S + dt);
+                                hike_speed += k * (v - hike_speed);
+                            }
+                        }
+                        (h, r.ascent_m, r.descent_m, r.tendency_hpa)
                     }
                     Err(_) => return rejected(Flags::REJECTED_MODEL, &self.last),
                 }
             }
         };
 
+        let speed_mps = if matches!(track, TrackState::Hike(_)) {
+            hike_speed
+        } else {
+            speed_mps
+        };
+        let mut phases = self.phases.clone();
+        let event = phases
+            .update(sample.time_s, out_height, speed_mps)
+            .ok()
+            .flatten();
+
         // 6. Commit.
+        self.hike_speed_mps = hike_speed;
         self.sounding = sounding;
         self.ground = ground;
         self.ground_frozen = ground_frozen;
@@ -816,20 +841,28 @@ impl<const N: usize> Pipeline<N> {
         }
     }
 
+    /// 1-sigma height noise from the pressure noise: `(R T / (g0 p)) sigma_p`
+    /// (hypsometric equation differentiated in `p`).
+    fn pressure_sigma_m(&self, p: Pressure, column_t: f32) -> f32 {
+        US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * self.settings.pressure_noise_pa
+            / p.pa()
+    }
+
     /// First-order 1-sigma of a pointwise height: pressure noise through the scale
     /// height, and the column temperature uncertainty scaling the height above the
     /// datum reference (hypsometric equation: dz = (R T / g) dp / p, and
     /// dz / z = dT / T). The two add in quadrature.
     fn model_sigma(&self, p: Pressure, column_t: f32, height_m: f32) -> f32 {
-        let from_pressure =
-            US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * self.settings.pressure_noise_pa
-                / p.pa();
+        let from_pressure = self.pressure_sigma_m(p, column_t);
         let reference = self.settings.start_altitude_m.unwrap_or(0.0);
         let from_temperature =
             (height_m - reference).abs() * self.settings.temperature_uncertainty_k / column_t;
         crate::math::sqrt(from_pressure * from_pressure + from_temperature * from_temperature)
     }
 }
+
+/// Time constant of the hike preset's vertical-speed smoother, s.
+const HIKE_SPEED_TIME_CONSTANT_S: f32 = 30.0;
 
 fn height_or_zero(m: f32) -> Height {
     Height::from_meters(m).unwrap_or(Height::ZERO)

@@ -4,13 +4,8 @@
 //! The maths backend follows the firmware's features the same way the library does:
 //! `libm` by default, `micromath` with the `micromath` feature.
 
-/// Demo pressures: `SAMPLE_COUNT` values spaced evenly in ln(p) from `FIRST_SAMPLE_PA`
-/// down to `LAST_SAMPLE_PA` (invented demo data, sea level to about 36 km).
+/// Number of demo pressures in each sample set (see `build.rs`).
 pub const SAMPLE_COUNT: usize = 30;
-/// Highest demo pressure, Pa (1050 hPa).
-pub const FIRST_SAMPLE_PA: f64 = 105_000.0;
-/// Lowest demo pressure, Pa (5 hPa).
-pub const LAST_SAMPLE_PA: f64 = 500.0;
 
 /// x^y in the maths backend the library is built with.
 #[inline]
@@ -35,6 +30,7 @@ pub fn sea_level_power_formula(p_pa: f32) -> f32 {
 
 /// The library's standard pressure -> height conversion, NaN for a rejected reading.
 #[inline]
+#[cfg_attr(feature = "baseline-only", allow(dead_code))]
 pub fn library_pressure_altitude(p_pa: f32) -> f32 {
     match isohypse::Pressure::from_pa(p_pa).and_then(isohypse::atmosphere::pressure_altitude) {
         Ok(h) => h.meters(),

@@ -1,0 +1,163 @@
+#!/usr/bin/env bash
+# Builds the isohypse firmware for two Cortex-M cores, runs it on QEMU, and prints
+# instruction counts (deterministic: QEMU -icount shift=0) and the library's flash / RAM.
+#
+#   examples/firmware/run.sh                     # libm backend, both cores
+#   BACKENDS="libm micromath" examples/firmware/run.sh
+#   TARGETS=thumbv6m-none-eabi examples/firmware/run.sh
+#
+# Installs what it needs when missing: the two Rust targets (rustup) and qemu-system-arm
+# (apt-get). Exits non-zero when a build fails, a run fails (results differ from the
+# host's, or the timer calibration is off), a run times out, or two runs of the same
+# firmware print different output.
+# Profile: release, opt-level "s", lto = true, codegen-units = 1 (Cargo.toml); override
+# the opt-level with CARGO_PROFILE_RELEASE_OPT_LEVEL=3.
+
+set -euo pipefail
+
+here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
+cd "$here"
+
+TARGETS="${TARGETS:-thumbv7em-none-eabihf thumbv6m-none-eabi}"
+BACKENDS="${BACKENDS:-libm}"
+RUN_TIMEOUT="${RUN_TIMEOUT:-120}"
+export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-$here/target}"
+out="$CARGO_TARGET_DIR/firmware-run"
+mkdir -p "$out"
+
+say() { printf '\n== %s\n' "$*"; }
+
+# ---- prerequisites -------------------------------------------------------------------
+as_root() {
+    if [ "$(id -u)" = 0 ]; then "$@"; elif command -v sudo >/dev/null; then sudo "$@"; else
+        echo "error: need root to run: $*" >&2; return 1; fi
+}
+apt_install() {
+    say "installing $* (apt-get)"
+    as_root env DEBIAN_FRONTEND=noninteractive apt-get update -q
+    as_root env DEBIAN_FRONTEND=noninteractive apt-get install -y -q "$@"
+}
+if command -v rustup >/dev/null; then
+    installed="$(rustup target list --installed)"
+    for t in $TARGETS; do
+        grep -qx "$t" <<<"$installed" || rustup target add "$t"
+    done
+fi
+command -v qemu-system-arm >/dev/null || apt_install qemu-system-arm
+command -v python3 >/dev/null || apt_install python3
+command -v timeout >/dev/null || apt_install coreutils
+
+# ---- per-target settings ---------------------------------------------------------------
+qemu_args() {
+    case "$1" in
+        thumbv7em-none-eabihf) echo "-machine mps2-an386 -cpu cortex-m4" ;;
+        thumbv6m-none-eabi) echo "-machine microbit" ;;
+        *) echo "unsupported target $1" >&2; return 1 ;;
+    esac
+}
+core_name() {
+    case "$1" in
+        thumbv7em-none-eabihf) echo "Cortex-M4F" ;;
+        thumbv6m-none-eabi) echo "Cortex-M0" ;;
+    esac
+}
+
+# build TARGET NAME CARGO-FEATURE-ARGS...: builds and copies the ELF to $out/NAME.elf
+build() {
+    local target="$1" name="$2"
+    shift 2
+    cargo build --quiet --release --target "$target" "$@"
+    cp "$CARGO_TARGET_DIR/$target/release/isohypse-firmware" "$out/$name.elf"
+}
+
+features_for() { # backend -> cargo args
+    if [ "$1" = micromath ]; then echo "--features micromath"; fi
+}
+
+status=0
+qemu-system-arm --version | head -n 1
+rustc --version
+
+# ---- builds and runs -----------------------------------------------------------------
+for backend in $BACKENDS; do
+    for target in $TARGETS; do
+        name="$target-$backend"
+        say "build $name"
+        # shellcheck disable=SC2046
+        build "$target" "$name" $(features_for "$backend")
+        # shellcheck disable=SC2046
+        build "$target" "$name-size" --no-default-features $(features_for "$backend")
+        # shellcheck disable=SC2046
+        build "$target" "$name-size-baseline" --no-default-features --features baseline-only \
+            $(features_for "$backend")
+
+        say "run $name on QEMU ($(core_name "$target"))"
+        for attempt in 1 2; do
+            rc=0
+            # shellcheck disable=SC2046
+            timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$target") \
+                -nographic -monitor none -serial none \
+                -semihosting-config enable=on,target=native \
+                -icount shift=0 \
+                -kernel "$out/$name.elf" >"$out/$name.run$attempt.txt" 2>&1 || rc=$?
+            if [ "$rc" != 0 ]; then break; fi
+        done
+        cat "$out/$name.run1.txt"
+        if [ "$rc" != 0 ]; then
+            echo "FAIL: $name exited with status $rc (124 = timeout)" >&2
+            if [ "$attempt" != 1 ]; then cat "$out/$name.run$attempt.txt" >&2; fi
+            status=1
+        elif ! cmp -s "$out/$name.run1.txt" "$out/$name.run2.txt"; then
+            echo "FAIL: $name printed different output on a second run (not deterministic)" >&2
+            diff "$out/$name.run1.txt" "$out/$name.run2.txt" >&2 || true
+            status=1
+        else
+            echo "(second run printed the same output, byte for byte)"
+        fi
+    done
+done
+
+# ---- summary tables -------------------------------------------------------------------
+# counts TABLE from a run log: "name<TAB>count<TAB>ratio" per row of the counts table
+counts() {
+    awk -F' [|] ' '/^instructions per call/ {on = 1; next}
+        on && /^\| / && !/^\| (row|---)/ {name = $1; sub(/^\| /, "", name); print name "\t" $2 "\t" $3}' "$1"
+}
+
+for backend in $BACKENDS; do
+    say "instructions per call, backend $backend (QEMU -icount shift=0; ratio vs the row named in the firmware output)"
+    header="| row |"; sep="| --- |"
+    files=()
+    for target in $TARGETS; do
+        header="$header $(core_name "$target") instr. | ratio |"; sep="$sep ---: | ---: |"
+        f="$out/$target-$backend.counts.tsv"
+        counts "$out/$target-$backend.run1.txt" >"$f"
+        files+=("$f")
+    done
+    echo "$header"; echo "$sep"
+    first="${files[0]}"
+    while IFS=$'\t' read -r name count ratio; do
+        line="| $name | $count | $ratio |"
+        for f in "${files[@]:1}"; do
+            other="$(awk -F'\t' -v n="$name" '$1 == n {print $2 " | " $3}' "$f")"
+            line="$line ${other:- | } |"
+        done
+        echo "$line"
+    done <"$first"
+done
+
+say "flash and RAM: firmware with the library calls minus the same firmware without them"
+pairs=()
+for backend in $BACKENDS; do
+    for target in $TARGETS; do
+        pairs+=("$(core_name "$target") $target $backend=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
+    done
+done
+python3 "$here/elf_sizes.py" "${pairs[@]}"
+
+if [ "$status" != 0 ]; then
+    say "FAILED (see messages above)"
+else
+    say "all runs passed"
+fi
+exit "$status"

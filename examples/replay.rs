@@ -1,0 +1,765 @@
+//! Replay a recorded log through the isohypse pipeline: output table, SVG plot and a
+//! short summary.
+//!
+//! ```text
+//! cargo run --release --example replay                      # the built-in demo logs
+//! cargo run --release --example replay -- flight.csv --preset balloon \
+//!     --latitude-deg 64.2 --start-altitude-m 310 --out flight.out.csv --plot flight.svg
+//! ```
+//!
+//! Input: CSV with a header row, columns by name in any order, `#` lines are comments:
+//! `time_s` (required, strictly increasing), `pressure_pa` (required column; an empty
+//! cell is allowed only in a row that carries `accel_up_mps2`: an accelerometer-only
+//! row between barometer samples, used by the estimator and given no output row),
+//! `temperature_c`, `humidity_pct`, `accel_up_mps2`, `known_altitude_m`.
+//!
+//! Output: `time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
+//! ascent_m,descent_m,flags`, one row per accepted barometer row.
+//!
+//! Exit codes: 0 success (rows may have been skipped: see the summary); 1 bad command
+//! line or a file that cannot be read or written; 2 a bad row with `--strict`; 3 no
+//! usable row at all (empty file, missing required column).
+
+use std::collections::BTreeMap;
+use std::fs;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use clap::{Parser, ValueEnum};
+use isohypse::pipeline::{Estimator, HeightModel, Output, Pipeline, Sample, Settings};
+
+/// Replay a pressure log through the isohypse pipeline (the same per-sample pipeline
+/// the firmware runs) and write the heights, an SVG plot and a summary.
+#[derive(Parser, Debug)]
+#[command(version, about, long_about = None, after_help = AFTER_HELP)]
+struct Cli {
+    /// Input CSV log. Without it the three built-in demo logs (balloon, drone, hike)
+    /// are replayed and the files go to --out-dir.
+    input: Option<PathBuf>,
+    /// Output CSV (default: next to the input, `<input>.out.csv`).
+    #[arg(long, value_name = "FILE")]
+    out: Option<PathBuf>,
+    /// SVG plot of raw and filtered height, vertical speed, phases and totals
+    /// (default: `<input>.svg`).
+    #[arg(long, value_name = "FILE.svg")]
+    plot: Option<PathBuf>,
+    /// Summary text file (default: `<input>.summary.txt`; always printed too).
+    #[arg(long, value_name = "FILE")]
+    summary: Option<PathBuf>,
+    /// Directory for the demo run's files (no input given).
+    #[arg(long, value_name = "DIR", default_value = "target/replay")]
+    out_dir: PathBuf,
+    /// Settings preset for the kind of device.
+    #[arg(long, value_enum, default_value_t = PresetArg::Balloon)]
+    preset: PresetArg,
+    /// Height model: `standard` (U.S. 1976 pressure altitude plus datum) or `sounding`
+    /// (layer-by-layer hypsometric integration with each row's temperature and
+    /// humidity). Default: the preset's (balloon: sounding; drone, hike: standard).
+    #[arg(long, value_enum)]
+    model: Option<ModelArg>,
+    /// `off`: pointwise conversion, no smoothing or outlier rejection; `on`: the
+    /// preset's estimator.
+    #[arg(long, value_enum, default_value_t = FilterArg::On)]
+    filter: FilterArg,
+    /// Height of the first row, or of the ground reference averaged over the rows at
+    /// rest before motion starts; sets the datum. Without it: the standard pressure
+    /// altitude (drone preset: 0, height above the take-off point).
+    #[arg(long, value_name = "H", allow_hyphen_values = true)]
+    start_altitude_m: Option<f32>,
+    /// Latitude for gravity (sounding model, geometric heights). Without it: standard
+    /// gravity 9.80665 m/s^2.
+    #[arg(long, value_name = "D", allow_hyphen_values = true)]
+    latitude_deg: Option<f32>,
+    /// Stop at the first bad row with exit code 2 instead of skipping it.
+    #[arg(long)]
+    strict: bool,
+    /// Print nothing but errors.
+    #[arg(long)]
+    quiet: bool,
+}
+
+const AFTER_HELP: &str = "\
+Input columns: time_s (required), pressure_pa (required), temperature_c, humidity_pct,
+accel_up_mps2, known_altitude_m. Lines starting with # are comments.
+Output columns: time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
+ascent_m,descent_m,flags.
+A bad row (wrong field count, unparsable or non-physical value, time not after the
+previous row) is reported with its line number and skipped, or stops the run with
+--strict (exit 2). Exit codes: 0 ok, 1 usage or I/O error, 2 bad row with --strict,
+3 no usable row.
+Not certified for aviation, navigation or life-safety use (see SAFETY.md).";
+
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum PresetArg {
+    Balloon,
+    Drone,
+    Hike,
+}
+
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum ModelArg {
+    Standard,
+    Sounding,
+}
+
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum FilterArg {
+    On,
+    Off,
+}
+
+/// Profile capacity of the host pipeline (balloon descent profile).
+const PROFILE_LEVELS: usize = 512;
+
+/// A parsed input row.
+#[derive(Debug, Clone, Copy)]
+struct Row {
+    /// Line of the input file the row came from.
+    #[allow(dead_code)]
+    line: u64,
+    time_s: f64,
+    pressure_pa: Option<f32>,
+    temperature_c: Option<f32>,
+    humidity_pct: Option<f32>,
+    accel_up_mps2: Option<f32>,
+    known_altitude_m: Option<f32>,
+}
+
+/// Why a run failed.
+#[derive(Debug)]
+enum Failure {
+    Usage(String),
+    Io(String),
+    StrictRow(String),
+    NoRows(String),
+}
+
+impl Failure {
+    fn code(&self) -> u8 {
+        match self {
+            Failure::Usage(_) | Failure::Io(_) => 1,
+            Failure::StrictRow(_) => 2,
+            Failure::NoRows(_) => 3,
+        }
+    }
+    fn message(&self) -> &str {
+        match self {
+            Failure::Usage(m) | Failure::Io(m) | Failure::StrictRow(m) | Failure::NoRows(m) => m,
+        }
+    }
+}
+
+/// What one replay produced.
+#[derive(Debug, Default)]
+struct Replay {
+    outputs: Vec<(Row, Output)>,
+    accel_rows: usize,
+    rejected: BTreeMap<String, usize>,
+    messages: Vec<String>,
+    flag_counts: BTreeMap<&'static str, usize>,
+    events: Vec<(String, f64, f32)>,
+}
+
+const COLUMNS: [&str; 6] = [
+    "time_s",
+    "pressure_pa",
+    "temperature_c",
+    "humidity_pct",
+    "accel_up_mps2",
+    "known_altitude_m",
+];
+
+fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
+    let mut s = match cli.preset {
+        PresetArg::Balloon => Settings::balloon(),
+        PresetArg::Drone => Settings::drone(),
+        PresetArg::Hike => Settings::hike(),
+    };
+    match cli.model {
+        Some(ModelArg::Standard) => s.model = HeightModel::Standard,
+        Some(ModelArg::Sounding) => {
+            s.model = HeightModel::Sounding {
+                descent_on_profile: true,
+            }
+        }
+        None => {}
+    }
+    if cli.filter == FilterArg::Off {
+        s.estimator = Estimator::Off;
+    }
+    if cli.start_altitude_m.is_some() {
+        s.start_altitude_m = cli.start_altitude_m;
+    }
+    s.latitude_deg = cli.latitude_deg;
+    // The replay accepts every physical pressure; the presets' narrower ranges are
+    // for firmware plausibility checks.
+    s.pressure_range_pa = (
+        isohypse::atmosphere::US_1976.top_pressure_pa(),
+        isohypse::atmosphere::US_1976.bottom_pressure_pa(),
+    );
+    s.validate()
+        .map_err(|e| Failure::Usage(format!("invalid settings: {e}")))?;
+    Ok(s)
+}
+
+/// Parse an optional numeric cell; `Err` names the problem.
+fn cell(text: Option<&str>, name: &str) -> Result<Option<f64>, String> {
+    match text.map(str::trim) {
+        None | Some("") => Ok(None),
+        Some(t) => match t.parse::<f64>() {
+            Ok(v) if v.is_finite() => Ok(Some(v)),
+            Ok(_) => Err(format!("{name} is not finite: '{t}'")),
+            Err(_) => Err(format!("{name} is not a number: '{t}'")),
+        },
+    }
+}
+
+/// Check a row's values for physical sense. Returns the problem, if any.
+fn physical(row: &Row) -> Option<String> {
+    if let Some(p) = row.pressure_pa {
+        if p <= 0.0 {
+            return Some(format!("pressure_pa must be positive, got {p}"));
+        }
+        if p > 200_000.0 {
+            return Some(format!("pressure_pa {p} is above 2000 hPa"));
+        }
+    }
+    if let Some(t) = row.temperature_c {
+        if !(-173.15..=126.85).contains(&t) {
+            return Some(format!("temperature_c {t} outside 100..400 K"));
+        }
+    }
+    if let Some(h) = row.humidity_pct {
+        if !(0.0..=100.0).contains(&h) {
+            return Some(format!("humidity_pct {h} outside 0..100"));
+        }
+    }
+    if let Some(a) = row.accel_up_mps2 {
+        if a.abs() > 200.0 {
+            return Some(format!("accel_up_mps2 {a} beyond 200 m/s^2"));
+        }
+    }
+    if let Some(h) = row.known_altitude_m {
+        if !(-5_000.0..=90_000.0).contains(&h) {
+            return Some(format!("known_altitude_m {h} outside -5 km..90 km"));
+        }
+    }
+    None
+}
+
+/// Read and validate the log; run every accepted row through the pipeline.
+fn replay(text: &str, settings: Settings, strict: bool) -> Result<Replay, Failure> {
+    let mut pipeline = Pipeline::<PROFILE_LEVELS>::new(settings)
+        .map_err(|e| Failure::Usage(format!("invalid settings: {e}")))?;
+    let mut reader = csv::ReaderBuilder::new()
+        .comment(Some(b'#'))
+        .flexible(true)
+        .trim(csv::Trim::All)
+        .from_reader(text.as_bytes());
+    let headers = match reader.headers() {
+        Ok(h) if !h.is_empty() && !(h.len() == 1 && h.get(0) == Some("")) => h.clone(),
+        Ok(_) => return Err(Failure::NoRows("empty file: no header row".into())),
+        Err(e) => return Err(Failure::NoRows(format!("cannot read the header row: {e}"))),
+    };
+    let index: Vec<Option<usize>> = COLUMNS
+        .iter()
+        .map(|c| headers.iter().position(|h| h == *c))
+        .collect();
+    for (required, idx) in COLUMNS.iter().zip(&index).take(2) {
+        if idx.is_none() {
+            return Err(Failure::NoRows(format!(
+                "missing required column '{required}' (header: {})",
+                headers.iter().collect::<Vec<_>>().join(",")
+            )));
+        }
+    }
+    let width = headers.len();
+    let mut out = Replay::default();
+    let mut last_time: Option<f64> = None;
+    let reject = |out: &mut Replay, line: u64, reason: &str, detail: String| {
+        let message = format!("line {line}: {detail}");
+        *out.rejected.entry(reason.to_string()).or_default() += 1;
+        if strict {
+            return Err(Failure::StrictRow(message));
+        }
+        out.messages.push(message);
+        Ok(())
+    };
+    for record in reader.records() {
+        let record = match record {
+            Ok(r) => r,
+            Err(e) => {
+                let line = e.position().map_or(0, |p| p.line());
+                reject(
+                    &mut out,
+                    line,
+                    "unreadable row",
+                    format!("unreadable row: {e}"),
+                )?;
+                continue;
+            }
+        };
+        let line = record.position().map_or(0, |p| p.line());
+        if record.len() != width {
+            reject(
+                &mut out,
+                line,
+                "wrong number of fields",
+                format!("{} fields, the header has {width}", record.len()),
+            )?;
+            continue;
+        }
+        let get = |i: usize| index.get(i).copied().flatten().and_then(|k| record.get(k));
+        let parsed = (|| -> Result<Row, String> {
+            let time_s = cell(get(0), "time_s")?.ok_or("time_s is empty")?;
+            let f = |i: usize| -> Result<Option<f32>, String> {
+                Ok(cell(get(i), COLUMNS.get(i).copied().unwrap_or("?"))?.map(|v| v as f32))
+            };
+            Ok(Row {
+                line,
+                time_s,
+                pressure_pa: f(1)?,
+                temperature_c: f(2)?,
+                humidity_pct: f(3)?,
+                accel_up_mps2: f(4)?,
+                known_altitude_m: f(5)?,
+            })
+        })();
+        let row = match parsed {
+            Ok(r) => r,
+            Err(problem) => {
+                reject(&mut out, line, "unparsable value", problem)?;
+                continue;
+            }
+        };
+        if row.pressure_pa.is_none() && row.accel_up_mps2.is_none() {
+            reject(
+                &mut out,
+                line,
+                "missing pressure",
+                "pressure_pa is empty".into(),
+            )?;
+            continue;
+        }
+        if let Some(problem) = physical(&row) {
+            reject(&mut out, line, "non-physical value", problem)?;
+            continue;
+        }
+        if let Some(t) = last_time {
+            if row.time_s <= t {
+                reject(
+                    &mut out,
+                    line,
+                    "time not increasing",
+                    format!("time_s {} is not after the previous row's {t}", row.time_s),
+                )?;
+                continue;
+            }
+        }
+        last_time = Some(row.time_s);
+        match row.pressure_pa {
+            None => {
+                // accelerometer-only row
+                if let Some(a) = row.accel_up_mps2 {
+                    if pipeline.accelerometer(row.time_s, a).is_err() {
+                        *out.flag_counts.entry("accel_ignored").or_default() += 1;
+                    }
+                }
+                out.accel_rows += 1;
+            }
+            Some(p) => {
+                let sample = Sample {
+                    time_s: row.time_s,
+                    pressure_pa: p,
+                    temperature_c: row.temperature_c,
+                    humidity_pct: row.humidity_pct,
+                    accel_up_mps2: row.accel_up_mps2,
+                    known_altitude_m: row.known_altitude_m,
+                };
+                let o = pipeline.process(&sample);
+                for name in o.flags.names() {
+                    *out.flag_counts.entry(name).or_default() += 1;
+                }
+                if let Some(e) = o.event {
+                    out.events
+                        .push((e.phase.name().to_string(), e.time_s, e.height_m));
+                }
+                out.outputs.push((row, o));
+            }
+        }
+    }
+    if out.outputs.is_empty() {
+        return Err(Failure::NoRows("no usable row with a pressure".into()));
+    }
+    Ok(out)
+}
+
+fn write_output(path: &Path, replay: &Replay) -> Result<(), Failure> {
+    let io = |e: std::io::Error| Failure::Io(format!("{}: {e}", path.display()));
+    let mut f = std::io::BufWriter::new(fs::File::create(path).map_err(io)?);
+    writeln!(
+        f,
+        "time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,ascent_m,descent_m,flags"
+    )
+    .map_err(io)?;
+    for (row, o) in &replay.outputs {
+        let flags: Vec<&str> = o.flags.names().collect();
+        writeln!(
+            f,
+            "{},{},{:.3},{:.3},{:.3},{},{:.2},{:.2},{}",
+            row.time_s,
+            row.pressure_pa.unwrap_or(f32::NAN),
+            o.altitude_m,
+            o.vertical_speed_mps,
+            o.altitude_sigma_m,
+            o.phase.name(),
+            o.ascent_m,
+            o.descent_m,
+            flags.join("|")
+        )
+        .map_err(io)?;
+    }
+    f.flush().map_err(io)
+}
+
+fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> String {
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    let accepted: Vec<&(Row, Output)> = replay
+        .outputs
+        .iter()
+        .filter(|(_, o)| o.accepted())
+        .collect();
+    let _ = writeln!(s, "== {name} ==");
+    let _ = writeln!(
+        s,
+        "model: {:?}; estimator: {}; start altitude: {}; latitude: {}",
+        settings.model,
+        match settings.estimator {
+            Estimator::Off => "off",
+            Estimator::Kalman(_) => "kalman",
+        },
+        settings
+            .start_altitude_m
+            .map_or("none (pressure altitude)".to_string(), |h| format!("{h} m")),
+        settings
+            .latitude_deg
+            .map_or("none (standard gravity)".to_string(), |d| format!(
+                "{d} deg"
+            )),
+    );
+    let _ = writeln!(
+        s,
+        "rows: {} barometer rows in output, {} accelerometer-only rows, {} rejected",
+        replay.outputs.len(),
+        replay.accel_rows,
+        replay.rejected.values().sum::<usize>()
+    );
+    for (reason, n) in &replay.rejected {
+        let _ = writeln!(s, "  rejected ({reason}): {n}");
+    }
+    if let Some((row, top)) = accepted
+        .iter()
+        .max_by(|a, b| a.1.altitude_m.total_cmp(&b.1.altitude_m))
+    {
+        let _ = writeln!(s, "top: {:.1} m at t = {:.1} s", top.altitude_m, row.time_s);
+    }
+    if let Some((_, last)) = replay.outputs.last() {
+        let _ = writeln!(
+            s,
+            "totals: ascent {:.1} m, descent {:.1} m; final height {:.1} m; final phase {}",
+            last.ascent_m,
+            last.descent_m,
+            last.altitude_m,
+            last.phase.name()
+        );
+        if let Some(t) = last.tendency_hpa {
+            let _ = writeln!(s, "3-hour pressure tendency: {t:+.2} hPa");
+        }
+    }
+    if replay.events.is_empty() {
+        let _ = writeln!(s, "phases: no phase change");
+    } else {
+        let _ = writeln!(s, "phases:");
+        for (phase, t, h) in &replay.events {
+            let _ = writeln!(s, "  {phase:<8} from t = {t:.1} s at {h:.1} m");
+        }
+    }
+    if !replay.flag_counts.is_empty() {
+        let list: Vec<String> = replay
+            .flag_counts
+            .iter()
+            .map(|(k, v)| format!("{k} {v}"))
+            .collect();
+        let _ = writeln!(s, "flags: {}", list.join(", "));
+    }
+    s
+}
+
+fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<(), Failure> {
+    use plotters::prelude::*;
+    let fail = |e: String| Failure::Io(format!("{}: plot: {e}", path.display()));
+    let pts: Vec<(f64, f64, f64, f64, f64)> = replay
+        .outputs
+        .iter()
+        .filter(|(_, o)| o.accepted())
+        .map(|(r, o)| {
+            (
+                r.time_s,
+                o.raw_altitude_m as f64,
+                o.altitude_m as f64,
+                o.vertical_speed_mps as f64,
+                o.ascent_m as f64,
+            )
+        })
+        .collect();
+    if pts.is_empty() {
+        return Err(fail("no accepted rows to plot".into()));
+    }
+    let (t0, t1) = pts
+        .iter()
+        .fold((f64::MAX, f64::MIN), |(a, b), p| (a.min(p.0), b.max(p.0)));
+    let t1 = if t1 > t0 { t1 } else { t0 + 1.0 };
+    let range = |f: &dyn Fn(&(f64, f64, f64, f64, f64)) -> f64| {
+        let (lo, hi) = pts
+            .iter()
+            .fold((f64::MAX, f64::MIN), |(a, b), p| (a.min(f(p)), b.max(f(p))));
+        let pad = ((hi - lo) * 0.05).max(0.5);
+        (lo - pad)..(hi + pad)
+    };
+    let h_lo_range = range(&|p| p.1.min(p.2));
+    let h_hi_range = range(&|p| p.1.max(p.2));
+    let h_range = h_lo_range.start..h_hi_range.end;
+    let v_range = range(&|p| p.3);
+    let root = SVGBackend::new(path, (1000, 700)).into_drawing_area();
+    root.fill(&WHITE).map_err(|e| fail(e.to_string()))?;
+    let (upper, lower) = root.split_vertically(430);
+    let mut chart = ChartBuilder::on(&upper)
+        .caption(format!("{title}: height"), ("sans-serif", 20))
+        .margin(10)
+        .x_label_area_size(35)
+        .y_label_area_size(70)
+        .build_cartesian_2d(t0..t1, h_range)
+        .map_err(|e| fail(e.to_string()))?;
+    chart
+        .configure_mesh()
+        .x_desc("time (s)")
+        .y_desc("height (m)")
+        .draw()
+        .map_err(|e| fail(e.to_string()))?;
+    chart
+        .draw_series(LineSeries::new(
+            pts.iter().map(|p| (p.0, p.1)),
+            RGBColor(170, 170, 170),
+        ))
+        .map_err(|e| fail(e.to_string()))?
+        .label("raw (this sample alone)")
+        .legend(|(x, y)| PathElement::new([(x, y), (x + 20, y)], RGBColor(170, 170, 170)));
+    chart
+        .draw_series(LineSeries::new(
+            pts.iter().map(|p| (p.0, p.2)),
+            BLUE.stroke_width(2),
+        ))
+        .map_err(|e| fail(e.to_string()))?
+        .label("filtered")
+        .legend(|(x, y)| PathElement::new([(x, y), (x + 20, y)], BLUE));
+    let (h_lo, h_hi) = (chart.y_range().start, chart.y_range().end);
+    for (k, (phase, t, _)) in replay.events.iter().enumerate() {
+        // stagger the labels so that close events stay readable
+        let label_y = h_hi - (h_hi - h_lo) * (0.04 + 0.05 * (k % 3) as f64);
+        chart
+            .draw_series(LineSeries::new([(*t, h_lo), (*t, h_hi)], RED.mix(0.6)))
+            .map_err(|e| fail(e.to_string()))?;
+        chart
+            .draw_series([Text::new(
+                phase.clone(),
+                (*t, label_y),
+                ("sans-serif", 13).into_font().color(&RED),
+            )])
+            .map_err(|e| fail(e.to_string()))?;
+    }
+    chart
+        .configure_series_labels()
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .draw()
+        .map_err(|e| fail(e.to_string()))?;
+    let mut vchart = ChartBuilder::on(&lower)
+        .caption("vertical speed and total ascent", ("sans-serif", 18))
+        .margin(10)
+        .x_label_area_size(35)
+        .y_label_area_size(70)
+        .right_y_label_area_size(70)
+        .build_cartesian_2d(t0..t1, v_range)
+        .map_err(|e| fail(e.to_string()))?
+        .set_secondary_coord(t0..t1, range(&|p| p.4));
+    vchart
+        .configure_mesh()
+        .x_desc("time (s)")
+        .y_desc("vertical speed (m/s)")
+        .draw()
+        .map_err(|e| fail(e.to_string()))?;
+    vchart
+        .configure_secondary_axes()
+        .y_desc("total ascent (m)")
+        .draw()
+        .map_err(|e| fail(e.to_string()))?;
+    vchart
+        .draw_series(LineSeries::new(
+            pts.iter().map(|p| (p.0, p.3)),
+            GREEN.stroke_width(2),
+        ))
+        .map_err(|e| fail(e.to_string()))?
+        .label("vertical speed")
+        .legend(|(x, y)| PathElement::new([(x, y), (x + 20, y)], GREEN));
+    vchart
+        .draw_secondary_series(LineSeries::new(pts.iter().map(|p| (p.0, p.4)), MAGENTA))
+        .map_err(|e| fail(e.to_string()))?
+        .label("total ascent")
+        .legend(|(x, y)| PathElement::new([(x, y), (x + 20, y)], MAGENTA));
+    vchart
+        .configure_series_labels()
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .draw()
+        .map_err(|e| fail(e.to_string()))?;
+    root.present().map_err(|e| fail(e.to_string()))?;
+    Ok(())
+}
+
+/// Run one log and write its files; returns the summary text.
+fn run_one(
+    name: &str,
+    text: &str,
+    cli: &Cli,
+    out: &Path,
+    plot: &Path,
+    summary: &Path,
+) -> Result<String, Failure> {
+    let settings = settings_for(cli)?;
+    let result = replay(text, settings, cli.strict)?;
+    if !cli.quiet {
+        for m in result.messages.iter().take(20) {
+            eprintln!("{name}: {m}");
+        }
+        if result.messages.len() > 20 {
+            eprintln!("{name}: ... {} more bad rows", result.messages.len() - 20);
+        }
+    }
+    write_output(out, &result)?;
+    write_plot(plot, name, &result)?;
+    let mut text = summary_text(name, &settings, &result);
+    text.push_str(&format!(
+        "files: {} {} {}\n",
+        out.display(),
+        plot.display(),
+        summary.display()
+    ));
+    fs::write(summary, &text).map_err(|e| Failure::Io(format!("{}: {e}", summary.display())))?;
+    Ok(text)
+}
+
+/// The built-in demo logs with the settings their scenario calls for (the invented
+/// sites of examples/sim: the balloon field at 64.2 N, 310 m; the drone yard; the ridge
+/// walk starting at 652 m).
+const DEMOS: [(&str, &str, PresetArg, Option<f32>, Option<f32>); 3] = [
+    (
+        "balloon",
+        include_str!("data/balloon.csv"),
+        PresetArg::Balloon,
+        Some(64.2),
+        Some(310.0),
+    ),
+    (
+        "drone",
+        include_str!("data/drone.csv"),
+        PresetArg::Drone,
+        None,
+        Some(0.0),
+    ),
+    (
+        "hike",
+        include_str!("data/hike.csv"),
+        PresetArg::Hike,
+        None,
+        None,
+    ),
+];
+
+fn run(cli: &Cli) -> Result<(), Failure> {
+    match &cli.input {
+        Some(input) => {
+            let text = fs::read_to_string(input)
+                .map_err(|e| Failure::Io(format!("{}: {e}", input.display())))?;
+            let with = |ext: &str| PathBuf::from(format!("{}.{ext}", input.display()));
+            let out = cli.out.clone().unwrap_or_else(|| with("out.csv"));
+            let plot = cli.plot.clone().unwrap_or_else(|| with("svg"));
+            let summary = cli.summary.clone().unwrap_or_else(|| with("summary.txt"));
+            let name = input
+                .file_stem()
+                .map_or("log".to_string(), |s| s.to_string_lossy().into_owned());
+            let text = run_one(&name, &text, cli, &out, &plot, &summary)?;
+            if !cli.quiet {
+                print!("{text}");
+            }
+        }
+        None => {
+            fs::create_dir_all(&cli.out_dir)
+                .map_err(|e| Failure::Io(format!("{}: {e}", cli.out_dir.display())))?;
+            for (name, text, preset, lat, start) in DEMOS {
+                let demo_cli = Cli {
+                    preset,
+                    latitude_deg: cli.latitude_deg.or(lat),
+                    start_altitude_m: cli.start_altitude_m.or(start),
+                    input: None,
+                    out: None,
+                    plot: None,
+                    summary: None,
+                    out_dir: cli.out_dir.clone(),
+                    model: cli.model,
+                    filter: cli.filter,
+                    strict: cli.strict,
+                    quiet: cli.quiet,
+                };
+                let dir = &cli.out_dir;
+                let text = run_one(
+                    name,
+                    text,
+                    &demo_cli,
+                    &dir.join(format!("{name}.out.csv")),
+                    &dir.join(format!("{name}.svg")),
+                    &dir.join(format!("{name}.summary.txt")),
+                )?;
+                if !cli.quiet {
+                    println!("{text}");
+                }
+            }
+            if !cli.quiet {
+                println!(
+                    "demo run done: output CSV, SVG plot and summary of each log are in {}",
+                    cli.out_dir.display()
+                );
+            }
+        }
+    }
+    Ok(())
+}
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 1 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    match run(&cli) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(f) => {
+            eprintln!("error: {}", f.message());
+            ExitCode::from(f.code())
+        }
+    }
+}

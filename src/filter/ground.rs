@@ -1,0 +1,270 @@
+//! Ground reference: the mean height at rest before take-off.
+
+use super::step_s;
+use crate::{Error, Height};
+
+/// When a [`GroundReference`] has seen enough samples to be trusted.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct GroundReferenceConfig {
+    /// Fewest samples averaged before the reference is ready (>= 2). A single sample
+    /// carries the full sensor noise and is never a reference.
+    pub min_samples: u32,
+    /// Shortest span of time, first to last sample, before the reference is ready
+    /// (s, >= 0).
+    pub min_duration_s: f32,
+}
+
+impl Default for GroundReferenceConfig {
+    /// 50 samples over at least 1 s: with 0.125 m baro noise (1.5 Pa) the mean is good
+    /// to about 0.125 / sqrt(50) = 1.8 cm (1-sigma) (choice of this crate).
+    fn default() -> Self {
+        Self {
+            min_samples: 50,
+            min_duration_s: 1.0,
+        }
+    }
+}
+
+/// The ground reference: averages the heights measured at rest before take-off and
+/// reports heights above it.
+///
+/// Use: while the vehicle sits on the ground, feed every height sample with
+/// [`Self::push`]; at take-off call [`Self::arm`], which fixes the reference (and fails
+/// with [`Error::NotEnoughData`] until the configured number of samples and time span
+/// have been seen); then [`Self::height_above`] reports heights above the ground.
+/// [`Self::rezero`] starts a new average (for example after landing somewhere else).
+///
+/// The mean is `h_ref = h_first + sum(h_i - h_first) / n`, the sum compensated
+/// (Neumaier 1974) so that a long wait does not lose precision.
+///
+/// * Time per sample: O(1).
+/// * State: 48 bytes on a 64-bit host (two `f64` times, five `f32`, a count, flags).
+///
+/// ```
+/// use isohypse::{filter::{GroundReference, GroundReferenceConfig}, Height};
+/// let mut g = GroundReference::new(GroundReferenceConfig { min_samples: 3, min_duration_s: 0.0 })?;
+/// for (t, h) in [(0.0, 120.1), (0.1, 119.9), (0.2, 120.0)] {
+///     g.push(t, Height::from_meters(h)?)?;
+/// }
+/// g.arm()?;
+/// let above = g.height_above(Height::from_meters(130.0)?)?;
+/// assert!((above.meters() - 10.0).abs() < 1e-4);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct GroundReference {
+    config: GroundReferenceConfig,
+    first_time_s: f64,
+    last_time_s: f64,
+    anchor_m: f32,
+    sum: f32,
+    comp: f32,
+    count: u32,
+    /// Fixed reference after [`Self::arm`].
+    armed_m: Option<f32>,
+}
+
+impl GroundReference {
+    /// A reference that collects samples until armed.
+    ///
+    /// Errors: [`Error::InvalidSetting`] for `min_samples < 2` or a negative or
+    /// non-finite `min_duration_s`.
+    pub fn new(config: GroundReferenceConfig) -> Result<Self, Error> {
+        if config.min_samples < 2
+            || !config.min_duration_s.is_finite()
+            || config.min_duration_s < 0.0
+        {
+            return Err(Error::InvalidSetting);
+        }
+        Ok(Self {
+            config,
+            first_time_s: 0.0,
+            last_time_s: 0.0,
+            anchor_m: 0.0,
+            sum: 0.0,
+            comp: 0.0,
+            count: 0,
+            armed_m: None,
+        })
+    }
+
+    /// Adds a height measured at rest at `time_s` (s). Ignored (returns `Ok(false)`)
+    /// once armed; `Ok(true)` when the sample was averaged.
+    ///
+    /// Errors: [`Error::NotFinite`], [`Error::NotIncreasing`] (time); the state is
+    /// unchanged.
+    pub fn push(&mut self, time_s: f64, height: Height) -> Result<bool, Error> {
+        let z = height.meters();
+        if self.count == 0 {
+            super::check_time(time_s)?;
+        } else {
+            step_s(self.last_time_s, time_s)?;
+        }
+        if self.armed_m.is_some() {
+            return Ok(false);
+        }
+        if self.count == 0 {
+            self.first_time_s = time_s;
+            self.anchor_m = z;
+        }
+        let d = z - self.anchor_m;
+        let t = self.sum + d;
+        let c = if self.sum.abs() >= d.abs() {
+            (self.sum - t) + d
+        } else {
+            (d - t) + self.sum
+        };
+        self.sum = t;
+        self.comp += c;
+        self.count = self.count.saturating_add(1);
+        self.last_time_s = time_s;
+        Ok(true)
+    }
+
+    /// Whether enough samples over a long enough span have been averaged.
+    pub fn is_ready(&self) -> bool {
+        self.count >= self.config.min_samples
+            && self.last_time_s - self.first_time_s >= f64::from(self.config.min_duration_s)
+    }
+
+    /// Mean of the samples averaged so far.
+    ///
+    /// Errors: [`Error::NotEnoughData`] until [`Self::is_ready`].
+    pub fn mean(&self) -> Result<Height, Error> {
+        if !self.is_ready() {
+            return Err(Error::NotEnoughData);
+        }
+        Height::from_meters(self.anchor_m + (self.sum + self.comp) / self.count as f32)
+    }
+
+    /// Fixes the reference at the current mean (call at take-off) and returns it.
+    /// Calling it again while armed returns the fixed reference.
+    ///
+    /// Errors: [`Error::NotEnoughData`] until [`Self::is_ready`]; the state is
+    /// unchanged.
+    pub fn arm(&mut self) -> Result<Height, Error> {
+        if let Some(r) = self.armed_m {
+            return Height::from_meters(r);
+        }
+        let r = self.mean()?;
+        self.armed_m = Some(r.meters());
+        Ok(r)
+    }
+
+    /// The fixed reference, `None` until armed.
+    pub fn reference(&self) -> Option<Height> {
+        self.armed_m.and_then(|r| Height::from_meters(r).ok())
+    }
+
+    /// Whether the reference is fixed.
+    pub const fn is_armed(&self) -> bool {
+        self.armed_m.is_some()
+    }
+
+    /// Number of samples averaged.
+    pub const fn sample_count(&self) -> u32 {
+        self.count
+    }
+
+    /// Height above the reference: `height - h_ref`. Uses the fixed reference when
+    /// armed, else the running mean once ready.
+    ///
+    /// Errors: [`Error::NotEnoughData`] before the reference is ready.
+    pub fn height_above(&self, height: Height) -> Result<Height, Error> {
+        let r = match self.armed_m {
+            Some(r) => r,
+            None => self.mean()?.meters(),
+        };
+        Height::from_meters(height.meters() - r)
+    }
+
+    /// Forgets the samples and the fixed reference and starts collecting again.
+    pub fn rezero(&mut self) {
+        let config = self.config;
+        *self = Self {
+            config,
+            first_time_s: 0.0,
+            last_time_s: 0.0,
+            anchor_m: 0.0,
+            sum: 0.0,
+            comp: 0.0,
+            count: 0,
+            armed_m: None,
+        };
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn h(m: f32) -> Height {
+        Height::from_meters(m).unwrap()
+    }
+
+    #[test]
+    fn single_sample_is_not_a_reference() {
+        let mut g = GroundReference::new(GroundReferenceConfig::default()).unwrap();
+        g.push(0.0, h(250.0)).unwrap();
+        assert!(!g.is_ready());
+        let before = g;
+        assert_eq!(g.arm(), Err(Error::NotEnoughData));
+        assert_eq!(g.height_above(h(260.0)), Err(Error::NotEnoughData));
+        assert_eq!(g, before);
+        assert_eq!(
+            GroundReference::new(GroundReferenceConfig {
+                min_samples: 1,
+                min_duration_s: 0.0
+            }),
+            Err(Error::InvalidSetting)
+        );
+    }
+
+    #[test]
+    fn needs_both_count_and_duration() {
+        let cfg = GroundReferenceConfig {
+            min_samples: 10,
+            min_duration_s: 2.0,
+        };
+        let mut g = GroundReference::new(cfg).unwrap();
+        // 20 samples in 0.19 s: enough samples, not enough time.
+        for k in 0..20 {
+            g.push(k as f64 * 0.01, h(100.0)).unwrap();
+        }
+        assert!(!g.is_ready());
+        g.push(2.5, h(100.0)).unwrap();
+        assert!(g.is_ready());
+    }
+
+    #[test]
+    fn averages_alternating_noise_and_rezeroes() {
+        // Mean of +-0.2 m around 431.7 m is 431.7 m (definition of the mean).
+        let mut g = GroundReference::new(GroundReferenceConfig::default()).unwrap();
+        for k in 0..100 {
+            let noise = if k % 2 == 0 { 0.2 } else { -0.2 };
+            g.push(k as f64 * 0.02, h(431.7 + noise)).unwrap();
+        }
+        let r = g.arm().unwrap();
+        assert!((r.meters() - 431.7).abs() < 1e-4);
+        // Samples after arming are ignored.
+        assert!(!g.push(3.0, h(500.0)).unwrap());
+        assert_eq!(g.reference(), Some(r));
+        assert!((g.height_above(h(441.7)).unwrap().meters() - 10.0).abs() < 1e-4);
+        g.rezero();
+        assert!(!g.is_armed());
+        assert_eq!(g.sample_count(), 0);
+        assert_eq!(g.reference(), None);
+    }
+
+    #[test]
+    fn bad_time_leaves_state_unchanged() {
+        let mut g = GroundReference::new(GroundReferenceConfig::default()).unwrap();
+        assert_eq!(g.push(f64::NAN, h(1.0)), Err(Error::NotFinite));
+        g.push(1.0, h(1.0)).unwrap();
+        let before = g;
+        assert_eq!(g.push(1.0, h(1.0)), Err(Error::NotIncreasing));
+        assert_eq!(g.push(f64::INFINITY, h(1.0)), Err(Error::NotFinite));
+        assert_eq!(g, before);
+    }
+}

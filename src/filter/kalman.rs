@@ -1,0 +1,871 @@
+//! Kalman filter over height, vertical speed and accelerometer bias.
+
+use crate::{Error, Height, VerticalSpeed};
+
+/// Settings of a [`VerticalKalman`]. All fields are in SI units; [`Default`] gives
+/// values for a small multirotor with a MEMS barometer and accelerometer.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct VerticalKalmanConfig {
+    /// 1-sigma noise of one barometric height sample, m (> 0).
+    pub baro_sigma_m: f32,
+    /// Accelerometer white-noise density, m/s^2/sqrt(Hz) (>= 0): the square root of the
+    /// two-sided power spectral density `q_a` of the acceleration noise. For white noise
+    /// of standard deviation `sigma` per sample at rate `fs`, held over each step, the
+    /// equivalent density is `sigma / sqrt(fs)`.
+    pub accel_noise_density: f32,
+    /// Accelerometer bias random walk, m/s^2/sqrt(s) (>= 0): the bias drifts by this much
+    /// (1-sigma) over one second.
+    pub bias_random_walk: f32,
+    /// White-acceleration density of the constant-velocity model used when no
+    /// accelerometer sample is fresh (baro-only operation), m/s^2/sqrt(Hz) (> 0). Sets
+    /// how quickly the filter believes the vertical speed can change.
+    pub baro_only_accel_density: f32,
+    /// 1-sigma of the vertical speed at start and after re-acquisition, m/s (> 0).
+    pub initial_speed_sigma_mps: f32,
+    /// 1-sigma of the accelerometer bias at start, m/s^2 (> 0).
+    pub initial_bias_sigma_mps2: f32,
+    /// Innovation gate on the normalised innovation squared `y^2 / S` (> 0). 10.83 is
+    /// the chi-square value for 1 degree of freedom at 99.9 % (NIST/SEMATECH
+    /// e-Handbook of Statistical Methods, critical values of the chi-square
+    /// distribution, upper tail 0.001, 1 degree of freedom: 10.828; section 1.3.6.7.4,
+    /// section number from memory).
+    pub gate_nis: f32,
+    /// Consecutive gate rejections after which the filter re-acquires: height reset to
+    /// the measurement (>= 1). A real, sudden change is then followed within this many
+    /// samples instead of being rejected for ever.
+    pub reacquire_after: u16,
+    /// Longest step integrated in one prediction, s (> 0). A longer gap is a dropout:
+    /// the state is propagated over at most this step and the next barometer sample
+    /// re-acquires. Must exceed the slowest normal sample interval.
+    pub max_step_s: f32,
+    /// An accelerometer sample older than this (s, > 0) is not used; predictions fall
+    /// back to the constant-velocity model.
+    pub accel_timeout_s: f32,
+    /// If no barometer sample was accepted for this long (s, > 0), the next one
+    /// re-acquires.
+    pub baro_timeout_s: f32,
+    /// Factor (>= 1) on `baro_sigma_m` while the user flags a disturbance
+    /// ([`VerticalKalman::set_baro_disturbed`]: propeller wash, ground effect).
+    pub disturbed_sigma_scale: f32,
+    /// Largest accepted magnitude of vertical acceleration, m/s^2 (> 0). Larger samples
+    /// are refused with [`Error::SampleOutOfRange`].
+    pub max_accel_mps2: f32,
+    /// Lowest accepted barometric height, m. Lower samples are refused with
+    /// [`Error::BelowModelBottom`].
+    pub min_height_m: f32,
+    /// Highest accepted barometric height, m. Higher samples are refused with
+    /// [`Error::AboveModelTop`].
+    pub max_height_m: f32,
+}
+
+impl Default for VerticalKalmanConfig {
+    /// Barometer 0.15 m (about 1.8 Pa near sea level), accelerometer 0.005 m/s^2/sqrt(Hz)
+    /// with a 0.001 m/s^2/sqrt(s) bias walk, 16 g limit, gate 10.83, re-acquire after
+    /// 10 rejections, dropout beyond 0.5 s, heights -5 km to 86 km (the U.S. 1976
+    /// range), disturbance factor 4 (choices of this crate).
+    fn default() -> Self {
+        Self {
+            baro_sigma_m: 0.15,
+            accel_noise_density: 0.005,
+            bias_random_walk: 0.001,
+            baro_only_accel_density: 0.5,
+            initial_speed_sigma_mps: 0.5,
+            initial_bias_sigma_mps2: 0.3,
+            gate_nis: 10.83,
+            reacquire_after: 10,
+            max_step_s: 0.5,
+            accel_timeout_s: 0.1,
+            baro_timeout_s: 1.0,
+            disturbed_sigma_scale: 4.0,
+            max_accel_mps2: 16.0 * crate::atmosphere::STANDARD_GRAVITY,
+            min_height_m: -5_000.0,
+            max_height_m: 86_000.0,
+        }
+    }
+}
+
+impl VerticalKalmanConfig {
+    /// Checks every field against its documented range.
+    ///
+    /// Errors: [`Error::InvalidSetting`].
+    pub fn validate(&self) -> Result<(), Error> {
+        let pos = |x: f32| x.is_finite() && x > 0.0;
+        let non_neg = |x: f32| x.is_finite() && x >= 0.0;
+        let ok = pos(self.baro_sigma_m)
+            && non_neg(self.accel_noise_density)
+            && non_neg(self.bias_random_walk)
+            && pos(self.baro_only_accel_density)
+            && pos(self.initial_speed_sigma_mps)
+            && pos(self.initial_bias_sigma_mps2)
+            && pos(self.gate_nis)
+            && self.reacquire_after >= 1
+            && pos(self.max_step_s)
+            && pos(self.accel_timeout_s)
+            && pos(self.baro_timeout_s)
+            && self.disturbed_sigma_scale.is_finite()
+            && self.disturbed_sigma_scale >= 1.0
+            && pos(self.max_accel_mps2)
+            && self.min_height_m.is_finite()
+            && self.max_height_m.is_finite()
+            && self.min_height_m < self.max_height_m;
+        if ok {
+            Ok(())
+        } else {
+            Err(Error::InvalidSetting)
+        }
+    }
+}
+
+/// What a barometer sample did to a [`VerticalKalman`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum KalmanOutcome {
+    /// First sample: the state was initialised from it.
+    Initialized,
+    /// Passed the gate and was used. `nis` is the normalised innovation squared.
+    Accepted {
+        /// Normalised innovation squared `y^2 / S`.
+        nis: f32,
+    },
+    /// Failed the gate (an outlier): the state was predicted to the sample's time but
+    /// not corrected. Counted in [`VerticalKalman::rejected_count`].
+    Rejected {
+        /// Normalised innovation squared `y^2 / S`.
+        nis: f32,
+    },
+    /// Re-acquired: height reset to this sample, after a dropout, a barometer timeout or
+    /// [`VerticalKalmanConfig::reacquire_after`] consecutive rejections.
+    Reacquired,
+}
+
+/// The estimate of a [`VerticalKalman`] at the time of its latest sample.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct VerticalEstimate {
+    /// Time of the estimate, s.
+    pub time_s: f64,
+    /// Height, m (same reference as the barometric heights fed in).
+    pub height: Height,
+    /// Vertical speed, positive up.
+    pub vertical_speed: VerticalSpeed,
+    /// Estimated accelerometer bias, m/s^2 (measured minus true acceleration).
+    pub accel_bias_mps2: f32,
+    /// 1-sigma of the height, m.
+    pub height_sigma_m: f32,
+    /// 1-sigma of the vertical speed, m/s.
+    pub speed_sigma_mps: f32,
+}
+
+/// Symmetric 3 x 3 covariance over (height, speed, bias), stored as its six distinct
+/// entries so that it is symmetric by construction.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Covariance {
+    hh: f32,
+    hv: f32,
+    hb: f32,
+    vv: f32,
+    vb: f32,
+    bb: f32,
+}
+
+/// The numeric state: mean and covariance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Core {
+    h: f32,
+    v: f32,
+    b: f32,
+    p: Covariance,
+}
+
+impl Core {
+    fn is_finite(&self) -> bool {
+        let p = &self.p;
+        [self.h, self.v, self.b, p.hh, p.hv, p.hb, p.vv, p.vb, p.bb]
+            .iter()
+            .all(|x| x.is_finite())
+    }
+}
+
+/// Largest variances kept (m^2, (m/s)^2, (m/s^2)^2). Beyond them the covariance is
+/// reset to a diagonal at these limits and the next barometer sample re-acquires.
+/// They only matter after very long gaps (choice of this crate).
+const MAX_VAR_HEIGHT: f32 = 1.0e8;
+const MAX_VAR_SPEED: f32 = 1.0e4;
+const MAX_VAR_BIAS: f32 = 1.0e2;
+
+/// Kalman filter for height hold: height, vertical speed and accelerometer bias from a
+/// barometer and an earth-frame vertical accelerometer arriving asynchronously.
+///
+/// # Model
+///
+/// State `x = [h, v, b]` (m, m/s, m/s^2); the accelerometer reads
+/// `a_m = a + b + w_a` (gravity already removed, positive up) and the bias walks,
+/// `db/dt = w_b`. Prediction over a step `dt` with the latest accelerometer sample:
+///
+/// ```text
+/// h += v dt + (a_m - b) dt^2 / 2        F = | 1  dt  -dt^2/2 |
+/// v += (a_m - b) dt                         | 0  1   -dt     |
+/// P  = F P F^T + Q                          | 0  0    1      |
+/// ```
+///
+/// with `Q` the exact discretisation of the continuous white noises (Bar-Shalom, Li &
+/// Kirubarajan, *Estimation with Applications to Tracking and Navigation*, 2001,
+/// sec. 6.2.2, from memory; bias terms by the same integral
+/// `Q = int_0^dt Phi(s) G q G^T Phi(s)^T ds`):
+/// acceleration noise `q_a = density^2` adds `q_a [dt^3/3, dt^2/2; dt^2/2, dt]` to the
+/// (h, v) block; bias walk `q_b` adds `dt^5/20, dt^4/8, -dt^3/6, dt^3/3, -dt^2/2, dt` to
+/// (hh, hv, hb, vv, vb, bb).
+///
+/// Without a fresh accelerometer sample (baro-only, or an accelerometer dropout) the
+/// prediction is the constant-velocity model: `a = 0`, no bias coupling,
+/// `q_a = baro_only_accel_density^2`, the bias held with its walk.
+///
+/// Correction with barometric height `z`, `H = [1 0 0]`, `R = sigma^2` (times
+/// `disturbed_sigma_scale^2` while disturbed): innovation `y = z - h`,
+/// `S = P_hh + R`, `K = P H^T / S`, and the Joseph form
+/// `P = (I - K H) P (I - K H)^T + K R K^T` (Bucy & Joseph 1968, *Filtering for
+/// Stochastic Processes with Applications to Guidance*; see also Bar-Shalom et al. 2001,
+/// sec. 5.2.3, from memory), which stays positive semi-definite under rounding; only the
+/// six distinct entries are stored, so `P` is symmetric by construction. All in `f32`.
+///
+/// # Gating and re-acquisition
+///
+/// A sample with `y^2 / S > gate_nis` is rejected and counted. After `reacquire_after`
+/// consecutive rejections, after a gap longer than `max_step_s`, or when no sample has
+/// been accepted for `baro_timeout_s`, the next sample re-acquires: `h = z`,
+/// `P_hh = R`, height cross-covariances zero, speed variance at least its initial value.
+///
+/// # Time
+///
+/// Time stamps are `f64` seconds (see the [module docs](super)). Each stream must be
+/// strictly increasing, and samples must be fed in time order: a sample older than the
+/// latest one of either stream is refused ([`Error::NotIncreasing`]); equal times of the
+/// two streams are fine. Heights are `f32` metres: resolution 61 um at 500 m, 4 mm at
+/// 30 km.
+///
+/// # Cost
+///
+/// O(1) per sample, no `exp` or `sqrt` (only in [`Self::estimate`]). State: see
+/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 168 bytes on a 64-bit
+/// host, of which 60 are the configuration).
+///
+/// ```
+/// use isohypse::{filter::{KalmanOutcome, VerticalKalman, VerticalKalmanConfig}, Height};
+/// let mut kf = VerticalKalman::new(VerticalKalmanConfig::default())?;
+/// assert_eq!(kf.correct(0.0, Height::from_meters(120.0)?)?, KalmanOutcome::Initialized);
+/// for k in 1..=100 {
+///     let t = k as f64 * 0.005;
+///     kf.predict(t, 0.0)?; // at rest: zero vertical acceleration
+///     if k % 4 == 0 {
+///         kf.correct(t, Height::from_meters(120.0)?)?;
+///     }
+/// }
+/// let e = kf.estimate().unwrap();
+/// assert!((e.height.meters() - 120.0).abs() < 0.01);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct VerticalKalman {
+    config: VerticalKalmanConfig,
+    core: Core,
+    /// Time of `core`, s; meaningful once initialised.
+    time_s: f64,
+    /// Latest accelerometer sample (time, value).
+    last_accel: Option<(f64, f32)>,
+    /// Time of the latest barometer sample, accepted or not.
+    last_baro_s: Option<f64>,
+    /// Time of the latest accepted barometer sample.
+    last_accepted_baro_s: f64,
+    initialized: bool,
+    disturbed: bool,
+    reacquire_pending: bool,
+    consecutive_rejections: u16,
+    rejected: u32,
+    reacquisitions: u32,
+}
+
+impl VerticalKalman {
+    /// A filter waiting for its first barometer sample.
+    ///
+    /// Errors: [`Error::InvalidSetting`] (see [`VerticalKalmanConfig::validate`]).
+    pub fn new(config: VerticalKalmanConfig) -> Result<Self, Error> {
+        config.validate()?;
+        Ok(Self {
+            config,
+            core: Core {
+                h: 0.0,
+                v: 0.0,
+                b: 0.0,
+                p: Covariance {
+                    hh: 0.0,
+                    hv: 0.0,
+                    hb: 0.0,
+                    vv: 0.0,
+                    vb: 0.0,
+                    bb: 0.0,
+                },
+            },
+            time_s: 0.0,
+            last_accel: None,
+            last_baro_s: None,
+            last_accepted_baro_s: 0.0,
+            initialized: false,
+            disturbed: false,
+            reacquire_pending: false,
+            consecutive_rejections: 0,
+            rejected: 0,
+            reacquisitions: 0,
+        })
+    }
+
+    /// The settings in use.
+    pub const fn config(&self) -> &VerticalKalmanConfig {
+        &self.config
+    }
+
+    /// Prediction with an accelerometer sample: earth-frame vertical acceleration
+    /// `accel_up_mps2` (m/s^2, gravity removed, positive up) taken at `time_s` (s).
+    /// The sample is taken as the mean acceleration over the step since the previous
+    /// sample of either stream, and is held for the prediction to the next barometer
+    /// sample. Before the first barometer sample it is only remembered.
+    ///
+    /// Errors, state unchanged: [`Error::NotFinite`] (value or time),
+    /// [`Error::SampleOutOfRange`] (|a| above `max_accel_mps2`), [`Error::NotIncreasing`]
+    /// (time not after the previous accelerometer sample, or before the latest
+    /// barometer sample).
+    pub fn predict(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
+        let t = super::check_time(time_s)?;
+        if !accel_up_mps2.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        if accel_up_mps2.abs() > self.config.max_accel_mps2 {
+            return Err(Error::SampleOutOfRange);
+        }
+        if let Some((last, _)) = self.last_accel {
+            if t <= last {
+                return Err(Error::NotIncreasing);
+            }
+        }
+        if !self.initialized {
+            if let Some(last) = self.last_baro_s {
+                if t < last {
+                    return Err(Error::NotIncreasing);
+                }
+            }
+            self.last_accel = Some((t, accel_up_mps2));
+            return Ok(());
+        }
+        if t < self.time_s {
+            return Err(Error::NotIncreasing);
+        }
+        let dt = (t - self.time_s).min(1.0e30) as f32;
+        let (core, dropout) = self.propagate(dt, Some(accel_up_mps2))?;
+        self.core = core;
+        self.reacquire_pending |= dropout;
+        self.time_s = t;
+        self.last_accel = Some((t, accel_up_mps2));
+        Ok(())
+    }
+
+    /// Correction with a barometric height `height` (m, any fixed reference, e.g.
+    /// pressure altitude) taken at `time_s` (s). The state is first predicted to
+    /// `time_s` with the latest accelerometer sample if it is fresh, else with the
+    /// constant-velocity model.
+    ///
+    /// Errors, state unchanged: [`Error::NotFinite`] (time),
+    /// [`Error::BelowModelBottom`] / [`Error::AboveModelTop`] (height outside
+    /// `min_height_m..=max_height_m`), [`Error::NotIncreasing`] (time not after the
+    /// previous barometer sample, or before the latest accelerometer sample).
+    pub fn correct(&mut self, time_s: f64, height: Height) -> Result<KalmanOutcome, Error> {
+        let r = self.measurement_variance();
+        self.correct_with_variance(time_s, height, r)
+    }
+
+    /// Like [`Self::correct`], with this sample's own 1-sigma height noise `sigma_m`
+    /// (m, > 0) in place of [`VerticalKalmanConfig::baro_sigma_m`]; the disturbance
+    /// factor still applies. Barometric height noise grows as pressure falls
+    /// (`sigma_h = (R T / (g p)) sigma_p`, hypsometric equation): a balloon at 30 km
+    /// sees about 80 times the height noise it saw on the ground for the same sensor.
+    ///
+    /// Errors: [`Error::InvalidSetting`] for a `sigma_m` that is not finite and positive;
+    /// otherwise as [`Self::correct`]. The state is unchanged on error.
+    pub fn correct_with_sigma(
+        &mut self,
+        time_s: f64,
+        height: Height,
+        sigma_m: f32,
+    ) -> Result<KalmanOutcome, Error> {
+        if !(sigma_m.is_finite() && sigma_m > 0.0) {
+            return Err(Error::InvalidSetting);
+        }
+        let scale = if self.disturbed {
+            self.config.disturbed_sigma_scale
+        } else {
+            1.0
+        };
+        let sigma = sigma_m * scale;
+        self.correct_with_variance(time_s, height, sigma * sigma)
+    }
+
+    fn correct_with_variance(
+        &mut self,
+        time_s: f64,
+        height: Height,
+        r: f32,
+    ) -> Result<KalmanOutcome, Error> {
+        let t = super::check_time(time_s)?;
+        let z = height.meters();
+        if z < self.config.min_height_m {
+            return Err(Error::BelowModelBottom);
+        }
+        if z > self.config.max_height_m {
+            return Err(Error::AboveModelTop);
+        }
+        if let Some(last) = self.last_baro_s {
+            if t <= last {
+                return Err(Error::NotIncreasing);
+            }
+        }
+        if let Some((last, _)) = self.last_accel {
+            if t < last {
+                return Err(Error::NotIncreasing);
+            }
+        }
+        if !self.initialized {
+            let c = &self.config;
+            self.core = Core {
+                h: z,
+                v: 0.0,
+                b: 0.0,
+                p: Covariance {
+                    hh: r,
+                    hv: 0.0,
+                    hb: 0.0,
+                    vv: c.initial_speed_sigma_mps * c.initial_speed_sigma_mps,
+                    vb: 0.0,
+                    bb: c.initial_bias_sigma_mps2 * c.initial_bias_sigma_mps2,
+                },
+            };
+            self.time_s = t;
+            self.last_baro_s = Some(t);
+            self.last_accepted_baro_s = t;
+            self.initialized = true;
+            return Ok(KalmanOutcome::Initialized);
+        }
+        if t < self.time_s {
+            return Err(Error::NotIncreasing);
+        }
+        let dt = (t - self.time_s).min(1.0e30) as f32;
+        let accel = match self.last_accel {
+            Some((ta, a)) if t - ta <= f64::from(self.config.accel_timeout_s) => Some(a),
+            _ => None,
+        };
+        let (mut core, dropout) = self.propagate(dt, accel)?;
+        let stale = t - self.last_accepted_baro_s > f64::from(self.config.baro_timeout_s);
+        let mut reacquire = self.reacquire_pending || dropout || stale;
+
+        let y = z - core.h;
+        let s = core.p.hh + r;
+        let nis = y * y / s;
+        let mut outcome = KalmanOutcome::Accepted { nis };
+        let mut consecutive = self.consecutive_rejections;
+        let mut rejected = self.rejected;
+        // Written so that a NaN (impossible: S >= R > 0) would count as outside.
+        let inside_gate = nis <= self.config.gate_nis;
+        if !reacquire && !inside_gate {
+            rejected = rejected.saturating_add(1);
+            consecutive = consecutive.saturating_add(1);
+            outcome = KalmanOutcome::Rejected { nis };
+            if consecutive >= self.config.reacquire_after {
+                reacquire = true;
+            }
+        }
+        if reacquire {
+            core.h = z;
+            core.p.hh = r;
+            core.p.hv = 0.0;
+            core.p.hb = 0.0;
+            let v0 = self.config.initial_speed_sigma_mps;
+            core.p.vv = core.p.vv.max(v0 * v0);
+            outcome = KalmanOutcome::Reacquired;
+        } else if let KalmanOutcome::Accepted { .. } = outcome {
+            core = Self::update(core, y, r);
+        }
+        if !core.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        // Commit.
+        self.core = core;
+        self.time_s = t;
+        self.last_baro_s = Some(t);
+        self.rejected = rejected;
+        match outcome {
+            KalmanOutcome::Rejected { .. } => self.consecutive_rejections = consecutive,
+            KalmanOutcome::Reacquired => {
+                self.consecutive_rejections = 0;
+                self.reacquire_pending = false;
+                self.reacquisitions = self.reacquisitions.saturating_add(1);
+                self.last_accepted_baro_s = t;
+            }
+            _ => {
+                self.consecutive_rejections = 0;
+                self.last_accepted_baro_s = t;
+            }
+        }
+        Ok(outcome)
+    }
+
+    /// Barometer noise variance in use, m^2.
+    fn measurement_variance(&self) -> f32 {
+        let mut sigma = self.config.baro_sigma_m;
+        if self.disturbed {
+            sigma *= self.config.disturbed_sigma_scale;
+        }
+        sigma * sigma
+    }
+
+    /// Mean and covariance propagated over `dt` (s); also whether `dt` was a dropout.
+    fn propagate(&self, dt_full: f32, accel: Option<f32>) -> Result<(Core, bool), Error> {
+        let cfg = &self.config;
+        let dropout = dt_full > cfg.max_step_s;
+        let dt = dt_full.min(cfg.max_step_s);
+        let Core { h, v, b, p } = self.core;
+        let dt2 = dt * dt;
+        let dt3 = dt2 * dt;
+        let qb = cfg.bias_random_walk * cfg.bias_random_walk;
+        // c, d: the bias entries of F; zero in the constant-velocity model.
+        let (a, c, d, qa) = match accel {
+            Some(u) => (
+                u - b,
+                -0.5 * dt2,
+                -dt,
+                cfg.accel_noise_density * cfg.accel_noise_density,
+            ),
+            None => (
+                0.0,
+                0.0,
+                0.0,
+                cfg.baro_only_accel_density * cfg.baro_only_accel_density,
+            ),
+        };
+        let h1 = h + v * dt + 0.5 * a * dt2;
+        let v1 = v + a * dt;
+        // F P, rows 0 and 1 (row 2 is P's row 2).
+        let fp00 = p.hh + dt * p.hv + c * p.hb;
+        let fp01 = p.hv + dt * p.vv + c * p.vb;
+        let fp02 = p.hb + dt * p.vb + c * p.bb;
+        let fp11 = p.vv + d * p.vb;
+        let fp12 = p.vb + d * p.bb;
+        // (F P) F^T.
+        let mut q = Covariance {
+            hh: fp00 + dt * fp01 + c * fp02,
+            hv: fp01 + d * fp02,
+            hb: fp02,
+            vv: fp11 + d * fp12,
+            vb: fp12,
+            bb: p.bb,
+        };
+        q.hh += qa * dt3 / 3.0;
+        q.hv += qa * dt2 / 2.0;
+        q.vv += qa * dt;
+        q.bb += qb * dt;
+        if accel.is_some() {
+            q.hh += qb * dt3 * dt2 / 20.0;
+            q.hv += qb * dt2 * dt2 / 8.0;
+            q.hb -= qb * dt3 / 6.0;
+            q.vv += qb * dt3 / 3.0;
+            q.vb -= qb * dt2 / 2.0;
+        }
+        let mut core = Core {
+            h: h1,
+            v: v1,
+            b,
+            p: q,
+        };
+        let mut saturated = false;
+        if !(core.p.hh <= MAX_VAR_HEIGHT && core.p.vv <= MAX_VAR_SPEED && core.p.bb <= MAX_VAR_BIAS)
+        {
+            // Only after extremely long gaps: keep a valid diagonal covariance.
+            core.p = Covariance {
+                hh: core.p.hh.min(MAX_VAR_HEIGHT),
+                hv: 0.0,
+                hb: 0.0,
+                vv: core.p.vv.min(MAX_VAR_SPEED),
+                vb: 0.0,
+                bb: core.p.bb.min(MAX_VAR_BIAS),
+            };
+            saturated = true;
+        }
+        if !core.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        Ok((core, dropout || saturated))
+    }
+
+    /// Joseph-form scalar update with `H = [1 0 0]`: `P' = A P A^T + r K K^T`,
+    /// `A = I - K H`.
+    fn update(core: Core, y: f32, r: f32) -> Core {
+        let p = core.p;
+        let s = p.hh + r;
+        let k0 = p.hh / s;
+        let k1 = p.hv / s;
+        let k2 = p.hb / s;
+        // M = A P, rows i: P_i. - K_i P_0.
+        let m00 = p.hh - k0 * p.hh;
+        let m01 = p.hv - k0 * p.hv;
+        let m02 = p.hb - k0 * p.hb;
+        let m10 = p.hv - k1 * p.hh;
+        let m11 = p.vv - k1 * p.hv;
+        let m12 = p.vb - k1 * p.hb;
+        let m20 = p.hb - k2 * p.hh;
+        let m22 = p.bb - k2 * p.hb;
+        // P'_ij = M_ij - M_i0 K_j + r K_i K_j.
+        Core {
+            h: core.h + k0 * y,
+            v: core.v + k1 * y,
+            b: core.b + k2 * y,
+            p: Covariance {
+                hh: m00 - m00 * k0 + r * k0 * k0,
+                hv: m01 - m00 * k1 + r * k0 * k1,
+                hb: m02 - m00 * k2 + r * k0 * k2,
+                vv: m11 - m10 * k1 + r * k1 * k1,
+                vb: m12 - m10 * k2 + r * k1 * k2,
+                bb: m22 - m20 * k2 + r * k2 * k2,
+            },
+        }
+    }
+
+    /// Flags (or clears) a disturbance of the barometer, such as propeller wash or
+    /// ground effect near take-off and landing: while set, the barometer noise is
+    /// `disturbed_sigma_scale` times larger, so the filter leans on the accelerometer
+    /// and gates less.
+    pub fn set_baro_disturbed(&mut self, disturbed: bool) {
+        self.disturbed = disturbed;
+    }
+
+    /// Whether a barometer disturbance is flagged.
+    pub const fn is_baro_disturbed(&self) -> bool {
+        self.disturbed
+    }
+
+    /// The estimate at the latest sample, `None` before the first barometer sample.
+    pub fn estimate(&self) -> Option<VerticalEstimate> {
+        if !self.initialized {
+            return None;
+        }
+        let c = &self.core;
+        Some(VerticalEstimate {
+            time_s: self.time_s,
+            height: Height::from_meters(c.h).ok()?,
+            vertical_speed: VerticalSpeed::from_mps(c.v).ok()?,
+            accel_bias_mps2: c.b,
+            height_sigma_m: crate::math::sqrt(c.p.hh.max(0.0)),
+            speed_sigma_mps: crate::math::sqrt(c.p.vv.max(0.0)),
+        })
+    }
+
+    /// Barometer samples rejected by the gate since start.
+    pub const fn rejected_count(&self) -> u32 {
+        self.rejected
+    }
+
+    /// Current run of consecutive gate rejections.
+    pub const fn consecutive_rejections(&self) -> u16 {
+        self.consecutive_rejections
+    }
+
+    /// Re-acquisitions since start (dropouts, timeouts, runs of rejections).
+    pub const fn reacquisition_count(&self) -> u32 {
+        self.reacquisitions
+    }
+
+    /// Forgets the estimate (keeps the settings and the disturbance flag); the next
+    /// barometer sample initialises again.
+    pub fn reset(&mut self) {
+        let disturbed = self.disturbed;
+        if let Ok(fresh) = Self::new(self.config) {
+            *self = fresh;
+        }
+        self.disturbed = disturbed;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn h(m: f32) -> Height {
+        Height::from_meters(m).unwrap()
+    }
+
+    /// A filter at rest at 100 m after 2 s of clean samples (accel 200 Hz, baro 50 Hz).
+    fn settled() -> (VerticalKalman, f64) {
+        let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
+        kf.correct(0.0, h(100.0)).unwrap();
+        let mut t = 0.0;
+        for k in 1..=400 {
+            t = k as f64 * 0.005;
+            kf.predict(t, 0.0).unwrap();
+            if k % 4 == 0 {
+                kf.correct(t, h(100.0)).unwrap();
+            }
+        }
+        (kf, t)
+    }
+
+    #[test]
+    fn bad_input_leaves_state_unchanged() {
+        let (mut kf, t) = settled();
+        let before = kf;
+        assert_eq!(kf.predict(t + 0.005, f32::NAN), Err(Error::NotFinite));
+        assert_eq!(kf.predict(f64::NAN, 0.0), Err(Error::NotFinite));
+        assert_eq!(kf.predict(f64::INFINITY, 0.0), Err(Error::NotFinite));
+        assert_eq!(kf.predict(t + 0.005, 1.0e3), Err(Error::SampleOutOfRange));
+        assert_eq!(kf.predict(t, 0.0), Err(Error::NotIncreasing));
+        assert_eq!(kf.predict(t - 1.0, 0.0), Err(Error::NotIncreasing));
+        assert_eq!(kf.correct(t, h(100.0)), Err(Error::NotIncreasing));
+        assert_eq!(kf.correct(t - 0.5, h(100.0)), Err(Error::NotIncreasing));
+        assert_eq!(kf.correct(f64::NAN, h(100.0)), Err(Error::NotFinite));
+        assert_eq!(
+            kf.correct(t + 0.02, h(-6000.0)),
+            Err(Error::BelowModelBottom)
+        );
+        assert_eq!(kf.correct(t + 0.02, h(90_000.0)), Err(Error::AboveModelTop));
+        assert_eq!(kf, before);
+        // Before initialisation too.
+        let mut fresh = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
+        fresh.predict(1.0, 0.0).unwrap();
+        let before = fresh;
+        assert_eq!(fresh.correct(0.5, h(1.0)), Err(Error::NotIncreasing));
+        assert_eq!(fresh.predict(1.0, 0.0), Err(Error::NotIncreasing));
+        assert_eq!(fresh, before);
+        assert_eq!(fresh.estimate(), None);
+    }
+
+    #[test]
+    fn rejects_bad_settings() {
+        let d = VerticalKalmanConfig::default();
+        for c in [
+            VerticalKalmanConfig {
+                reacquire_after: 0,
+                ..d
+            },
+            VerticalKalmanConfig {
+                baro_sigma_m: f32::NAN,
+                ..d
+            },
+            VerticalKalmanConfig {
+                disturbed_sigma_scale: 0.5,
+                ..d
+            },
+            VerticalKalmanConfig {
+                min_height_m: 10.0,
+                max_height_m: 0.0,
+                ..d
+            },
+        ] {
+            assert_eq!(VerticalKalman::new(c), Err(Error::InvalidSetting));
+        }
+    }
+
+    #[test]
+    fn gate_counts_outliers_and_keeps_estimate() {
+        let (mut kf, mut t) = settled();
+        let mut rejected = 0;
+        for k in 1..=200 {
+            t += 0.005;
+            kf.predict(t, 0.0).unwrap();
+            if k % 4 == 0 {
+                // Every 10th baro sample is a 3 m spike.
+                let z = if k % 40 == 0 { 103.0 } else { 100.0 };
+                if let KalmanOutcome::Rejected { nis } = kf.correct(t, h(z)).unwrap() {
+                    assert!(nis > 10.83);
+                    rejected += 1;
+                }
+            }
+        }
+        assert_eq!(rejected, 5);
+        assert_eq!(kf.rejected_count(), 5);
+        let e = kf.estimate().unwrap();
+        assert!((e.height.meters() - 100.0).abs() < 1e-3);
+        assert!(e.vertical_speed.mps().abs() < 1e-3);
+    }
+
+    #[test]
+    fn reacquires_after_consecutive_rejections() {
+        let (mut kf, mut t) = settled();
+        let n = kf.config().reacquire_after;
+        let mut outcomes = [KalmanOutcome::Initialized; 16];
+        for o in outcomes.iter_mut() {
+            t += 0.02;
+            kf.predict(t, 0.0).unwrap();
+            // A real 20 m step the accelerometer did not see (e.g. a changed datum).
+            *o = kf.correct(t, h(120.0)).unwrap();
+        }
+        for o in &outcomes[..usize::from(n) - 1] {
+            assert!(matches!(o, KalmanOutcome::Rejected { .. }));
+        }
+        assert_eq!(outcomes[usize::from(n) - 1], KalmanOutcome::Reacquired);
+        assert!(matches!(outcomes[15], KalmanOutcome::Accepted { .. }));
+        assert_eq!(kf.reacquisition_count(), 1);
+        assert!((kf.estimate().unwrap().height.meters() - 120.0).abs() < 1e-3);
+    }
+
+    #[test]
+    fn disturbance_widens_gate() {
+        let (mut kf, t) = settled();
+        let mut quiet = kf;
+        kf.set_baro_disturbed(true);
+        assert!(kf.is_baro_disturbed());
+        // 0.8 m off: an outlier for 0.15 m noise, acceptable for 0.6 m noise.
+        assert!(matches!(
+            quiet.correct(t + 0.02, h(100.8)).unwrap(),
+            KalmanOutcome::Rejected { .. }
+        ));
+        assert!(matches!(
+            kf.correct(t + 0.02, h(100.8)).unwrap(),
+            KalmanOutcome::Accepted { .. }
+        ));
+    }
+
+    #[test]
+    fn baro_only_tracks_constant_climb() {
+        // No accelerometer: constant-velocity model; a constant climb is tracked with
+        // no steady-state error (common practice for this model).
+        let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
+        let mut t = 0.0f64;
+        for k in 0..1000 {
+            t = k as f64 * 0.02;
+            kf.correct(t, h(50.0 + 1.5 * t as f32)).unwrap();
+        }
+        let e = kf.estimate().unwrap();
+        assert!((e.height.meters() - (50.0 + 1.5 * t as f32)).abs() < 1e-3);
+        assert!((e.vertical_speed.mps() - 1.5).abs() < 1e-3);
+    }
+
+    #[test]
+    fn dropout_reacquires_at_measurement() {
+        let (mut kf, t) = settled();
+        // 1000 s of silence, then the vehicle is 37 m higher.
+        let t2 = t + 1000.0;
+        kf.predict(t2, 0.0).unwrap();
+        assert_eq!(kf.correct(t2, h(137.0)).unwrap(), KalmanOutcome::Reacquired);
+        let e = kf.estimate().unwrap();
+        assert_eq!(e.height.meters(), 137.0);
+        assert!(e.height_sigma_m < 0.2);
+    }
+
+    #[test]
+    fn covariance_stays_symmetric_positive() {
+        let (kf, _) = settled();
+        let p = kf.core.p;
+        // Leading principal minors positive (Sylvester's criterion).
+        let m1 = p.hh as f64;
+        let m2 = (p.hh * p.vv - p.hv * p.hv) as f64;
+        let m3 = p.hh as f64 * (p.vv as f64 * p.bb as f64 - (p.vb * p.vb) as f64)
+            - p.hv as f64 * (p.hv as f64 * p.bb as f64 - (p.vb * p.hb) as f64)
+            + p.hb as f64 * (p.hv as f64 * p.vb as f64 - (p.vv * p.hb) as f64);
+        assert!(m1 > 0.0 && m2 > 0.0 && m3 > 0.0, "{p:?}");
+    }
+}

@@ -1,0 +1,227 @@
+//! Running median over the last `N` samples: removes isolated spikes.
+
+use crate::Error;
+
+/// Running median of the last `N` samples (a spike filter).
+///
+/// A spike shorter than half the window (at most `(N - 1) / 2` consecutive bad
+/// samples) never reaches the output, while a step in the input passes through
+/// unchanged in shape, delayed by `(N - 1) / 2` samples (common practice; the median
+/// filter's edge-preserving property, Tukey 1977, *Exploratory Data Analysis*, from
+/// memory). With an even `N` the output is the mean of the two middle values.
+///
+/// * Time per sample: O(N): the oldest value is removed from, and the new one inserted
+///   into, a sorted copy of the window by shifting at most `N` values.
+/// * State: two `[f32; N]` arrays and two `usize` indices: `8 N + 2 * size_of::<usize>()`
+///   bytes (`8 N + 16` on a 64-bit host, `8 N + 8` on a 32-bit microcontroller).
+///
+/// Hand-written rather than built on `heapless::HistoryBuf`: the filter needs the
+/// ring *and* a sorted companion array updated together, and plain arrays keep the
+/// state `Copy` and comparable with `PartialEq`.
+///
+/// ```
+/// use isohypse::filter::Median;
+/// let mut m = Median::<3>::new();
+/// for x in [10.0, 10.0, 95.0, 10.0, 10.0] {
+///     let y = m.push(x)?;
+///     assert_eq!(y, 10.0); // the spike at 95 never appears
+/// }
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Median<const N: usize> {
+    /// Samples in arrival order (ring buffer).
+    window: [f32; N],
+    /// The first `len` entries: the same samples in ascending order.
+    sorted: [f32; N],
+    /// Next write position in `window`.
+    head: usize,
+    /// Number of samples held (at most `N`).
+    len: usize,
+}
+
+impl<const N: usize> Default for Median<N> {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl<const N: usize> Median<N> {
+    /// An empty filter. `N` must be at least 1 (checked at compile time).
+    pub const fn new() -> Self {
+        const { assert!(N > 0, "Median<N> needs N >= 1") };
+        Self {
+            window: [0.0; N],
+            sorted: [0.0; N],
+            head: 0,
+            len: 0,
+        }
+    }
+
+    /// Adds a sample and returns the median of the samples held (fewer than `N` at the
+    /// start).
+    ///
+    /// Errors: [`Error::NotFinite`] for NaN or infinite input; the filter is unchanged.
+    pub fn push(&mut self, x: f32) -> Result<f32, Error> {
+        if !x.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        let mut len = self.len;
+        if len == N {
+            // Remove the oldest sample (the one about to be overwritten) from `sorted`.
+            let old = self.window.get(self.head).copied().unwrap_or(f32::NAN);
+            let pos = self
+                .sorted
+                .iter()
+                .take(len)
+                .position(|&v| v == old)
+                .unwrap_or(len - 1);
+            if let Some(tail) = self.sorted.get_mut(pos..len) {
+                tail.rotate_left(1);
+            }
+            len -= 1;
+        }
+        // Insert the new sample in order: write it after the sorted part, rotate it in.
+        let pos = self
+            .sorted
+            .iter()
+            .take(len)
+            .take_while(|&&v| v <= x)
+            .count();
+        if let Some(slot) = self.sorted.get_mut(len) {
+            *slot = x;
+        }
+        if let Some(tail) = self.sorted.get_mut(pos..=len) {
+            tail.rotate_right(1);
+        }
+        self.len = len + 1;
+        if let Some(slot) = self.window.get_mut(self.head) {
+            *slot = x;
+        }
+        self.head = if self.head + 1 >= N { 0 } else { self.head + 1 };
+        Ok(self.value().unwrap_or(x))
+    }
+
+    /// Median of the samples held, or `None` when empty.
+    pub fn value(&self) -> Option<f32> {
+        let n = self.len;
+        if n == 0 {
+            return None;
+        }
+        let upper = *self.sorted.get(n / 2)?;
+        if n % 2 == 1 {
+            Some(upper)
+        } else {
+            let lower = *self.sorted.get(n / 2 - 1)?;
+            Some(lower + 0.5 * (upper - lower))
+        }
+    }
+
+    /// Number of samples held (at most `N`).
+    pub const fn len(&self) -> usize {
+        self.len
+    }
+
+    /// Whether no sample is held.
+    pub const fn is_empty(&self) -> bool {
+        self.len == 0
+    }
+
+    /// Whether the window is full.
+    pub const fn is_full(&self) -> bool {
+        self.len == N
+    }
+
+    /// Forgets all samples.
+    pub fn clear(&mut self) {
+        *self = Self::new();
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn removes_single_spike() {
+        // Edge-preserving, spike-removing property of the running median (common
+        // practice).
+        let mut m = Median::<5>::new();
+        let input = [
+            1.0, 1.0, 1.0, 1.0, 1.0, 40.0, 1.0, 1.0, 1.0, -40.0, 1.0, 1.0,
+        ];
+        for x in input {
+            assert_eq!(m.push(x).unwrap(), 1.0);
+        }
+    }
+
+    #[test]
+    fn two_adjacent_spikes_removed_by_window_5() {
+        let mut m = Median::<5>::new();
+        for x in [2.0, 2.0, 2.0, 9.0, 9.0, 2.0, 2.0, 2.0] {
+            assert_eq!(m.push(x).unwrap(), 2.0);
+        }
+    }
+
+    #[test]
+    fn step_passes_delayed_by_half_window() {
+        let mut m = Median::<5>::new();
+        let mut out = [0.0f32; 12];
+        for (i, o) in out.iter_mut().enumerate() {
+            *o = m.push(if i < 6 { 0.0 } else { 3.0 }).unwrap();
+        }
+        // Step at sample 6 appears at sample 6 + (5 - 1) / 2 = 8.
+        assert_eq!(&out[..8], &[0.0; 8]);
+        assert_eq!(&out[8..], &[3.0; 4]);
+    }
+
+    #[test]
+    fn matches_sorting_reference_on_varied_input() {
+        // Reference: sort the last N values (definition of the median).
+        let mut m = Median::<4>::new();
+        let mut hist = [0.0f32; 500];
+        let mut s: u32 = 12345;
+        for i in 0..500 {
+            s ^= s << 13;
+            s ^= s >> 17;
+            s ^= s << 5;
+            let x = (s % 1000) as f32 / 10.0 - 50.0;
+            hist[i] = x;
+            let y = m.push(x).unwrap();
+            let start = (i + 1).saturating_sub(4);
+            let mut w = [0.0f32; 4];
+            let n = i + 1 - start;
+            w[..n].copy_from_slice(&hist[start..=i]);
+            let w = &mut w[..n];
+            w.sort_unstable_by(|a, b| a.partial_cmp(b).unwrap());
+            let r = if n % 2 == 1 {
+                w[n / 2]
+            } else {
+                w[n / 2 - 1] + 0.5 * (w[n / 2] - w[n / 2 - 1])
+            };
+            assert_eq!(y, r);
+        }
+    }
+
+    #[test]
+    fn rejects_non_finite_and_keeps_state() {
+        let mut m = Median::<3>::new();
+        m.push(1.0).unwrap();
+        m.push(2.0).unwrap();
+        let before = m;
+        assert_eq!(m.push(f32::NAN), Err(Error::NotFinite));
+        assert_eq!(m.push(f32::INFINITY), Err(Error::NotFinite));
+        assert_eq!(m, before);
+    }
+
+    #[test]
+    fn empty_and_clear() {
+        let mut m = Median::<3>::default();
+        assert_eq!(m.value(), None);
+        assert!(m.is_empty());
+        m.push(5.0).unwrap();
+        assert_eq!(m.value(), Some(5.0));
+        m.clear();
+        assert!(m.is_empty());
+    }
+}

@@ -1,0 +1,178 @@
+//! First-order low-pass smoother with a cut-off in hertz and any time step.
+
+use super::step_s;
+use crate::Error;
+use crate::math;
+
+/// First-order (one-pole) low-pass filter, exact for any time step.
+///
+/// Equation: `y_k = y_(k-1) + alpha (x_k - y_(k-1))` with
+/// `alpha = 1 - exp(-2 pi fc dt)`, `fc` the cut-off frequency (Hz), `dt` the time since
+/// the previous sample (s). This is the exact discretisation of
+/// `tau dy/dt = x - y`, `tau = 1 / (2 pi fc)`, with the input held over the step
+/// (zero-order hold; e.g. Franklin, Powell & Workman, *Digital Control of Dynamic
+/// Systems*, 3rd ed., 1998, ch. 6, from memory). Its step response at the sample times is
+/// `1 - exp(-t / tau)` whatever the steps, the first-order step response in any control
+/// textbook (e.g. Ogata, *Modern Control Engineering*, 5th ed., sec. 5-3, from memory).
+/// `1 - exp(-x)` is computed as `-expm1(-x)`, accurate for short steps.
+///
+/// The first sample initialises the output. After a long gap `alpha` tends to 1, so the
+/// output jumps to the new input: the old value is no longer relevant.
+///
+/// * Time per sample: O(1), one `exp`.
+/// * State: 24 bytes (`f64` time, two `f32`, one flag, padded).
+///
+/// ```
+/// use isohypse::filter::OnePole;
+/// let mut lp = OnePole::new(1.0)?; // 1 Hz cut-off
+/// lp.update(0.0, 0.0)?;
+/// let y = lp.update(0.1, 1.0)?;
+/// assert!((y - (1.0 - (-0.2f32 * core::f32::consts::PI).exp())).abs() < 1e-6);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct OnePole {
+    cutoff_hz: f32,
+    output: f32,
+    last_time_s: f64,
+    started: bool,
+}
+
+impl OnePole {
+    /// A filter with cut-off `cutoff_hz` (Hz, finite and > 0).
+    ///
+    /// Errors: [`Error::InvalidSetting`].
+    pub fn new(cutoff_hz: f32) -> Result<Self, Error> {
+        Self::check_cutoff(cutoff_hz)?;
+        Ok(Self {
+            cutoff_hz,
+            output: 0.0,
+            last_time_s: 0.0,
+            started: false,
+        })
+    }
+
+    fn check_cutoff(cutoff_hz: f32) -> Result<(), Error> {
+        if cutoff_hz.is_finite() && cutoff_hz > 0.0 {
+            Ok(())
+        } else {
+            Err(Error::InvalidSetting)
+        }
+    }
+
+    /// Feeds sample `x` taken at `time_s` (seconds, `f64`) and returns the output.
+    ///
+    /// Errors: [`Error::NotFinite`] (NaN or infinite `x` or time),
+    /// [`Error::NotIncreasing`] (time not after the previous sample). The filter is
+    /// unchanged on error.
+    pub fn update(&mut self, time_s: f64, x: f32) -> Result<f32, Error> {
+        if !x.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        if !self.started {
+            super::check_time(time_s)?;
+            self.output = x;
+            self.last_time_s = time_s;
+            self.started = true;
+            return Ok(x);
+        }
+        let dt = step_s(self.last_time_s, time_s)?;
+        let y = self.output + self.alpha(dt) * (x - self.output);
+        if !y.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        self.output = y;
+        self.last_time_s = time_s;
+        Ok(y)
+    }
+
+    /// `alpha = 1 - exp(-2 pi fc dt)` for a step `dt` (s).
+    pub fn alpha(&self, dt: f32) -> f32 {
+        -math::exp_m1(-2.0 * core::f32::consts::PI * self.cutoff_hz * dt)
+    }
+
+    /// Output, or `None` before the first sample.
+    pub fn value(&self) -> Option<f32> {
+        self.started.then_some(self.output)
+    }
+
+    /// Cut-off frequency, Hz.
+    pub const fn cutoff_hz(&self) -> f32 {
+        self.cutoff_hz
+    }
+
+    /// Time constant `tau = 1 / (2 pi fc)`, s.
+    pub fn time_constant_s(&self) -> f32 {
+        1.0 / (2.0 * core::f32::consts::PI * self.cutoff_hz)
+    }
+
+    /// Changes the cut-off; the output is kept. Errors: [`Error::InvalidSetting`]
+    /// (the old cut-off is kept).
+    pub fn set_cutoff_hz(&mut self, cutoff_hz: f32) -> Result<(), Error> {
+        Self::check_cutoff(cutoff_hz)?;
+        self.cutoff_hz = cutoff_hz;
+        Ok(())
+    }
+
+    /// Forgets the output; the next sample initialises it again.
+    pub fn reset(&mut self) {
+        self.started = false;
+        self.output = 0.0;
+        self.last_time_s = 0.0;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn step_response_matches_closed_form_with_irregular_steps() {
+        // First-order step response y(t) = 1 - exp(-t / tau) (Ogata, Modern Control
+        // Engineering, sec. 5-3, from memory), evaluated in f64 as the reference.
+        let fc = 2.0f32;
+        let tau = 1.0 / (2.0 * core::f64::consts::PI * fc as f64);
+        let mut lp = OnePole::new(fc).unwrap();
+        assert_eq!(lp.update(10.0, 0.0).unwrap(), 0.0);
+        let mut t = 10.0f64;
+        let steps = [
+            0.001, 0.02, 0.005, 0.013, 0.05, 0.0007, 0.1, 0.03, 0.2, 0.011,
+        ];
+        for k in 0..60 {
+            t += steps[k % steps.len()];
+            let y = lp.update(t, 1.0).unwrap() as f64;
+            let reference = 1.0 - (-(t - 10.0) / tau).exp();
+            assert!((y - reference).abs() < 2e-6, "t {t}: {y} vs {reference}");
+        }
+    }
+
+    #[test]
+    fn time_constant_is_one_over_two_pi_fc() {
+        let lp = OnePole::new(0.5).unwrap();
+        assert!((lp.time_constant_s() - 1.0 / core::f32::consts::PI).abs() < 1e-6);
+    }
+
+    #[test]
+    fn long_gap_jumps_to_input() {
+        let mut lp = OnePole::new(1.0).unwrap();
+        lp.update(0.0, 5.0).unwrap();
+        assert_eq!(lp.update(1.0e9, -3.0).unwrap(), -3.0);
+    }
+
+    #[test]
+    fn bad_input_leaves_state_unchanged() {
+        let mut lp = OnePole::new(1.0).unwrap();
+        assert_eq!(OnePole::new(0.0), Err(Error::InvalidSetting));
+        assert_eq!(OnePole::new(f32::NAN), Err(Error::InvalidSetting));
+        assert_eq!(lp.update(f64::NAN, 1.0), Err(Error::NotFinite));
+        lp.update(1.0, 1.0).unwrap();
+        lp.update(1.5, 2.0).unwrap();
+        let before = lp;
+        assert_eq!(lp.update(1.5, 3.0), Err(Error::NotIncreasing));
+        assert_eq!(lp.update(1.2, 3.0), Err(Error::NotIncreasing));
+        assert_eq!(lp.update(2.0, f32::NAN), Err(Error::NotFinite));
+        assert_eq!(lp.update(f64::INFINITY, 1.0), Err(Error::NotFinite));
+        assert_eq!(lp.set_cutoff_hz(-1.0), Err(Error::InvalidSetting));
+        assert_eq!(lp, before);
+    }
+}

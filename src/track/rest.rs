@@ -1,0 +1,415 @@
+//! Rest detection: is the height standing still, so that pressure change is weather?
+//!
+//! # Method
+//!
+//! The detector watches the smoothed height (before any weather correction) and knows
+//! three states:
+//!
+//! * **Moving.** A window opens at some sample and keeps the lowest and highest height
+//!   since, and the sums for a least-squares straight line through its heights. When the
+//!   spread exceeds [`RestConfig::entry_band_m`], the window restarts at the current
+//!   sample. When a window has lasted [`RestConfig::entry_window_s`], the device is
+//!   declared at rest if the slope of that line is no steeper than the largest weather
+//!   rate [`RestConfig::max_weather_rate_m_per_h`]; otherwise the window restarts.
+//! * **Resting (detected).** A level-and-slope tracker follows the height: a critically
+//!   damped second-order loop (the alpha-beta form of a type-2 tracking loop, natural
+//!   frequency `1 / T` with `T =` [`RestConfig::trend_time_constant_s`]):
+//!   `pred = L + b dt`, `e = h - pred`, `L = pred + (2 dt / T) e`, `b += (dt / T^2) e`.
+//!   It follows a steady weather drift with no lag; its slope `b` is the weather rate.
+//!   Both the slope and the speed at which the level may move are limited to the largest
+//!   weather rate, so a faster change cannot be absorbed: its departure from the
+//!   prediction grows, and when it exceeds [`RestConfig::exit_band_m`] the rest ends. The
+//!   departure is handed back as real movement (so the first metres of a climb are not
+//!   lost), and the weather rate is taken from the last sample that was still within a
+//!   quarter of the exit band (so the start of the climb does not leak into it).
+//! * **Resting (declared by the user).** The same tracker runs, with no automatic exit;
+//!   the user ends it.
+//!
+//! While moving, the last weather rate is kept and fades with time constant
+//! [`RestConfig::weather_rate_memory_s`]; the hike tracker uses it to extrapolate the
+//! weather drift through the walk (see [`crate::track::hike`]).
+//!
+//! Horizontal walking on the flat counts as "at rest" here: only vertical rest matters for
+//! weather attribution, and on the flat all pressure change is indeed weather.
+//!
+//! # Limits (numbers for the defaults, measured in `tests/hike_day.rs`)
+//!
+//! From pressure alone a slow climb and a weather change look the same; the largest
+//! weather rate (20 m/h of apparent height: 2.4 hPa/h at sea level, 2.2 hPa/h at 1000 m,
+//! 2.0 hPa/h at 2000 m, with 1 hPa = 1 / (rho g) = 8.3, 9.2 and 10.1 m from the
+//! U.S. 1976 densities 1.225, 1.112 and 1.007 kg/m^3, from memory) is where this
+//! detector draws the line.
+//!
+//! * A real climb that starts from rest at 20 m/h or less is taken for weather and lost
+//!   (test `slow_climbs_after_a_rest`: of 100 m, 0 m counted at 10 and 20 m/h, 25 m at
+//!   25 m/h, 85 m at 30 m/h, 97.7 m at 40 m/h, 98.6 m at 60 m/h, 99.7 m at 90 m/h).
+//! * A weather change faster than 20 m/h ends the rest and goes into the height and the
+//!   totals (test `steady_pressure_falls_at_rest`, 3 hours still at 1000 m: totals 0 m
+//!   for falls up to 2.0 hPa/h, 12 m at 2.5 hPa/h, 50 m at 3 hPa/h, 111 m at 4 hPa/h).
+//!   Synoptic falls are mostly slower (3 hPa in 3 h is the usual "rapid fall" mark); a
+//!   squall line, or a door or vehicle window closing, can be faster.
+//! * The weather rate learnt at rest is extrapolated through the walk; a front that
+//!   changes speed while walking leaves an error (the synthetic days measure it).
+//!
+//! Memory: 76 bytes with its configuration. Time: O(1) per sample.
+
+use crate::Error;
+
+/// Settings of the rest detector; see the [module docs](self) for the method.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct RestConfig {
+    /// How long the height must stay within [`Self::entry_band_m`] before rest is
+    /// declared, s. Default 60 s: longer than a pause at a gate, short against a
+    /// 20-minute rest (choice of this crate; the weather drift and smoothed noise counted
+    /// before rest is declared grow with it).
+    pub entry_window_s: f32,
+    /// Largest spread (highest minus lowest smoothed height) in the entry window, m.
+    /// Default 1.0 m: about twice the peak-to-peak of the smoothed height at 2 Pa noise
+    /// (about 0.4 m), plus a minute of a strong front (0.2 m) (choice of this crate).
+    pub entry_band_m: f32,
+    /// Departure from the predicted level that ends a detected rest, m. Default 2.0 m.
+    pub exit_band_m: f32,
+    /// Time constant `T` of the level-and-slope tracker at rest, s. Default 300 s: the
+    /// slope settles within about 15 minutes, well inside a 20-minute rest (choice of this
+    /// crate).
+    pub trend_time_constant_s: f32,
+    /// Largest weather rate believed, m of apparent height per hour: slower height changes
+    /// at rest are weather, faster ones movement. Default 20 m/h (2.4 hPa/h at sea level,
+    /// 2.0 hPa/h at 2000 m): twice the usual "rapid fall" of 3 hPa in 3 h (choice of this
+    /// crate; see the limits in the [module docs](self)).
+    pub max_weather_rate_m_per_h: f32,
+    /// Time constant with which the weather rate learnt at rest fades while moving, s.
+    /// Default 10 800 s (3 h, the tendency period: a rate older than that says little).
+    pub weather_rate_memory_s: f32,
+}
+
+impl Default for RestConfig {
+    fn default() -> Self {
+        Self {
+            entry_window_s: 60.0,
+            entry_band_m: 1.0,
+            exit_band_m: 2.0,
+            trend_time_constant_s: 300.0,
+            max_weather_rate_m_per_h: 20.0,
+            weather_rate_memory_s: 10_800.0,
+        }
+    }
+}
+
+impl RestConfig {
+    /// Checks every field is finite and inside its range (all > 0; windows and time
+    /// constants <= 1 day; bands <= 100 m; weather rate <= 1000 m/h).
+    ///
+    /// Errors: [`Error::NotFinite`], [`Error::InvalidSetting`].
+    pub fn validate(&self) -> Result<(), Error> {
+        let fields = [
+            (self.entry_window_s, 86_400.0),
+            (self.entry_band_m, 100.0),
+            (self.exit_band_m, 100.0),
+            (self.trend_time_constant_s, 86_400.0),
+            (self.max_weather_rate_m_per_h, 1_000.0),
+            (self.weather_rate_memory_s, 86_400.0),
+        ];
+        for (value, max) in fields {
+            if !value.is_finite() {
+                return Err(Error::NotFinite);
+            }
+            if value <= 0.0 || value > max {
+                return Err(Error::InvalidSetting);
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Whether the device is at rest, and why.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum RestState {
+    /// Height is changing (or rest is not yet confirmed).
+    Moving,
+    /// Rest detected from the height.
+    Resting,
+    /// Rest declared by the user; pressure change is weather until the user ends it.
+    DeclaredRest,
+}
+
+/// What happened at one sample.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum RestEvent {
+    /// No change of state.
+    Unchanged,
+    /// Rest has just been detected.
+    Entered,
+    /// Detected rest has ended; `level_m` is the weather level predicted for this
+    /// sample, the height beyond it is real movement.
+    Left { level_m: f32 },
+}
+
+/// The detector state machine (crate-internal: the hike tracker validates time and
+/// height before calling it).
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct RestDetector {
+    config: RestConfig,
+    state: RestState,
+    /// Entry window: time since its start (s), its first, lowest and highest height (m).
+    window_elapsed_s: f32,
+    window_origin_m: f32,
+    window_low_m: f32,
+    window_high_m: f32,
+    /// Least-squares sums over the window, x = time since the window start (s),
+    /// y = height minus the window's first height (m): n, sum x, sum y, sum x^2, sum x y.
+    sums: [f32; 5],
+    /// Level of the weather tracker, m.
+    level_m: f32,
+    /// Weather rate, m/s of apparent height (positive: pressure falling).
+    rate_mps: f32,
+    /// The weather rate at the last sample that stayed close to the prediction (within a
+    /// quarter of the exit band): the rate before a departure began to pull it.
+    settled_rate_mps: f32,
+}
+
+impl RestDetector {
+    pub(crate) fn new(config: RestConfig) -> Result<Self, Error> {
+        config.validate()?;
+        Ok(Self {
+            config,
+            state: RestState::Moving,
+            window_elapsed_s: 0.0,
+            window_origin_m: 0.0,
+            window_low_m: 0.0,
+            window_high_m: 0.0,
+            sums: [0.0; 5],
+            level_m: 0.0,
+            rate_mps: 0.0,
+            settled_rate_mps: 0.0,
+        })
+    }
+
+    pub(crate) fn state(&self) -> RestState {
+        self.state
+    }
+
+    pub(crate) fn config(&self) -> RestConfig {
+        self.config
+    }
+
+    /// Weather rate now, m/s of apparent height (learnt at rest, fading while moving).
+    pub(crate) fn weather_rate_mps(&self) -> f32 {
+        self.rate_mps
+    }
+
+    fn max_rate_mps(&self) -> f32 {
+        self.config.max_weather_rate_m_per_h / 3600.0
+    }
+
+    /// One step of the level-and-slope tracker; returns the departure from the
+    /// prediction.
+    fn track(&mut self, dt_s: f32, height_m: f32) -> f32 {
+        let t = self.config.trend_time_constant_s;
+        let max_rate = self.max_rate_mps();
+        let predicted = self.level_m + self.rate_mps * dt_s;
+        let departure = height_m - predicted;
+        // The level moves no faster than the largest weather rate: a faster climb cannot
+        // be absorbed, its departure grows until the rest ends.
+        let step = predicted + (2.0 * dt_s / t).min(1.0) * departure - self.level_m;
+        self.level_m += step.clamp(-max_rate * dt_s, max_rate * dt_s);
+        self.rate_mps =
+            (self.rate_mps + (dt_s / (t * t)).min(1.0 / t) * departure).clamp(-max_rate, max_rate);
+        if departure.abs() < 0.25 * self.config.exit_band_m {
+            self.settled_rate_mps = self.rate_mps;
+        }
+        departure
+    }
+
+    /// Starts the entry window at this sample.
+    pub(crate) fn start(&mut self, height_m: f32) {
+        self.window_elapsed_s = 0.0;
+        self.window_origin_m = height_m;
+        self.window_low_m = height_m;
+        self.window_high_m = height_m;
+        // the first point: x = 0, y = 0
+        self.sums = [1.0, 0.0, 0.0, 0.0, 0.0];
+    }
+
+    /// Adds a point to the window's least-squares sums.
+    fn add_point(&mut self, height_m: f32) {
+        let x = self.window_elapsed_s;
+        let y = height_m - self.window_origin_m;
+        let [n, sx, sy, sxx, sxy] = self.sums;
+        self.sums = [n + 1.0, sx + x, sy + y, sxx + x * x, sxy + x * y];
+    }
+
+    /// Least-squares slope of the window, m/s: `(n Sxy - Sx Sy) / (n Sxx - Sx^2)`
+    /// (ordinary least squares for a straight line, any statistics text). `None` with
+    /// fewer than two distinct times.
+    fn window_slope(&self) -> Option<f32> {
+        let [n, sx, sy, sxx, sxy] = self.sums;
+        let denominator = n * sxx - sx * sx;
+        if denominator > 0.0 {
+            Some((n * sxy - sx * sy) / denominator)
+        } else {
+            None
+        }
+    }
+
+    fn begin_rest(&mut self, height_m: f32) {
+        self.level_m = height_m;
+        self.settled_rate_mps = self.rate_mps;
+    }
+
+    /// User declares rest from now on.
+    pub(crate) fn declare(&mut self, height_m: f32) {
+        if self.state == RestState::Moving {
+            self.begin_rest(height_m);
+        }
+        self.state = RestState::DeclaredRest;
+    }
+
+    /// User ends a declared rest: detection continues from a detected rest that begins
+    /// now, with the weather rate kept (if the device still does not move, it stays at
+    /// rest).
+    pub(crate) fn release(&mut self, height_m: f32) {
+        if self.state == RestState::DeclaredRest {
+            self.state = RestState::Resting;
+            self.begin_rest(height_m);
+        }
+    }
+
+    /// One sample: time since the previous sample (s, > 0) and the smoothed height
+    /// before weather correction (m).
+    pub(crate) fn update(&mut self, dt_s: f32, height_m: f32) -> RestEvent {
+        match self.state {
+            RestState::DeclaredRest => {
+                self.track(dt_s, height_m);
+                RestEvent::Unchanged
+            }
+            RestState::Resting => {
+                let level_before = self.level_m;
+                let rate_before = self.rate_mps;
+                let departure = self.track(dt_s, height_m);
+                if departure.abs() > self.config.exit_band_m {
+                    // The departure is movement: undo this step's update of the level, and
+                    // keep the weather rate from before the departure began to pull it.
+                    self.level_m = level_before + rate_before * dt_s;
+                    self.rate_mps = self.settled_rate_mps;
+                    self.state = RestState::Moving;
+                    self.start(height_m);
+                    RestEvent::Left {
+                        level_m: self.level_m,
+                    }
+                } else {
+                    RestEvent::Unchanged
+                }
+            }
+            RestState::Moving => {
+                let memory = self.config.weather_rate_memory_s;
+                self.rate_mps *= memory / (memory + dt_s);
+                self.window_elapsed_s += dt_s;
+                self.window_low_m = self.window_low_m.min(height_m);
+                self.window_high_m = self.window_high_m.max(height_m);
+                self.add_point(height_m);
+                if self.window_high_m - self.window_low_m > self.config.entry_band_m {
+                    self.start(height_m);
+                    RestEvent::Unchanged
+                } else if self.window_elapsed_s >= self.config.entry_window_s {
+                    let slow = self
+                        .window_slope()
+                        .is_some_and(|v| v.abs() <= self.max_rate_mps());
+                    if slow {
+                        self.state = RestState::Resting;
+                        self.begin_rest(height_m);
+                        RestEvent::Entered
+                    } else {
+                        self.start(height_m);
+                        RestEvent::Unchanged
+                    }
+                } else {
+                    RestEvent::Unchanged
+                }
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn config_validation() {
+        assert_eq!(RestConfig::default().validate(), Ok(()));
+        let mut c = RestConfig {
+            exit_band_m: f32::NAN,
+            ..RestConfig::default()
+        };
+        assert_eq!(c.validate(), Err(Error::NotFinite));
+        c.exit_band_m = 0.0;
+        assert_eq!(c.validate(), Err(Error::InvalidSetting));
+        assert!(RestDetector::new(c).is_err());
+    }
+
+    #[test]
+    fn enters_after_window_and_leaves_on_climb() {
+        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        d.start(100.0);
+        let mut entered_at = None;
+        for i in 1..=300 {
+            // still, with a weather drift of 0.14 m/min (about 1 hPa/h)
+            let h = 100.0 + 0.14 / 60.0 * i as f32;
+            if d.update(1.0, h) == RestEvent::Entered {
+                entered_at = Some(i);
+            }
+        }
+        assert_eq!(entered_at, Some(60));
+        assert_eq!(d.state(), RestState::Resting);
+        // climb at 5 m/min: leaves within one minute
+        let mut left = None;
+        for i in 301..=400 {
+            let h = 100.7 + 5.0 / 60.0 * (i - 300) as f32;
+            if let RestEvent::Left { level_m } = d.update(1.0, h) {
+                left = Some((i, level_m));
+                break;
+            }
+        }
+        let (i, level) = left.unwrap();
+        assert!(i - 300 <= 60, "left after {} s", i - 300);
+        // Level where the weather alone would be: 100 + 0.14 m/min * elapsed.
+        let weather_level = 100.0 + 0.14 / 60.0 * i as f32;
+        assert!(
+            (level - weather_level).abs() < 0.3,
+            "level {level} vs {weather_level}"
+        );
+        assert_eq!(d.state(), RestState::Moving);
+    }
+
+    #[test]
+    fn slope_steeper_than_weather_never_enters_rest() {
+        // 30 m/h: within the 1 m spread of a 60 s window, but steeper than 20 m/h.
+        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        d.start(0.0);
+        for i in 1..=3600 {
+            let h = 30.0 / 3600.0 * i as f32;
+            assert_eq!(d.update(1.0, h), RestEvent::Unchanged, "at {i} s");
+        }
+        // 10 m/h is taken for weather.
+        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        d.start(0.0);
+        let entered =
+            (1..=120).any(|i| d.update(1.0, 10.0 / 3600.0 * i as f32) == RestEvent::Entered);
+        assert!(entered);
+    }
+
+    #[test]
+    fn declared_rest_has_no_automatic_exit() {
+        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        d.start(0.0);
+        d.declare(0.0);
+        for i in 1..100 {
+            assert_eq!(d.update(1.0, i as f32), RestEvent::Unchanged);
+        }
+        d.release(99.0);
+        assert_eq!(d.state(), RestState::Resting);
+    }
+}

@@ -1,0 +1,354 @@
+//! Three-hour pressure tendency of the sea-level pressure, and a falling-pressure alert.
+//!
+//! # Definition
+//!
+//! The pressure tendency is the change of pressure over the three hours before an
+//! observation: WMO-No. 8, *Guide to Instruments and Methods of Observation*, Part I,
+//! chapter 3 (measurement of atmospheric pressure) (from memory); also the *Glossary of
+//! Meteorology*, American Meteorological Society, entry "pressure tendency" ("the
+//! character and amount of atmospheric pressure change during a specified period of time,
+//! often a three-hour period preceding an observation"). Only the amount is computed here;
+//! the characteristic (the shape of the change, WMO-No. 306 *Manual on Codes*, code table
+//! 0200) is not.
+//!
+//! A walking device's station pressure changes with its height, so the value tracked is the
+//! *sea-level pressure corrected for rest*: the hike tracker reduces its smoothed pressure
+//! to sea level through the standard atmosphere with the displayed height, which it holds
+//! while at rest (see [`crate::track::hike`]). While walking, the tracker carries on the
+//! weather rate learnt at the last rest; any other pressure change while walking goes into
+//! the height, so the tendency sees the weather of rest periods, that extrapolation, and
+//! known-elevation fixes: it misses a fall that begins or speeds up while walking.
+//!
+//! # Falling-pressure alert
+//!
+//! [`TendencyConfig::falling_alert_hpa`] defaults to 3 hPa in 3 hours. This is common
+//! practice, not a standard: forecasters' and mariners' rules of thumb treat a fall of
+//! about 1 hPa per hour (3 hPa in 3 h) or more as a rapid fall that signals a front or a
+//! deepening low and stronger wind within hours (from memory). The threshold is a setting.
+//!
+//! # Memory and time
+//!
+//! One value every [`SLOT_SECONDS`] (10 minutes) in a fixed ring of [`SLOTS`] = 19 values
+//! (0, 10, ..., 180 minutes ago), each stored as a `u16` count of [`STEP_PA`] = 2 Pa
+//! above [`FLOOR_PA`] = 50 000 Pa (so 500 hPa to 1810.68 hPa; a sea-level pressure
+//! outside is stored as missing). The 0.02 hPa step rounds each value by at most
+//! 0.01 hPa, so a 3-hour difference by at most 0.02 hPa, below the 0.1 hPa to which the
+//! tendency is reported in synoptic practice (from memory). A plain array is used rather
+//! than `heapless::Deque`: the ring never grows or shrinks, it is always full after
+//! three hours, and a `u16` with a "missing" marker is a quarter of an `Option<f32>`.
+//! 64 bytes with configuration.
+//! O(1) per call: a gap of k slots writes k markers, bounded by [`SLOTS`].
+//!
+//! ```
+//! use isohypse::{track::{PressureTendency, TendencyConfig}, Pressure};
+//! let mut tendency = PressureTendency::new(TendencyConfig::default())?;
+//! // A barometer at rest on a table, pressure falling 1.2 hPa per hour, one reading a minute.
+//! for minute in 0..=180 {
+//!     let p = Pressure::from_hpa(1012.0 - 1.2 * minute as f32 / 60.0)?;
+//!     tendency.update(minute as f64 * 60.0, p)?;
+//! }
+//! let change = tendency.tendency_hpa().unwrap();
+//! assert!((change + 3.6).abs() < 0.01);
+//! assert!(tendency.falling_alert());
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+
+use crate::{Error, Pressure};
+
+/// Seconds between stored values (10 minutes).
+pub const SLOT_SECONDS: f64 = 600.0;
+/// Stored values: now and every 10 minutes back to 3 hours.
+pub const SLOTS: usize = 19;
+/// Marker for a slot with no value (device off, or no valid reduction).
+const MISSING: u16 = u16::MAX;
+/// Pressure of the stored value 0, Pa.
+pub const FLOOR_PA: f32 = 50_000.0;
+/// Step of the stored values, Pa.
+pub const STEP_PA: f32 = 2.0;
+
+/// Settings of the tendency tracker.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TendencyConfig {
+    /// Alert when the 3-hour tendency is this many hPa or more *downwards*, hPa (> 0).
+    /// Default 3.0 hPa (common practice, see the [module docs](self)).
+    pub falling_alert_hpa: f32,
+}
+
+impl Default for TendencyConfig {
+    fn default() -> Self {
+        Self {
+            falling_alert_hpa: 3.0,
+        }
+    }
+}
+
+impl TendencyConfig {
+    /// Checks the threshold is finite and in 0 < x <= 100 hPa.
+    ///
+    /// Errors: [`Error::NotFinite`], [`Error::InvalidSetting`].
+    pub fn validate(&self) -> Result<(), Error> {
+        if !self.falling_alert_hpa.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        if self.falling_alert_hpa <= 0.0 || self.falling_alert_hpa > 100.0 {
+            return Err(Error::InvalidSetting);
+        }
+        Ok(())
+    }
+}
+
+/// Ring of sea-level pressures every 10 minutes and the 3-hour tendency; see the
+/// [module docs](self).
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PressureTendency {
+    config: TendencyConfig,
+    /// Steps of [`STEP_PA`] above [`FLOOR_PA`], or [`MISSING`].
+    ring: [u16; SLOTS],
+    /// Index of the newest value.
+    newest: u8,
+    /// Number of slots written since the start or the last reset (saturates at SLOTS).
+    filled: u8,
+    started: bool,
+    /// Time of the last accepted call, s.
+    last_time_s: f64,
+    /// Time from which the next value is stored, s.
+    next_due_s: f64,
+}
+
+/// Nearest step, or [`MISSING`] outside the stored range.
+fn to_steps(p: Pressure) -> u16 {
+    let steps = (p.pa() - FLOOR_PA) / STEP_PA + 0.5;
+    if steps >= 0.0 && steps < f32::from(MISSING) {
+        // In range and finite: `as` truncates the +0.5-shifted value, i.e. rounds.
+        steps as u16
+    } else {
+        MISSING
+    }
+}
+
+fn steps_to_hpa(steps: u16) -> f32 {
+    (FLOOR_PA + STEP_PA * f32::from(steps)) / 100.0
+}
+
+impl PressureTendency {
+    /// An empty tracker. Errors: as [`TendencyConfig::validate`].
+    pub fn new(config: TendencyConfig) -> Result<Self, Error> {
+        config.validate()?;
+        Ok(Self {
+            config,
+            ring: [MISSING; SLOTS],
+            newest: 0,
+            filled: 0,
+            started: false,
+            last_time_s: 0.0,
+            next_due_s: 0.0,
+        })
+    }
+
+    /// True if a call to [`Self::update`] at `time_s` would store a value: lets a caller
+    /// skip computing the sea-level pressure (two power functions) on the other samples.
+    pub fn is_due(&self, time_s: f64) -> bool {
+        !self.started || time_s >= self.next_due_s
+    }
+
+    /// Offers the sea-level pressure at `time_s` (seconds, any origin, strictly
+    /// increasing from call to call). The value is stored if a 10-minute mark has been
+    /// reached since the last stored value, and otherwise ignored. A gap longer than a
+    /// slot leaves the skipped slots empty; a gap of three hours or more empties the ring.
+    ///
+    /// Errors (state unchanged): [`Error::NotFinite`] for a NaN or infinite time,
+    /// [`Error::NotIncreasing`] for a time not after the previous call.
+    pub fn update(&mut self, time_s: f64, sea_level: Pressure) -> Result<(), Error> {
+        if !time_s.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        if self.started && time_s <= self.last_time_s {
+            return Err(Error::NotIncreasing);
+        }
+        self.record(time_s, Some(sea_level));
+        Ok(())
+    }
+
+    /// Stores (or marks missing) without validation: `time_s` finite and increasing.
+    pub(crate) fn record(&mut self, time_s: f64, sea_level: Option<Pressure>) {
+        self.last_time_s = time_s;
+        let value = sea_level.map_or(MISSING, to_steps);
+        if !self.started {
+            self.started = true;
+            self.push(value);
+            self.next_due_s = time_s + SLOT_SECONDS;
+            return;
+        }
+        if time_s < self.next_due_s {
+            return;
+        }
+        // Whole slots skipped between the due mark and now (float to int `as` saturates).
+        let skipped = ((time_s - self.next_due_s) / SLOT_SECONDS) as u64;
+        if skipped >= SLOTS as u64 {
+            self.ring = [MISSING; SLOTS];
+            self.filled = 0;
+            self.push(value);
+            self.next_due_s = time_s + SLOT_SECONDS;
+            return;
+        }
+        for _ in 0..skipped {
+            self.push(MISSING);
+        }
+        self.push(value);
+        // skipped < 19, exact in f64.
+        self.next_due_s += (skipped + 1) as f64 * SLOT_SECONDS;
+    }
+
+    fn push(&mut self, value: u16) {
+        let next = (usize::from(self.newest) + 1) % SLOTS;
+        if let Some(slot) = self.ring.get_mut(next) {
+            *slot = value;
+        }
+        self.newest = next as u8;
+        if usize::from(self.filled) < SLOTS {
+            self.filled += 1;
+        }
+    }
+
+    fn ago(&self, slots_back: usize) -> Option<u16> {
+        if slots_back >= usize::from(self.filled) {
+            return None;
+        }
+        let index = (usize::from(self.newest) + SLOTS - slots_back) % SLOTS;
+        match self.ring.get(index) {
+            Some(&v) if v != MISSING => Some(v),
+            _ => None,
+        }
+    }
+
+    /// Newest stored sea-level pressure, hPa.
+    pub fn latest_hpa(&self) -> Option<f32> {
+        self.ago(0).map(steps_to_hpa)
+    }
+
+    /// Change of the stored sea-level pressure over the last 3 hours (newest value minus
+    /// the value 18 slots earlier), hPa; negative is falling. `None` until three hours
+    /// are stored, or if either end is missing.
+    pub fn tendency_hpa(&self) -> Option<f32> {
+        let now = self.ago(0)?;
+        let before = self.ago(SLOTS - 1)?;
+        // Exact integer difference, then one conversion.
+        Some((i32::from(now) - i32::from(before)) as f32 * STEP_PA / 100.0)
+    }
+
+    /// True when the 3-hour tendency is a fall of [`TendencyConfig::falling_alert_hpa`] or
+    /// more.
+    pub fn falling_alert(&self) -> bool {
+        self.tendency_hpa()
+            .is_some_and(|t| t <= -self.config.falling_alert_hpa)
+    }
+
+    /// The settings.
+    pub fn config(&self) -> TendencyConfig {
+        self.config
+    }
+
+    /// Forgets every stored value; keeps the settings.
+    pub fn reset(&mut self) {
+        *self = Self {
+            config: self.config,
+            ring: [MISSING; SLOTS],
+            newest: 0,
+            filled: 0,
+            started: false,
+            last_time_s: 0.0,
+            next_due_s: 0.0,
+        };
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn hpa(x: f32) -> Pressure {
+        Pressure::from_hpa(x).unwrap()
+    }
+
+    #[test]
+    fn needs_three_hours() {
+        let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
+        for s in 0..(3 * 3600) {
+            t.update(f64::from(s), hpa(1000.0 - s as f32 / 3600.0))
+                .unwrap();
+        }
+        // Last stored value is at 10 800 - 600 s: only 18 slots so far.
+        assert_eq!(t.tendency_hpa(), None);
+        t.update(10_800.0, hpa(997.0)).unwrap();
+        let change = t.tendency_hpa().unwrap();
+        assert!((change + 3.0).abs() < 1e-3, "{change}");
+        // Exactly 3 hPa: "3 hPa or more" raises the alert.
+        assert!(t.falling_alert());
+    }
+
+    #[test]
+    fn small_fall_no_alert_rise_no_alert() {
+        for rate in [-0.9f32, 0.0, 2.0] {
+            let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
+            for minute in 0..=200 {
+                t.update(
+                    f64::from(minute) * 60.0,
+                    hpa(1010.0 + rate * minute as f32 / 60.0),
+                )
+                .unwrap();
+            }
+            let change = t.tendency_hpa().unwrap();
+            assert!((change - 3.0 * rate).abs() < 0.01, "{rate}: {change}");
+            assert!(!t.falling_alert());
+        }
+    }
+
+    #[test]
+    fn bad_time_leaves_state_unchanged() {
+        let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
+        t.update(100.0, hpa(1000.0)).unwrap();
+        let before = t.clone();
+        assert_eq!(t.update(100.0, hpa(990.0)), Err(Error::NotIncreasing));
+        assert_eq!(t.update(50.0, hpa(990.0)), Err(Error::NotIncreasing));
+        assert_eq!(t.update(f64::NAN, hpa(990.0)), Err(Error::NotFinite));
+        assert_eq!(t, before);
+    }
+
+    #[test]
+    fn gaps_leave_holes_and_long_gaps_empty_the_ring() {
+        let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
+        t.update(0.0, hpa(1000.0)).unwrap();
+        // 3 h later: the value 3 h ago exists, but the gap made the 10-minute slots empty.
+        t.update(10_800.0, hpa(998.0)).unwrap();
+        assert_eq!(t.tendency_hpa(), Some(-2.0));
+        // A gap of a day: nothing left.
+        t.update(10_800.0 + 86_400.0, hpa(990.0)).unwrap();
+        assert_eq!(t.tendency_hpa(), None);
+        assert_eq!(t.latest_hpa(), Some(990.0));
+    }
+
+    #[test]
+    fn values_outside_the_stored_range_are_missing() {
+        let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
+        t.update(0.0, hpa(499.0)).unwrap();
+        assert_eq!(t.latest_hpa(), None);
+        t.update(600.0, hpa(500.0)).unwrap();
+        assert_eq!(t.latest_hpa(), Some(500.0));
+        t.update(1200.0, hpa(1811.0)).unwrap();
+        assert_eq!(t.latest_hpa(), None);
+        t.update(1800.0, hpa(1013.25)).unwrap();
+        // 1013.25 hPa lies half-way between steps: stored within half a step (1 Pa,
+        // 0.01 hPa), plus the f32 rounding of the hPa value (about 6e-5 hPa).
+        assert!((t.latest_hpa().unwrap() - 1013.25).abs() <= 0.01 + 1e-4);
+    }
+
+    #[test]
+    fn config_validation() {
+        let bad = TendencyConfig {
+            falling_alert_hpa: -1.0,
+        };
+        assert_eq!(PressureTendency::new(bad), Err(Error::InvalidSetting));
+    }
+}
