@@ -258,7 +258,7 @@ fn replay(text: &str, settings: Settings, strict: bool) -> Result<Replay, Failur
         .trim(csv::Trim::All)
         .from_reader(text.as_bytes());
     let headers = match reader.headers() {
-        Ok(h) if !h.is_empty() && !(h.len() == 1 && h.get(0) == Some("")) => h.clone(),
+        Ok(h) if h.iter().any(|name| !name.is_empty()) => h.clone(),
         Ok(_) => return Err(Failure::NoRows("empty file: no header row".into())),
         Err(e) => return Err(Failure::NoRows(format!("cannot read the header row: {e}"))),
     };
@@ -497,10 +497,13 @@ fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> String {
     s
 }
 
+/// (time s, raw height m, filtered height m, vertical speed m/s, total ascent m)
+type PlotPoint = (f64, f64, f64, f64, f64);
+
 fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<(), Failure> {
     use plotters::prelude::*;
     let fail = |e: String| Failure::Io(format!("{}: plot: {e}", path.display()));
-    let pts: Vec<(f64, f64, f64, f64, f64)> = replay
+    let pts: Vec<PlotPoint> = replay
         .outputs
         .iter()
         .filter(|(_, o)| o.accepted())
@@ -521,7 +524,7 @@ fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<(), Failure> 
         .iter()
         .fold((f64::MAX, f64::MIN), |(a, b), p| (a.min(p.0), b.max(p.0)));
     let t1 = if t1 > t0 { t1 } else { t0 + 1.0 };
-    let range = |f: &dyn Fn(&(f64, f64, f64, f64, f64)) -> f64| {
+    let range = |f: &dyn Fn(&PlotPoint) -> f64| {
         let (lo, hi) = pts
             .iter()
             .fold((f64::MAX, f64::MIN), |(a, b), p| (a.min(f(p)), b.max(f(p))));
@@ -663,7 +666,16 @@ fn run_one(
 /// The built-in demo logs with the settings their scenario calls for (the invented
 /// sites of examples/sim: the balloon field at 64.2 N, 310 m; the drone yard; the ridge
 /// walk starting at 652 m).
-const DEMOS: [(&str, &str, PresetArg, Option<f32>, Option<f32>); 3] = [
+/// (name, log text, preset, latitude, start altitude)
+type Demo = (
+    &'static str,
+    &'static str,
+    PresetArg,
+    Option<f32>,
+    Option<f32>,
+);
+
+const DEMOS: [Demo; 3] = [
     (
         "balloon",
         include_str!("data/balloon.csv"),

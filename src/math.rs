@@ -226,7 +226,10 @@ mod tests {
                 let ulp = (exact.abs().max(1e-30) as f32).to_bits();
                 let step = (f32::from_bits(ulp + 1) - f32::from_bits(ulp)) as f64;
                 worst = worst.max((got - exact).abs() / step.max(f64::from(f32::MIN_POSITIVE)));
-                assert!((got - exact).abs() <= 4.0 * step.max(1.2e-7 * 1e-3), "ln({x}): {got} vs {exact}");
+                assert!(
+                    (got - exact).abs() <= 4.0 * step.max(1.2e-7 * 1e-3),
+                    "ln({x}): {got} vs {exact}"
+                );
             }
         }
         assert!(worst <= 4.0);
@@ -238,7 +241,10 @@ mod tests {
         while y <= 0.6 {
             let got = small_exp_m1(y) as f64;
             let exact = (y as f64).exp_m1();
-            assert!((got - exact).abs() <= 3.0e-7 * exact.abs() + 1e-12, "{y}: {got} vs {exact}");
+            assert!(
+                (got - exact).abs() <= 3.0e-7 * exact.abs() + 1e-12,
+                "{y}: {got} vs {exact}"
+            );
             y += 0.0007;
         }
     }

@@ -57,12 +57,12 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 
+use crate::Error;
 use crate::atmosphere::{STANDARD_GRAVITY, US_1976, US_1976_GAS_CONSTANT};
 use crate::geopotential::Gravity;
 use crate::humidity;
 use crate::math;
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
-use crate::Error;
 
 /// `Rd / g0`, m/K: geopotential metres per kelvin per unit of `ln p`.
 const R_OVER_G: f32 = US_1976_GAS_CONSTANT / STANDARD_GRAVITY;
@@ -224,8 +224,13 @@ impl<const N: usize> Profile<N> {
         };
         let ln_lo_p = math::ln(lo.pressure_pa / pa);
         let ln_lo_hi = math::ln(lo.pressure_pa / hi.pressure_pa);
-        let f = if ln_lo_hi > 0.0 { ln_lo_p / ln_lo_hi } else { 0.0 };
-        let tv = lo.virtual_temperature_k + f * (hi.virtual_temperature_k - lo.virtual_temperature_k);
+        let f = if ln_lo_hi > 0.0 {
+            ln_lo_p / ln_lo_hi
+        } else {
+            0.0
+        };
+        let tv =
+            lo.virtual_temperature_k + f * (hi.virtual_temperature_k - lo.virtual_temperature_k);
         Height::from_meters(
             lo.geopotential_m + R_OVER_G * 0.5 * (lo.virtual_temperature_k + tv) * ln_lo_p,
         )
@@ -431,9 +436,21 @@ mod tests {
     #[test]
     fn profile_rejects_bad_levels_unchanged() {
         let mut prof = Profile::<2>::new(0.01).unwrap();
-        let a = Level { pressure_pa: 1000.0, geopotential_m: 0.0, virtual_temperature_k: 280.0 };
-        let b = Level { pressure_pa: 900.0, geopotential_m: 800.0, virtual_temperature_k: 275.0 };
-        let c = Level { pressure_pa: 800.0, geopotential_m: 1700.0, virtual_temperature_k: 270.0 };
+        let a = Level {
+            pressure_pa: 1000.0,
+            geopotential_m: 0.0,
+            virtual_temperature_k: 280.0,
+        };
+        let b = Level {
+            pressure_pa: 900.0,
+            geopotential_m: 800.0,
+            virtual_temperature_k: 275.0,
+        };
+        let c = Level {
+            pressure_pa: 800.0,
+            geopotential_m: 1700.0,
+            virtual_temperature_k: 270.0,
+        };
         prof.push(a).unwrap();
         let before = prof.clone();
         assert_eq!(prof.push(a), Err(Error::NotIncreasing));
@@ -444,7 +461,10 @@ mod tests {
         assert_eq!(prof, before);
         assert_eq!(Profile::<1>::new(0.01), Err(Error::InvalidSetting));
         assert_eq!(Profile::<8>::new(0.0), Err(Error::InvalidSetting));
-        let nan = Level { pressure_pa: f32::NAN, ..c };
+        let nan = Level {
+            pressure_pa: f32::NAN,
+            ..c
+        };
         let mut prof = Profile::<8>::new(0.01).unwrap();
         assert_eq!(prof.push(nan), Err(Error::NotFinite));
         assert!(prof.is_empty());

@@ -7,22 +7,49 @@ use isohypse::pipeline::{Estimator, Flags, HeightModel, Pipeline, Sample, Settin
 use isohypse::{Error, Height, Pressure};
 
 fn p_at(z: f32) -> f32 {
-    US_1976.pressure_at(Height::from_meters(z).unwrap()).unwrap().pa()
+    US_1976
+        .pressure_at(Height::from_meters(z).unwrap())
+        .unwrap()
+        .pa()
 }
 
 #[test]
 fn pipeline_state_sizes() {
     use core::mem::size_of;
     let rows = [
-        ("Pipeline<2> (drone, hike presets)", size_of::<Pipeline<2>>()),
-        ("Pipeline<64> (balloon, 64 levels)", size_of::<Pipeline<64>>()),
-        ("Pipeline<256> (balloon, 256 levels)", size_of::<Pipeline<256>>()),
+        (
+            "Pipeline<2> (drone, hike presets)",
+            size_of::<Pipeline<2>>(),
+        ),
+        (
+            "Pipeline<64> (balloon, 64 levels)",
+            size_of::<Pipeline<64>>(),
+        ),
+        (
+            "Pipeline<256> (balloon, 256 levels)",
+            size_of::<Pipeline<256>>(),
+        ),
         ("Settings", size_of::<Settings>()),
-        ("filter::VerticalKalman", size_of::<isohypse::filter::VerticalKalman>()),
-        ("flight::FlightPhases", size_of::<isohypse::flight::FlightPhases>()),
-        ("track::HikeTracker", size_of::<isohypse::track::HikeTracker>()),
-        ("sounding::Sounding<2>", size_of::<isohypse::sounding::Sounding<2>>()),
-        ("sounding::Profile<256>", size_of::<isohypse::sounding::Profile<256>>()),
+        (
+            "filter::VerticalKalman",
+            size_of::<isohypse::filter::VerticalKalman>(),
+        ),
+        (
+            "flight::FlightPhases",
+            size_of::<isohypse::flight::FlightPhases>(),
+        ),
+        (
+            "track::HikeTracker",
+            size_of::<isohypse::track::HikeTracker>(),
+        ),
+        (
+            "sounding::Sounding<2>",
+            size_of::<isohypse::sounding::Sounding<2>>(),
+        ),
+        (
+            "sounding::Profile<256>",
+            size_of::<isohypse::sounding::Profile<256>>(),
+        ),
     ];
     println!("| state (host, {}-bit) | bytes |", usize::BITS);
     println!("| --- | --- |");
@@ -44,7 +71,10 @@ fn pointwise_standard_is_pressure_altitude() {
     s.model = HeightModel::Standard;
     s.estimator = Estimator::Off;
     let mut pipe = Pipeline::<2>::new(s).unwrap();
-    for (i, p) in [101_325.0f32, 90_000.0, 50_000.0, 1_000.0, 10.0].iter().enumerate() {
+    for (i, p) in [101_325.0f32, 90_000.0, 50_000.0, 1_000.0, 10.0]
+        .iter()
+        .enumerate()
+    {
         let out = pipe.process(&Sample::pressure(i as f64, *p));
         assert!(out.accepted());
         let expect = atmosphere::pressure_altitude(Pressure::from_pa(*p).unwrap()).unwrap();
