@@ -31,7 +31,7 @@ const US76_LAYERS: [(f64, f64, f64); 8] = [
 /// Round-trip limit: 1 mm, the goal for the default `libm` backend; with the optional
 /// `micromath` backend its published height accuracy applies (2 cm, as in
 /// tests/common `height_limit`).
-const ROUND_TRIP_M: f32 = if cfg!(feature = "micromath") {
+const ROUND_TRIP_M: f32 = if cfg!(all(feature = "micromath", not(feature = "libm"))) {
     0.02
 } else {
     1e-3

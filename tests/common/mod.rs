@@ -150,7 +150,7 @@ pub fn read_csv(text: &str) -> (Vec<String>, Vec<Vec<f64>>) {
 
 /// True when the crate is built with the `micromath` backend, whose functions are less
 /// precise: tests then apply the limits README publishes for that backend.
-pub const MICROMATH: bool = cfg!(feature = "micromath");
+pub const MICROMATH: bool = cfg!(all(feature = "micromath", not(feature = "libm")));
 
 /// Height limit for a check: the design goal for the default `libm` backend
 /// (1 cm to 51 km, 5 cm above), and the measured-and-published limit for `micromath`
