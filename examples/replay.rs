@@ -33,50 +33,50 @@ use isohypse::pipeline::{Estimator, HeightModel, Output, Pipeline, Sample, Setti
 /// the firmware runs) and write the heights, an SVG plot and a summary.
 #[derive(Parser, Debug)]
 #[command(version, about, long_about = None, after_help = AFTER_HELP)]
-struct Cli {
+pub(crate) struct Cli {
     /// Input CSV log. Without it the three built-in demo logs (balloon, drone, hike)
     /// are replayed and the files go to --out-dir.
-    input: Option<PathBuf>,
+    pub(crate) input: Option<PathBuf>,
     /// Output CSV (default: next to the input, `<input>.out.csv`).
     #[arg(long, value_name = "FILE")]
-    out: Option<PathBuf>,
+    pub(crate) out: Option<PathBuf>,
     /// SVG plot of raw and filtered height, vertical speed, phases and totals
     /// (default: `<input>.svg`).
     #[arg(long, value_name = "FILE.svg")]
-    plot: Option<PathBuf>,
+    pub(crate) plot: Option<PathBuf>,
     /// Summary text file (default: `<input>.summary.txt`; always printed too).
     #[arg(long, value_name = "FILE")]
-    summary: Option<PathBuf>,
+    pub(crate) summary: Option<PathBuf>,
     /// Directory for the demo run's files (no input given).
     #[arg(long, value_name = "DIR", default_value = "target/replay")]
-    out_dir: PathBuf,
+    pub(crate) out_dir: PathBuf,
     /// Settings preset for the kind of device.
     #[arg(long, value_enum, default_value_t = PresetArg::Balloon)]
-    preset: PresetArg,
+    pub(crate) preset: PresetArg,
     /// Height model: `standard` (U.S. 1976 pressure altitude plus datum) or `sounding`
     /// (layer-by-layer hypsometric integration with each row's temperature and
     /// humidity). Default: the preset's (balloon: sounding; drone, hike: standard).
     #[arg(long, value_enum)]
-    model: Option<ModelArg>,
+    pub(crate) model: Option<ModelArg>,
     /// `off`: pointwise conversion, no smoothing or outlier rejection; `on`: the
     /// preset's estimator.
     #[arg(long, value_enum, default_value_t = FilterArg::On)]
-    filter: FilterArg,
+    pub(crate) filter: FilterArg,
     /// Height of the first row, or of the ground reference averaged over the rows at
     /// rest before motion starts; sets the datum. Without it: the standard pressure
     /// altitude (drone preset: 0, height above the take-off point).
     #[arg(long, value_name = "H", allow_hyphen_values = true)]
-    start_altitude_m: Option<f32>,
+    pub(crate) start_altitude_m: Option<f32>,
     /// Latitude for gravity (sounding model, geometric heights). Without it: standard
     /// gravity 9.80665 m/s^2.
     #[arg(long, value_name = "D", allow_hyphen_values = true)]
-    latitude_deg: Option<f32>,
+    pub(crate) latitude_deg: Option<f32>,
     /// Stop at the first bad row with exit code 2 instead of skipping it.
     #[arg(long)]
-    strict: bool,
+    pub(crate) strict: bool,
     /// Print nothing but errors.
     #[arg(long)]
-    quiet: bool,
+    pub(crate) quiet: bool,
 }
 
 const AFTER_HELP: &str = "\
@@ -91,44 +91,44 @@ previous row) is reported with its line number and skipped, or stops the run wit
 Not certified for aviation, navigation or life-safety use (see SAFETY.md).";
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
-enum PresetArg {
+pub(crate) enum PresetArg {
     Balloon,
     Drone,
     Hike,
 }
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
-enum ModelArg {
+pub(crate) enum ModelArg {
     Standard,
     Sounding,
 }
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
-enum FilterArg {
+pub(crate) enum FilterArg {
     On,
     Off,
 }
 
 /// Profile capacity of the host pipeline (balloon descent profile).
-const PROFILE_LEVELS: usize = 512;
+pub(crate) const PROFILE_LEVELS: usize = 512;
 
 /// A parsed input row.
 #[derive(Debug, Clone, Copy)]
-struct Row {
+pub(crate) struct Row {
     /// Line of the input file the row came from.
     #[allow(dead_code)]
-    line: u64,
-    time_s: f64,
-    pressure_pa: Option<f32>,
-    temperature_c: Option<f32>,
-    humidity_pct: Option<f32>,
-    accel_up_mps2: Option<f32>,
-    known_altitude_m: Option<f32>,
+    pub(crate) line: u64,
+    pub(crate) time_s: f64,
+    pub(crate) pressure_pa: Option<f32>,
+    pub(crate) temperature_c: Option<f32>,
+    pub(crate) humidity_pct: Option<f32>,
+    pub(crate) accel_up_mps2: Option<f32>,
+    pub(crate) known_altitude_m: Option<f32>,
 }
 
 /// Why a run failed.
 #[derive(Debug)]
-enum Failure {
+pub(crate) enum Failure {
     Usage(String),
     Io(String),
     StrictRow(String),
@@ -136,14 +136,14 @@ enum Failure {
 }
 
 impl Failure {
-    fn code(&self) -> u8 {
+    pub(crate) fn code(&self) -> u8 {
         match self {
             Failure::Usage(_) | Failure::Io(_) => 1,
             Failure::StrictRow(_) => 2,
             Failure::NoRows(_) => 3,
         }
     }
-    fn message(&self) -> &str {
+    pub(crate) fn message(&self) -> &str {
         match self {
             Failure::Usage(m) | Failure::Io(m) | Failure::StrictRow(m) | Failure::NoRows(m) => m,
         }
@@ -152,13 +152,13 @@ impl Failure {
 
 /// What one replay produced.
 #[derive(Debug, Default)]
-struct Replay {
-    outputs: Vec<(Row, Output)>,
-    accel_rows: usize,
-    rejected: BTreeMap<String, usize>,
-    messages: Vec<String>,
-    flag_counts: BTreeMap<&'static str, usize>,
-    events: Vec<(String, f64, f32)>,
+pub(crate) struct Replay {
+    pub(crate) outputs: Vec<(Row, Output)>,
+    pub(crate) accel_rows: usize,
+    pub(crate) rejected: BTreeMap<String, usize>,
+    pub(crate) messages: Vec<String>,
+    pub(crate) flag_counts: BTreeMap<&'static str, usize>,
+    pub(crate) events: Vec<(String, f64, f32)>,
 }
 
 const COLUMNS: [&str; 6] = [
@@ -170,7 +170,7 @@ const COLUMNS: [&str; 6] = [
     "known_altitude_m",
 ];
 
-fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
+pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
     let mut s = match cli.preset {
         PresetArg::Balloon => Settings::balloon(),
         PresetArg::Drone => Settings::drone(),
@@ -204,7 +204,7 @@ fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
 }
 
 /// Parse an optional numeric cell; `Err` names the problem.
-fn cell(text: Option<&str>, name: &str) -> Result<Option<f64>, String> {
+pub(crate) fn cell(text: Option<&str>, name: &str) -> Result<Option<f64>, String> {
     match text.map(str::trim) {
         None | Some("") => Ok(None),
         Some(t) => match t.parse::<f64>() {
@@ -216,7 +216,7 @@ fn cell(text: Option<&str>, name: &str) -> Result<Option<f64>, String> {
 }
 
 /// Check a row's values for physical sense. Returns the problem, if any.
-fn physical(row: &Row) -> Option<String> {
+pub(crate) fn physical(row: &Row) -> Option<String> {
     if let Some(p) = row.pressure_pa {
         if p <= 0.0 {
             return Some(format!("pressure_pa must be positive, got {p}"));
@@ -249,7 +249,7 @@ fn physical(row: &Row) -> Option<String> {
 }
 
 /// Read and validate the log; run every accepted row through the pipeline.
-fn replay(text: &str, settings: Settings, strict: bool) -> Result<Replay, Failure> {
+pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Replay, Failure> {
     let mut pipeline = Pipeline::<PROFILE_LEVELS>::new(settings)
         .map_err(|e| Failure::Usage(format!("invalid settings: {e}")))?;
     let mut reader = csv::ReaderBuilder::new()
@@ -395,7 +395,7 @@ fn replay(text: &str, settings: Settings, strict: bool) -> Result<Replay, Failur
     Ok(out)
 }
 
-fn write_output(path: &Path, replay: &Replay) -> Result<(), Failure> {
+pub(crate) fn write_output(path: &Path, replay: &Replay) -> Result<(), Failure> {
     let io = |e: std::io::Error| Failure::Io(format!("{}: {e}", path.display()));
     let mut f = std::io::BufWriter::new(fs::File::create(path).map_err(io)?);
     writeln!(
@@ -423,7 +423,7 @@ fn write_output(path: &Path, replay: &Replay) -> Result<(), Failure> {
     f.flush().map_err(io)
 }
 
-fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> String {
+pub(crate) fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> String {
     use std::fmt::Write as _;
     let mut s = String::new();
     let accepted: Vec<&(Row, Output)> = replay
@@ -498,9 +498,9 @@ fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> String {
 }
 
 /// (time s, raw height m, filtered height m, vertical speed m/s, total ascent m)
-type PlotPoint = (f64, f64, f64, f64, f64);
+pub(crate) type PlotPoint = (f64, f64, f64, f64, f64);
 
-fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<(), Failure> {
+pub(crate) fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<(), Failure> {
     use plotters::prelude::*;
     let fail = |e: String| Failure::Io(format!("{}: plot: {e}", path.display()));
     let pts: Vec<PlotPoint> = replay
@@ -632,7 +632,7 @@ fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<(), Failure> 
 }
 
 /// Run one log and write its files; returns the summary text.
-fn run_one(
+pub(crate) fn run_one(
     name: &str,
     text: &str,
     cli: &Cli,
@@ -667,7 +667,7 @@ fn run_one(
 /// sites of examples/sim: the balloon field at 64.2 N, 310 m; the drone yard; the ridge
 /// walk starting at 652 m).
 /// (name, log text, preset, latitude, start altitude)
-type Demo = (
+pub(crate) type Demo = (
     &'static str,
     &'static str,
     PresetArg,
@@ -675,7 +675,7 @@ type Demo = (
     Option<f32>,
 );
 
-const DEMOS: [Demo; 3] = [
+pub(crate) const DEMOS: [Demo; 3] = [
     (
         "balloon",
         include_str!("data/balloon.csv"),
@@ -699,7 +699,7 @@ const DEMOS: [Demo; 3] = [
     ),
 ];
 
-fn run(cli: &Cli) -> Result<(), Failure> {
+pub(crate) fn run(cli: &Cli) -> Result<(), Failure> {
     match &cli.input {
         Some(input) => {
             let text = fs::read_to_string(input)
