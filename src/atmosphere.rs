@@ -265,10 +265,9 @@ impl StandardAtmosphere {
 
     /// Temperature, pressure and density at geopotential height `h` (m').
     ///
-    /// Equations: `T = Tb + L (H - Hb)`; pressure from
-    /// [`hypsometric::pressure_at_lapse_height`] or
-    /// [`hypsometric::pressure_at_isothermal_height`]; density `rho = p / (R T)`
-    /// (U.S. 1976 equations 23, 33a, 33b, 42).
+    /// Equations: `T = Tb + L (H - Hb)`; pressure
+    /// `p = pb (1 + L (H - Hb) / Tb)^(-g0 / (R L))`, or `p = pb exp(-g0 (H - Hb) / (R Tb))`
+    /// for `L = 0`; density `rho = p / (R T)` (U.S. 1976 equations 23, 33a, 33b, 42).
     ///
     /// Errors: [`Error::BelowModelBottom`], [`Error::AboveModelTop`].
     pub fn at_geopotential(&self, h: Height) -> Result<AtmosphereState, Error> {
