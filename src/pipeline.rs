@@ -25,6 +25,7 @@
 
 use crate::Error;
 use crate::atmosphere::{STANDARD_GRAVITY, US_1976, US_1976_GAS_CONSTANT};
+use crate::datum::AltimeterSetting;
 use crate::filter::{
     GroundReference, GroundReferenceConfig, KalmanOutcome, VerticalKalman, VerticalKalmanConfig,
 };
@@ -251,6 +252,10 @@ pub struct Settings {
     /// motion starts), m. `None`: no datum shift (standard model: pressure altitude;
     /// sounding: starts at the first sample's pressure altitude).
     pub start_altitude_m: Option<f32>,
+    /// Altimeter setting of the standard model: standard (pressure altitude), sea-level
+    /// setting QNH, or field setting QFE ([`crate::datum`]). A start altitude, when
+    /// given, then moves the datum to the ground reference.
+    pub altimeter_setting: AltimeterSetting,
     /// Latitude for gravity (sounding model and geometric heights), degrees. `None`:
     /// standard gravity 9.806 65 m/s^2 with the U.S. 1976 inverse-square law.
     pub latitude_deg: Option<f32>,
@@ -292,6 +297,7 @@ impl Settings {
                 totals_band_m: 30.0,
             },
             start_altitude_m: None,
+            altimeter_setting: AltimeterSetting::Standard,
             latitude_deg: None,
             ground_min_samples: 10,
             pressure_range_pa: (US_1976.top_pressure_pa(), 110_000.0),
@@ -312,6 +318,7 @@ impl Settings {
                 totals_band_m: 0.5,
             },
             start_altitude_m: Some(0.0),
+            altimeter_setting: AltimeterSetting::Standard,
             latitude_deg: None,
             ground_min_samples: 50,
             pressure_range_pa: (30_000.0, 110_000.0),
@@ -332,6 +339,7 @@ impl Settings {
                 phases: PhaseSettings::HIKE,
             },
             start_altitude_m: None,
+            altimeter_setting: AltimeterSetting::Standard,
             latitude_deg: None,
             ground_min_samples: 1,
             pressure_range_pa: (25_000.0, 110_000.0),
@@ -365,6 +373,17 @@ impl Settings {
         if let Some(lat) = self.latitude_deg {
             Gravity::at_latitude(lat)?;
         }
+        if let AltimeterSetting::SeaLevel { qnh } = self.altimeter_setting {
+            // Sea-level pressures on record stay within about 870-1084 hPa (from
+            // memory); 850-1100 hPa leaves a margin and refuses typing errors.
+            if !(85_000.0..=110_000.0).contains(&qnh.pa()) {
+                return Err(Error::InvalidSetting);
+            }
+        }
+        if let Some(p) = self.altimeter_setting.setting_pressure() {
+            // the setting must lie inside the standard atmosphere
+            self.altimeter_setting.height(p)?;
+        }
         if let Estimator::Kalman(k) = self.estimator {
             k.validate()?;
         }
@@ -394,6 +413,7 @@ impl Settings {
 
 #[derive(Debug, Clone, PartialEq)]
 #[allow(clippy::large_enum_variant)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 enum TrackState {
     Flight(AscentTotals),
     Hike(HikeTracker),
@@ -404,6 +424,7 @@ enum TrackState {
 ///
 /// State size: printed by the test `pipeline_state_sizes` and in README.
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Pipeline<const N: usize> {
     settings: Settings,
     gravity: Gravity,
@@ -421,6 +442,7 @@ pub struct Pipeline<const N: usize> {
     last_temperature: Option<Temperature>,
     outliers: u32,
     hike_speed_mps: f32,
+    last_pressure_pa: f32,
     last: Output,
 }
 
@@ -464,6 +486,7 @@ impl<const N: usize> Pipeline<N> {
             last_temperature: None,
             outliers: 0,
             hike_speed_mps: 0.0,
+            last_pressure_pa: 0.0,
             last: Output::default(),
         })
     }
@@ -503,6 +526,33 @@ impl<const N: usize> Pipeline<N> {
         self.settings = s;
         self.ground_frozen = false;
         self.ground.rezero();
+        Ok(())
+    }
+
+    /// A new altimeter setting at run time (a new QNH from the weather service, a
+    /// field's QFE). The estimator, phases and totals keep their state: the height
+    /// moves to the new setting smoothly through [`Settings::fix_time_constant_s`]
+    /// instead of jumping. Errors, settings unchanged: [`Error::InvalidSetting`] and the
+    /// standard atmosphere's range errors for a setting outside it.
+    pub fn set_altimeter_setting(&mut self, setting: AltimeterSetting) -> Result<(), Error> {
+        let mut s = self.settings;
+        s.altimeter_setting = setting;
+        s.validate()?;
+        // Height difference the new setting makes at the last pressure; the datum
+        // offset absorbs it now and slews back to its target.
+        if let (HeightModel::Standard, Some(p)) = (
+            self.settings.model,
+            Pressure::from_pa(self.last_pressure_pa).ok(),
+        ) {
+            let old = self.settings.altimeter_setting.height(p)?;
+            let new = setting.height(p)?;
+            self.offset_m -= new.meters() - old.meters();
+        }
+        if self.settings.start_altitude_m.is_some() && !self.ground_frozen {
+            // the ground reference averaged heights of the old setting: take it anew
+            self.ground.rezero();
+        }
+        self.settings = s;
         Ok(())
     }
 
@@ -739,6 +789,7 @@ impl<const N: usize> Pipeline<N> {
 
         // 6. Commit.
         self.hike_speed_mps = hike_speed;
+        self.last_pressure_pa = pressure.pa();
         self.sounding = sounding;
         self.ground = ground;
         self.ground_frozen = ground_frozen;
@@ -784,7 +835,11 @@ impl<const N: usize> Pipeline<N> {
         match self.settings.model {
             HeightModel::Standard => {
                 let t_std = US_1976.temperature_at(std_height)?.kelvin();
-                Ok((std_height.meters(), t.map_or(t_std, |t| t.kelvin())))
+                let h = match self.settings.altimeter_setting {
+                    AltimeterSetting::Standard => std_height,
+                    setting => setting.height(p)?,
+                };
+                Ok((h.meters(), t.map_or(t_std, |t| t.kelvin())))
             }
             HeightModel::Sounding { descent_on_profile } => {
                 let t = match (t, self.last_temperature) {

@@ -186,3 +186,52 @@ fn sounding_preset_starts_at_start_altitude() {
     assert!((out.altitude_m - 310.0).abs() < 0.05, "{}", out.altitude_m);
     assert!(pipe.sounding().is_some());
 }
+
+#[test]
+fn sea_level_setting_and_run_time_change() {
+    use isohypse::datum::AltimeterSetting;
+    // QNH 1013.25 hPa gives the pressure altitude; a QNH 10 hPa higher reads about
+    // 83 m higher near sea level (common practice: about 8.3 m per hPa).
+    let mut s = Settings::drone();
+    s.start_altitude_m = None;
+    s.estimator = Estimator::Off;
+    s.altimeter_setting = AltimeterSetting::SeaLevel {
+        qnh: Pressure::from_hpa(1023.25).unwrap(),
+    };
+    let mut pipe = Pipeline::<2>::new(s).unwrap();
+    let p = p_at(300.0);
+    let out = pipe.process(&Sample::pressure(0.0, p));
+    assert!(
+        (out.altitude_m - 300.0 - 83.0).abs() < 2.0,
+        "{}",
+        out.altitude_m
+    );
+    // New QNH at run time: no jump, the height slews to the new setting.
+    let before = out.altitude_m;
+    pipe.set_altimeter_setting(AltimeterSetting::Standard)
+        .unwrap();
+    let next = pipe.process(&Sample::pressure(0.02, p));
+    assert!(
+        (next.altitude_m - before).abs() < 1.0,
+        "jumped to {}",
+        next.altitude_m
+    );
+    let mut last = next;
+    for i in 2..2000 {
+        last = pipe.process(&Sample::pressure(i as f64 * 0.02, p));
+    }
+    assert!(
+        (last.altitude_m - 300.0).abs() < 0.05,
+        "{}",
+        last.altitude_m
+    );
+    // An invalid setting is refused and the old one kept.
+    let kept = pipe.clone();
+    assert!(
+        pipe.set_altimeter_setting(AltimeterSetting::SeaLevel {
+            qnh: Pressure::from_pa(1.0).unwrap()
+        })
+        .is_err()
+    );
+    assert_eq!(pipe, kept);
+}
