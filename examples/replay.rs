@@ -58,8 +58,9 @@ pub(crate) struct Cli {
     /// humidity). Default: the preset's (balloon: sounding; drone, hike: standard).
     #[arg(long, value_enum)]
     pub(crate) model: Option<ModelArg>,
-    /// `off`: pointwise conversion, no smoothing or outlier rejection; `on`: the
-    /// preset's estimator.
+    /// `off`: pointwise conversion: no smoothing, no outlier rejection, no weather hold
+    /// (hike totals then count every move beyond a 3 m band); `on`: the preset's
+    /// estimator and trackers.
     #[arg(long, value_enum, default_value_t = FilterArg::On)]
     pub(crate) filter: FilterArg,
     /// Height of the first row, or of the ground reference averaged over the rows at
@@ -186,7 +187,16 @@ pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
         None => {}
     }
     if cli.filter == FilterArg::Off {
+        // pointwise conversion: no estimator, no spike gate, and for the hike preset
+        // no smoothing or weather hold either (plain totals)
         s.estimator = Estimator::Off;
+        s.spike_gate_m = None;
+        if let isohypse::pipeline::Tracking::Hike { phases, .. } = s.tracking {
+            s.tracking = isohypse::pipeline::Tracking::Flight {
+                phases,
+                totals_band_m: 3.0,
+            };
+        }
     }
     if cli.start_altitude_m.is_some() {
         s.start_altitude_m = cli.start_altitude_m;

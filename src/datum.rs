@@ -234,6 +234,7 @@ pub fn density_altitude(
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Calibration<M> {
     model: M,
     reference: Option<Reference>,

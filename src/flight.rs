@@ -162,6 +162,7 @@ impl PhaseSettings {
 /// The phase state machine. State: 96 bytes (`size_of`, printed by the pipeline's
 /// size test). O(1) per sample.
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct FlightPhases {
     settings: PhaseSettings,
     phase: Phase,

@@ -83,7 +83,7 @@
 //!    landed) and [`track`] (walking devices: ascent/descent totals with hysteresis,
 //!    weather drift at rest, known-elevation fixes, 3-hour pressure tendency).
 //! 7. **Pipeline** — [`pipeline`] (one call per sample, presets for balloon, drone and
-//!    hike), and the optional `embedded-hal` sensor adapter and `defmt` formatting.
+//!    hike), and the optional `embedded-hal` sensor adapter (`sensor`) and `defmt` formatting.
 //!
 //! Every formula's documentation gives the equation and its published source.
 //!
@@ -121,6 +121,8 @@ pub mod hypsometric;
 mod math;
 pub mod model;
 pub mod pipeline;
+#[cfg(feature = "embedded-hal")]
+pub mod sensor;
 pub mod sounding;
 pub mod track;
 pub mod units;

@@ -714,6 +714,7 @@ pub struct ProfileKnot {
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct TemperatureProfile<const N: usize> {
     knots: heapless::Vec<ProfileKnot, N>,
 }

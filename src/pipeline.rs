@@ -270,6 +270,10 @@ pub struct Settings {
     pub temperature_uncertainty_k: f32,
     /// Time constant with which a known-elevation fix moves the datum, s (0: at once).
     pub fix_time_constant_s: f32,
+    /// With [`Estimator::Off`]: a model height further than this (m) from the median of
+    /// the last five accepted heights is an outlier, carried forward and flagged; after
+    /// five outliers in a row the next sample is taken (a real step). `None`: no gate.
+    pub spike_gate_m: Option<f32>,
 }
 
 impl Settings {
@@ -304,6 +308,7 @@ impl Settings {
             pressure_noise_pa: 2.0,
             temperature_uncertainty_k: 0.5,
             fix_time_constant_s: 10.0,
+            spike_gate_m: None,
         }
     }
 
@@ -325,6 +330,7 @@ impl Settings {
             pressure_noise_pa: 1.5,
             temperature_uncertainty_k: 2.0,
             fix_time_constant_s: 2.0,
+            spike_gate_m: None,
         }
     }
 
@@ -346,6 +352,8 @@ impl Settings {
             pressure_noise_pa: 2.0,
             temperature_uncertainty_k: 5.0,
             fix_time_constant_s: 30.0,
+            // walking moves a few metres between samples; a spike moves tens to hundreds
+            spike_gate_m: Some(15.0),
         }
     }
 
@@ -358,10 +366,9 @@ impl Settings {
             && lo > 0.0
             && lo < hi
             && self.ground_min_samples >= 1
-            && self.pressure_noise_pa.is_finite()
-            && self.pressure_noise_pa >= 0.0
-            && self.temperature_uncertainty_k.is_finite()
-            && self.temperature_uncertainty_k >= 0.0
+            && (0.0..=MAX_PRESSURE_NOISE_PA).contains(&self.pressure_noise_pa)
+            && (0.0..=MAX_TEMPERATURE_UNCERTAINTY_K).contains(&self.temperature_uncertainty_k)
+            && self.spike_gate_m.is_none_or(|g| g.is_finite() && g > 0.0)
             && self.fix_time_constant_s.is_finite()
             && self.fix_time_constant_s >= 0.0
             && self
@@ -441,6 +448,7 @@ pub struct Pipeline<const N: usize> {
     last_time_s: Option<f64>,
     last_temperature: Option<Temperature>,
     outliers: u32,
+    spikes: SpikeGate,
     hike_speed_mps: f32,
     last_pressure_pa: f32,
     last: Output,
@@ -485,6 +493,7 @@ impl<const N: usize> Pipeline<N> {
             last_time_s: None,
             last_temperature: None,
             outliers: 0,
+            spikes: SpikeGate::new(),
             hike_speed_mps: 0.0,
             last_pressure_pa: 0.0,
             last: Output::default(),
@@ -644,32 +653,27 @@ impl<const N: usize> Pipeline<N> {
             return rejected(Flags::REJECTED_MODEL, &self.last);
         };
 
-        // 3. Datum: ground reference while on the ground, then fixes.
+        // 3. Datum: the ground reference averaged so far (this sample joins it below,
+        //    once the estimator has accepted it and the vehicle is at rest), then fixes.
         let mut ground = self.ground;
         let mut ground_frozen = self.ground_frozen;
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
-        if let Some(start) = self.settings.start_altitude_m {
-            if !ground_frozen {
-                if self.phases.phase() == Phase::Ground {
-                    if ground.push(sample.time_s, height_or_zero(model_m)).is_err() {
-                        return rejected(Flags::REJECTED_TIME, &self.last);
-                    }
-                    if let Ok(mean) = ground.mean() {
-                        offset_target = start - mean.meters();
-                        offset = offset_target;
-                    } else {
-                        flags.set(Flags::GROUND_AVERAGING);
-                        if self.last_time_s.is_none() {
-                            // provisional until enough samples are averaged
-                            offset_target = start - model_m;
-                            offset = offset_target;
-                        }
-                    }
-                } else {
-                    ground_frozen = true;
-                }
+        let averaging = self.settings.start_altitude_m.is_some()
+            && !ground_frozen
+            && self.phases.phase() == Phase::Ground;
+        if let (Some(start), true) = (self.settings.start_altitude_m, averaging) {
+            if ground.sample_count() == 0 {
+                // provisional until samples at rest are averaged
+                offset_target = start - model_m;
+                offset = offset_target;
             }
+            if !ground.is_ready() {
+                flags.set(Flags::GROUND_AVERAGING);
+            }
+        } else if self.settings.start_altitude_m.is_some() && !ground_frozen {
+            // motion started: the reference is fixed from now on
+            ground_frozen = true;
         }
         if let Some(known) = fix {
             if !matches!(self.track, TrackState::Hike(_)) {
@@ -697,15 +701,43 @@ impl<const N: usize> Pipeline<N> {
             return rejected(Flags::REJECTED_MODEL, &self.last);
         };
 
-        // 4. Estimator.
+        // 4. Estimator (with its outlier gate), or the pointwise height behind a median
+        //    spike gate.
         let mut kalman = self.kalman;
+        let mut spikes = self.spikes;
         let (height_m, speed_mps, sigma_m) = match kalman.as_mut() {
             None => {
-                let speed = match self.last_time_s {
-                    Some(t) if self.last.accepted() => {
-                        (raw_m - self.last.raw_altitude_m) / (sample.time_s - t) as f32
+                if let Some(gate) = self.settings.spike_gate_m {
+                    if spikes.is_spike(sample.time_s, model_m, gate) {
+                        // carried forward; the gate counts toward re-acquiring
+                        spikes.consecutive = spikes.consecutive.saturating_add(1);
+                        let mut out = self.last;
+                        out.time_s = sample.time_s;
+                        out.event = None;
+                        out.flags = flags;
+                        out.flags.set(Flags::OUTLIER);
+                        self.spikes = spikes;
+                        self.outliers = self.outliers.saturating_add(1);
+                        // taken (flagged), so its time counts as the last one
+                        self.last_time_s = Some(sample.time_s);
+                        self.last = out;
+                        return out;
                     }
-                    _ => 0.0,
+                    spikes.accept(sample.time_s, model_m);
+                }
+                let speed = match self.last_time_s {
+                    Some(t)
+                        if self.last.accepted() && !self.last.flags.contains(Flags::OUTLIER) =>
+                    {
+                        // in f64: a step of 1e-40 s must not divide to infinity in f32
+                        let v = f64::from(raw_m - self.last.raw_altitude_m) / (sample.time_s - t);
+                        if v.is_finite() && v.abs() < 1.0e4 {
+                            v as f32
+                        } else {
+                            self.last.vertical_speed_mps
+                        }
+                    }
+                    _ => self.last.vertical_speed_mps,
                 };
                 (raw_m, speed, self.model_sigma(pressure, column_t, raw_m))
             }
@@ -729,6 +761,18 @@ impl<const N: usize> Pipeline<N> {
                 }
             }
         };
+        // The ground reference takes samples the estimator accepted, at rest only: a
+        // spike or the first seconds of a climb must not move the zero.
+        if let (Some(start), true) = (self.settings.start_altitude_m, averaging) {
+            let at_rest = speed_mps.abs() < self.phases.settings().rest_mps;
+            if at_rest && !flags.contains(Flags::OUTLIER) && !flags.contains(Flags::REACQUIRED) {
+                let _ = ground.push(sample.time_s, height_or_zero(model_m));
+                if let Ok(mean) = ground.mean().or_else(|_| ground.running_mean()) {
+                    offset_target = start - mean.meters();
+                    offset = offset_target;
+                }
+            }
+        }
 
         // 5. Trackers.
         let mut track = self.track.clone();
@@ -796,6 +840,7 @@ impl<const N: usize> Pipeline<N> {
         self.offset_m = offset;
         self.offset_target_m = offset_target;
         self.kalman = kalman;
+        self.spikes = spikes;
         self.phases = phases;
         self.track = track;
         self.last_time_s = Some(sample.time_s);
@@ -913,6 +958,57 @@ impl<const N: usize> Pipeline<N> {
         let from_temperature =
             (height_m - reference).abs() * self.settings.temperature_uncertainty_k / column_t;
         crate::math::sqrt(from_pressure * from_pressure + from_temperature * from_temperature)
+    }
+}
+
+/// Largest accepted [`Settings::pressure_noise_pa`], Pa (10 hPa: beyond any working
+/// barometer; larger values would overflow the height sigma).
+pub const MAX_PRESSURE_NOISE_PA: f32 = 1_000.0;
+/// Largest accepted [`Settings::temperature_uncertainty_k`], K.
+pub const MAX_TEMPERATURE_UNCERTAINTY_K: f32 = 100.0;
+
+/// Median spike gate of the pointwise path: the last five accepted model heights.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct SpikeGate {
+    window: crate::filter::Median<5>,
+    consecutive: u8,
+    last_accept_s: f64,
+}
+
+/// After this long without an accepted sample (s) the spike window is stale: the next
+/// sample is taken and starts it anew (after a gap the device may be anywhere).
+const SPIKE_STALE_S: f64 = 120.0;
+
+/// Outliers in a row after which the spike gate takes the next sample.
+const SPIKE_REACQUIRE: u8 = 5;
+
+impl SpikeGate {
+    fn new() -> Self {
+        Self {
+            window: crate::filter::Median::new(),
+            consecutive: 0,
+            last_accept_s: f64::NEG_INFINITY,
+        }
+    }
+
+    fn is_spike(&self, time_s: f64, h: f32, gate: f32) -> bool {
+        self.consecutive < SPIKE_REACQUIRE
+            && time_s - self.last_accept_s <= SPIKE_STALE_S
+            && self
+                .window
+                .value()
+                .is_some_and(|median| (h - median).abs() > gate)
+    }
+
+    fn accept(&mut self, time_s: f64, h: f32) {
+        if self.consecutive >= SPIKE_REACQUIRE || time_s - self.last_accept_s > SPIKE_STALE_S {
+            // a real step, or a long gap: start the window anew at the new level
+            self.window.clear();
+        }
+        self.consecutive = 0;
+        self.last_accept_s = time_s;
+        let _ = self.window.push(h);
     }
 }
 

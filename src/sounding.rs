@@ -86,6 +86,7 @@ pub struct Level {
 /// rare call that thins a full profile; [`Profile::geopotential_at`] O(log N) (binary
 /// search) plus two logarithms.
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Profile<const N: usize> {
     levels: heapless::Vec<Level, N>,
     step_ln_p: f32,
@@ -269,6 +270,7 @@ pub struct SoundingStep {
 /// logarithm for the layer, one more when a profile level is due, and the
 /// geopotential-to-geometric conversion (three Newton steps for a latitude).
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Sounding<const N: usize> {
     gravity: Gravity,
     geopotential_m: f32,

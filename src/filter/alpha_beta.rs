@@ -41,6 +41,7 @@ use crate::{Error, Height, VerticalSpeed};
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct AlphaBeta {
     alpha: f32,
     beta: f32,

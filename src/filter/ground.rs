@@ -53,6 +53,7 @@ impl Default for GroundReferenceConfig {
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct GroundReference {
     config: GroundReferenceConfig,
     first_time_s: f64,
@@ -133,6 +134,15 @@ impl GroundReference {
     /// Errors: [`Error::NotEnoughData`] until [`Self::is_ready`].
     pub fn mean(&self) -> Result<Height, Error> {
         if !self.is_ready() {
+            return Err(Error::NotEnoughData);
+        }
+        Height::from_meters(self.anchor_m + (self.sum + self.comp) / self.count as f32)
+    }
+
+    /// Mean of the samples averaged so far, before the reference is ready (a
+    /// provisional zero); `Err(NotEnoughData)` with no sample.
+    pub fn running_mean(&self) -> Result<Height, Error> {
+        if self.count == 0 {
             return Err(Error::NotEnoughData);
         }
         Height::from_meters(self.anchor_m + (self.sum + self.comp) / self.count as f32)

@@ -160,6 +160,7 @@ pub struct VerticalEstimate {
 /// Symmetric 3 x 3 covariance over (height, speed, bias), stored as its six distinct
 /// entries so that it is symmetric by construction.
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct Covariance {
     hh: f32,
     hv: f32,
@@ -171,6 +172,7 @@ struct Covariance {
 
 /// The numeric state: mean and covariance.
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct Core {
     h: f32,
     v: f32,
@@ -266,6 +268,7 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct VerticalKalman {
     config: VerticalKalmanConfig,
     core: Core,

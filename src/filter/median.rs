@@ -29,6 +29,7 @@ use crate::Error;
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Median<const N: usize> {
     /// Samples in arrival order (ring buffer).
     window: [f32; N],
@@ -77,7 +78,10 @@ impl<const N: usize> Median<N> {
                 .position(|&v| v == old)
                 .unwrap_or(len - 1);
             if let Some(tail) = self.sorted.get_mut(pos..len) {
-                tail.rotate_left(1);
+                // guarded so the no-panic check can see `rotate_left` cannot assert
+                if !tail.is_empty() {
+                    tail.rotate_left(1);
+                }
             }
             len -= 1;
         }
@@ -92,7 +96,9 @@ impl<const N: usize> Median<N> {
             *slot = x;
         }
         if let Some(tail) = self.sorted.get_mut(pos..=len) {
-            tail.rotate_right(1);
+            if !tail.is_empty() {
+                tail.rotate_right(1);
+            }
         }
         self.len = len + 1;
         if let Some(slot) = self.window.get_mut(self.head) {

@@ -32,6 +32,7 @@ use crate::Error;
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct MovingAverage<const N: usize> {
     /// Deviations from `offset`, arrival order (ring buffer).
     window: [f32; N],

@@ -31,6 +31,7 @@ use crate::math;
 /// # Ok::<(), isohypse::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct OnePole {
     cutoff_hz: f32,
     output: f32,

@@ -209,6 +209,7 @@ pub struct HikeReport {
 
 /// The walking-device tracker; see the [module docs](self).
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct HikeTracker {
     /// The settings not already kept by the parts (rest and tendency settings live in
     /// those, so they are not stored twice): smoothing and fix time constants, s, and the

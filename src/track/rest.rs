@@ -150,6 +150,7 @@ pub(crate) enum RestEvent {
 /// The detector state machine (crate-internal: the hike tracker validates time and
 /// height before calling it).
 #[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct RestDetector {
     config: RestConfig,
     state: RestState,
@@ -214,9 +215,13 @@ impl RestDetector {
         // The level moves no faster than the largest weather rate: a faster climb cannot
         // be absorbed, its departure grows until the rest ends.
         let step = predicted + (2.0 * dt_s / t).min(1.0) * departure - self.level_m;
-        self.level_m += step.clamp(-max_rate * dt_s, max_rate * dt_s);
-        self.rate_mps =
-            (self.rate_mps + (dt_s / (t * t)).min(1.0 / t) * departure).clamp(-max_rate, max_rate);
+        // max/min rather than clamp: clamp asserts min <= max, which the no-panic check
+        // cannot rule out for run-time bounds (they are ordered: max_rate >= 0)
+        let limit = max_rate * dt_s;
+        self.level_m += step.max(-limit).min(limit);
+        self.rate_mps = (self.rate_mps + (dt_s / (t * t)).min(1.0 / t) * departure)
+            .max(-max_rate)
+            .min(max_rate);
         if departure.abs() < 0.25 * self.config.exit_band_m {
             self.settled_rate_mps = self.rate_mps;
         }

@@ -1,0 +1,69 @@
+//! Fuzz target: the host replay tool's CSV reader and its run of the pipeline.
+//!
+//! `examples/replay.rs` is compiled in as a module (its `replay(text, settings, strict)`
+//! is `pub(crate)`), so this exercises the very code the tool runs: header lookup by
+//! name, comments, field counts, number parsing, physical checks, time order, and every
+//! accepted row through `Pipeline::process`.
+//!
+//! Input: the first byte picks the preset, `--filter off` and `--strict`; the rest is
+//! the file (bytes that are not UTF-8 are replaced, as a lossy read would).
+//!
+//! Checks, besides "never panics": every output row's numbers are finite (a rejected
+//! sample carries the previous, finite, estimate forward), and every rejected row has a
+//! message naming its line (unless the run stopped with `--strict`).
+#![no_main]
+
+#[allow(dead_code, unused_imports)]
+#[path = "../../../examples/replay.rs"]
+mod replay;
+
+use isohypse::pipeline::{Estimator, Settings};
+use libfuzzer_sys::fuzz_target;
+
+fuzz_target!(|data: &[u8]| {
+    let Some((&choice, rest)) = data.split_first() else {
+        return;
+    };
+    let mut settings = match choice % 3 {
+        0 => Settings::balloon(),
+        1 => Settings::drone(),
+        _ => Settings::hike(),
+    };
+    if choice & 0x04 != 0 {
+        settings.estimator = Estimator::Off;
+    }
+    // As the tool does (replay::settings_for): every physical pressure is accepted.
+    settings.pressure_range_pa = (
+        isohypse::atmosphere::US_1976.top_pressure_pa(),
+        isohypse::atmosphere::US_1976.bottom_pressure_pa(),
+    );
+    let strict = choice & 0x08 != 0;
+    let text = String::from_utf8_lossy(rest);
+    match replay::replay(&text, settings, strict) {
+        Ok(run) => {
+            for (row, o) in &run.outputs {
+                assert!(row.time_s.is_finite());
+                assert!(
+                    o.altitude_m.is_finite()
+                        && o.raw_altitude_m.is_finite()
+                        && o.vertical_speed_mps.is_finite()
+                        && o.altitude_sigma_m.is_finite()
+                        && o.ascent_m.is_finite()
+                        && o.descent_m.is_finite(),
+                    "non-finite output {o:?} for row {row:?}"
+                );
+            }
+            let rejected: usize = run.rejected.values().sum();
+            assert_eq!(
+                rejected,
+                run.messages.len(),
+                "a rejected row without a message"
+            );
+            assert!(run.messages.iter().all(|m| m.starts_with("line ")));
+        }
+        Err(failure) => {
+            assert!(!failure.message().is_empty());
+            let _ = failure.code();
+        }
+    }
+});

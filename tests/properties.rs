@@ -1,0 +1,669 @@
+//! Property tests (proptest): round trips, monotonicity, boundedness and "a rejected
+//! sample changes nothing", over randomly drawn inputs.
+//!
+//! Case counts are modest so that the whole file runs in well under 30 s in a debug
+//! build; they are set per block with `cases(n)`. `PROPTEST_CASES=n` in the
+//! environment does not override them (explicit configs win); edit the block to run
+//! more. A failing case is shrunk and printed by proptest (no persistence files); to
+//! replay one, copy the printed values into a unit test.
+//!
+//! Tolerances are stated beside each check with their basis. The accuracy goals of the
+//! crate (design notes: f32 pressure -> height within 1 cm to 51 km and 5 cm to 86 km
+//! against an exact reference) apply to *one* conversion; a round trip goes through two
+//! f32 conversions, so its budget is the sum of the two.
+
+use isohypse::atmosphere::{ICAO, StandardAtmosphere, US_1976};
+use isohypse::datum::{AltimeterSetting, Calibration};
+use isohypse::filter::{AlphaBeta, Median, MovingAverage, OnePole, VerticalKalman};
+use isohypse::filter::{KalmanOutcome, VerticalKalmanConfig};
+use isohypse::model::{AirSample, ColumnModel, Reference, TemperatureModel};
+use isohypse::pipeline::{Flags, Output, Pipeline, Sample, Settings};
+use isohypse::track::AscentTotals;
+use isohypse::{Height, Pressure, Temperature};
+use proptest::prelude::*;
+
+/// Proptest settings: `n` cases, no failure-persistence files (a failing case is printed
+/// with its inputs instead).
+fn cases(n: u32) -> ProptestConfig {
+    ProptestConfig {
+        cases: n,
+        failure_persistence: None,
+        ..ProptestConfig::default()
+    }
+}
+
+fn h(m: f32) -> Height {
+    Height::from_meters(m).unwrap()
+}
+fn pa(p: f32) -> Pressure {
+    Pressure::from_pa(p).unwrap()
+}
+fn k(t: f32) -> Temperature {
+    Temperature::from_kelvin(t).unwrap()
+}
+
+/// Round-trip budget for one standard atmosphere: twice the per-conversion goal
+/// (1 cm to 51 km, 5 cm above; design notes), because both directions round in f32.
+fn standard_round_trip_limit_m(z: f32) -> f32 {
+    if z <= 51_000.0 { 0.02 } else { 0.10 }
+}
+
+/// Geometric top of a standard atmosphere (geopotential top converted with its r0).
+fn geometric_top(atm: &StandardAtmosphere) -> f32 {
+    let h = atm.top_geopotential_m() as f64;
+    let r0 = atm.earth_radius_m as f64;
+    (r0 * h / (r0 - h)) as f32
+}
+
+// ---------------------------------------------------------------------------------
+// Standard atmospheres: height -> pressure -> height, monotonicity.
+// ---------------------------------------------------------------------------------
+
+fn standard_round_trip(atm: &StandardAtmosphere, z: f32) -> Result<(), TestCaseError> {
+    let p = atm.pressure_at(h(z)).unwrap();
+    let back = atm.pressure_altitude(p).unwrap().meters();
+    let limit = standard_round_trip_limit_m(z);
+    prop_assert!(
+        (back - z).abs() <= limit,
+        "{}: z {z} m -> p {} Pa -> {back} m (limit {limit} m)",
+        atm.name,
+        p.pa()
+    );
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(cases(2048))]
+
+    /// US 1976, -5 km .. 86 km geometric (the table's range, U.S. Standard Atmosphere
+    /// 1976 section 1.3).
+    #[test]
+    fn us1976_height_pressure_round_trip(z in -4_990.0f32..85_990.0) {
+        standard_round_trip(&US_1976, z)?;
+    }
+
+    /// ICAO / ISO 2533, -5 km .. 80 km geopotential (ICAO Doc 7488/3).
+    #[test]
+    fn icao_height_pressure_round_trip(frac in 0.0f32..1.0) {
+        let top = geometric_top(&ICAO) - 10.0;
+        let z = -4_990.0 + frac * (top + 4_990.0);
+        standard_round_trip(&ICAO, z)?;
+    }
+
+    /// Pressure -> height -> pressure, relative error: the height budget above divided by
+    /// the scale height (>= 5.4 km in both standards; RT/g at 186.9 K), i.e.
+    /// <= 0.1 m / 5 400 m = 1.9e-5 relative; checked at 2e-5.
+    #[test]
+    fn standard_pressure_height_round_trip(ln_p in (0.374f32).ln()..(177_000.0f32).ln(), icao in any::<bool>()) {
+        let atm = if icao { &ICAO } else { &US_1976 };
+        let p = ln_p.exp().max(atm.top_pressure_pa());
+        let z = atm.pressure_altitude(pa(p)).unwrap();
+        let back = atm.pressure_at(z).unwrap().pa();
+        prop_assert!(((back - p) / p).abs() <= 2.0e-5, "{}: {p} Pa -> {} m -> {back} Pa", atm.name, z.meters());
+    }
+
+    /// Higher pressure, lower height (hydrostatic balance; non-strict for pressures one
+    /// f32 step apart, strict once they differ by 1e-4 relative).
+    #[test]
+    fn standard_monotone(a in 0.374f32..177_000.0, b in 0.374f32..177_000.0, icao in any::<bool>()) {
+        let atm = if icao { &ICAO } else { &US_1976 };
+        let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+        let lo = lo.max(atm.top_pressure_pa());
+        let hi = hi.max(atm.top_pressure_pa());
+        let z_lo = atm.pressure_altitude(pa(lo)).unwrap().meters();
+        let z_hi = atm.pressure_altitude(pa(hi)).unwrap().meters();
+        prop_assert!(z_hi <= z_lo, "{}: p {lo} -> {z_lo} m, p {hi} -> {z_hi} m", atm.name);
+        if hi > lo * 1.0001 {
+            prop_assert!(z_hi < z_lo);
+        }
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// Temperature models: round trips, monotonicity, warmer column = more height.
+// ---------------------------------------------------------------------------------
+
+/// A reference level between 1050 and 500 hPa at its U.S. 1976 height, with a
+/// measured temperature there.
+fn reference_strategy() -> impl Strategy<Value = Reference> {
+    (50_000.0f32..105_000.0, 230.0f32..320.0).prop_map(|(p, t)| {
+        let z = US_1976.pressure_altitude(pa(p)).unwrap();
+        Reference::new(pa(p), z).with_temperature(k(t))
+    })
+}
+
+fn model_strategy() -> impl Strategy<Value = TemperatureModel> {
+    prop_oneof![
+        Just(TemperatureModel::Standard),
+        (-40.0f32..40.0).prop_map(|d| TemperatureModel::standard_offset(d).unwrap()),
+        (200.0f32..330.0).prop_map(|t| TemperatureModel::Isothermal { temperature: k(t) }),
+        (230.0f32..320.0, 1.0e-4f32..0.0098, any::<bool>()).prop_map(|(t, l, neg)| {
+            TemperatureModel::constant_lapse(k(t), if neg { -l } else { l }).unwrap()
+        }),
+        Just(TemperatureModel::MeanOfEnds),
+    ]
+}
+
+/// Round-trip budget for a model over a column of depth `dz` from the reference: two f32
+/// conversions each within 1 cm (the design goal near the ground) plus f32 resolution of
+/// the heights themselves (|z| <= 10 km: 1 ulp = 1 mm).
+fn model_round_trip_limit_m(_dz: f32) -> f32 {
+    0.02
+}
+
+proptest! {
+    #![proptest_config(cases(1024))]
+
+    /// height(pressure_at(z)) == z for every model, within +-4 km of the reference.
+    #[test]
+    fn model_height_pressure_round_trip(
+        model in model_strategy(),
+        reference in reference_strategy(),
+        dz in -4_000.0f32..4_000.0,
+        t_now in 230.0f32..320.0,
+    ) {
+        let air = AirSample::at(k(t_now));
+        let z = reference.height.meters() + dz;
+        let p = model.pressure_at(&reference, h(z), &air).unwrap();
+        let back = model.height(&reference, p, &air).unwrap().meters();
+        let limit = model_round_trip_limit_m(dz);
+        prop_assert!((back - z).abs() <= limit, "{model:?}: z {z} -> p {} -> {back}", p.pa());
+    }
+
+    /// Higher pressure, lower height, for every model.
+    #[test]
+    fn model_monotone(
+        model in model_strategy(),
+        reference in reference_strategy(),
+        a in 0.6f32..1.4,
+        b in 0.6f32..1.4,
+        t_now in 230.0f32..320.0,
+    ) {
+        let air = AirSample::at(k(t_now));
+        let p0 = reference.pressure.pa();
+        let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+        let z_lo = model.height(&reference, pa(p0 * lo), &air).unwrap().meters();
+        let z_hi = model.height(&reference, pa(p0 * hi), &air).unwrap().meters();
+        prop_assert!(z_hi <= z_lo, "{model:?}: {lo} -> {z_lo}, {hi} -> {z_hi}");
+        if hi > lo * 1.0001 {
+            prop_assert!(z_hi < z_lo);
+        }
+    }
+
+    /// A warmer column puts a pressure farther from the reference: the hypsometric
+    /// thickness is proportional to the mean virtual temperature (Wallace & Hobbs 2006,
+    /// eq. 3.29). Checked for StandardOffset and Isothermal (one temperature parameter).
+    #[test]
+    fn warmer_column_gives_more_height(
+        reference in reference_strategy(),
+        ratio in 0.5f32..1.5,
+        cold in -40.0f32..39.0,
+        warmer_by in 1.0f32..40.0,
+        isothermal in any::<bool>(),
+    ) {
+        let warm = (cold + warmer_by).min(40.0);
+        let (m_cold, m_warm) = if isothermal {
+            (
+                TemperatureModel::Isothermal { temperature: k(270.0 + cold) },
+                TemperatureModel::Isothermal { temperature: k(270.0 + warm) },
+            )
+        } else {
+            (
+                TemperatureModel::standard_offset(cold).unwrap(),
+                TemperatureModel::standard_offset(warm).unwrap(),
+            )
+        };
+        let p = pa(reference.pressure.pa() * ratio);
+        let z_ref = reference.height.meters();
+        let d_cold = m_cold.height(&reference, p, &AirSample::DRY).unwrap().meters() - z_ref;
+        let d_warm = m_warm.height(&reference, p, &AirSample::DRY).unwrap().meters() - z_ref;
+        // both on the same side of the reference, the warm one at least as far out
+        // (1 mm slack: f32 resolution of heights below 10 km)
+        prop_assert!(d_cold * d_warm >= 0.0);
+        prop_assert!(d_warm.abs() + 1.0e-3 >= d_cold.abs(), "cold {d_cold} m, warm {d_warm} m");
+        if (ratio - 1.0).abs() > 0.01 {
+            prop_assert!(d_warm.abs() > d_cold.abs());
+        }
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// Datums: QNH, QFE, calibration.
+// ---------------------------------------------------------------------------------
+
+proptest! {
+    #![proptest_config(cases(1024))]
+
+    /// QNH solved from a known elevation reads that elevation at the same pressure
+    /// (ICAO Doc 8168 definition of QNH: the altimeter reads aerodrome elevation on the
+    /// ground; from memory). Budget: two standard conversions, 2 cm.
+    #[test]
+    fn qnh_round_trip(p in 60_000.0f32..108_000.0, elevation in -400.0f32..4_500.0) {
+        let setting = AltimeterSetting::sea_level_from_elevation(pa(p), h(elevation)).unwrap();
+        let read = setting.height(pa(p)).unwrap().meters();
+        prop_assert!((read - elevation).abs() <= 0.02, "{p} Pa at {elevation} m reads {read} m");
+        // and the setting itself reads zero
+        let qnh = setting.setting_pressure().unwrap();
+        prop_assert!(setting.height(qnh).unwrap().meters().abs() <= 0.01);
+    }
+
+    /// QFE reads zero at the field, and the height of any other pressure is the
+    /// difference of the two pressure altitudes' geopotential heights (same standard,
+    /// shifted; ICAO definition of QFE, from memory); monotone in pressure.
+    #[test]
+    fn qfe_zero_and_monotone(qfe in 60_000.0f32..108_000.0, a in 0.8f32..1.05, b in 0.8f32..1.05) {
+        let setting = AltimeterSetting::field_from_reading(pa(qfe));
+        prop_assert!(setting.height(pa(qfe)).unwrap().meters().abs() <= 0.01);
+        let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+        let z_lo = setting.height(pa(qfe * lo)).unwrap().meters();
+        let z_hi = setting.height(pa(qfe * hi)).unwrap().meters();
+        prop_assert!(z_hi <= z_lo);
+        // a pressure below the field setting is above the field, and vice versa
+        prop_assert!((lo - 1.0) * z_lo <= 1.0e-3);
+    }
+
+    /// QNH: monotone, and a higher setting reads higher at the same pressure.
+    #[test]
+    fn qnh_monotone(qnh in 95_000.0f32..105_000.0, d in 1.0f32..1_000.0, p in 60_000.0f32..105_000.0) {
+        let low = AltimeterSetting::SeaLevel { qnh: pa(qnh) };
+        let high = AltimeterSetting::SeaLevel { qnh: pa(qnh + d) };
+        prop_assert!(high.height(pa(p)).unwrap().meters() > low.height(pa(p)).unwrap().meters());
+    }
+
+    /// Calibration: the first fix is taken fully (the height at that pressure reads the
+    /// known elevation); a second fix moves the height at its pressure from the
+    /// prediction towards the known value, never past it (a scalar Kalman update with a
+    /// gain in [0, 1]; module docs of `datum::Calibration`). The model round trip budget
+    /// applies (2 cm).
+    #[test]
+    fn calibration_round_trip_and_blend(
+        model in model_strategy(),
+        p1 in 70_000.0f32..105_000.0,
+        known1 in -300.0f32..3_000.0,
+        p2_ratio in 0.9f32..1.1,
+        known2_offset in -50.0f32..50.0,
+        sigma1 in 0.1f32..20.0,
+        sigma2 in 0.1f32..20.0,
+        t in 250.0f32..310.0,
+        drift in 0.0f32..10.0,
+        hours in 0.0f32..5.0,
+    ) {
+        let air = AirSample::at(k(t));
+        let mut cal = Calibration::new(model, drift).unwrap();
+        cal.fix(pa(p1), h(known1), sigma1, &air).unwrap();
+        let read = cal.height(pa(p1), &air).unwrap().meters();
+        prop_assert!((read - known1).abs() <= 0.02, "{model:?}: reads {read}, known {known1}");
+        cal.elapse(hours * 3600.0).unwrap();
+        let p2 = pa(p1 * p2_ratio);
+        let predicted = cal.height(p2, &air).unwrap().meters();
+        let known2 = predicted + known2_offset;
+        cal.fix(p2, h(known2), sigma2, &air).unwrap();
+        let after = cal.height(p2, &air).unwrap().meters();
+        let (lo, hi) = if predicted < known2 { (predicted, known2) } else { (known2, predicted) };
+        prop_assert!(after >= lo - 0.02 && after <= hi + 0.02, "pred {predicted}, known {known2}, after {after}");
+        prop_assert!(cal.sigma_m().unwrap().is_finite());
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// Filters: bounded input, bounded output.
+// ---------------------------------------------------------------------------------
+
+/// Inputs `c + B u`, u in [-1, 1].
+fn bounded_inputs(n: std::ops::Range<usize>) -> impl Strategy<Value = (f32, f32, Vec<f32>)> {
+    (
+        -10_000.0f32..10_000.0,
+        0.0f32..500.0,
+        prop::collection::vec(-1.0f32..=1.0, n),
+    )
+}
+
+/// Relative slack for f32 rounding on values of magnitude `m`: a few ulps.
+fn ulps(m: f32) -> f32 {
+    4.0 * f32::EPSILON * m.abs().max(1.0)
+}
+
+/// l1 gain of the alpha-beta filter's height output, computed in f64: with `u = v dt`
+/// the recursion is `x' = A x + b z`, `A = [[1-a, 1-a], [-b, 1-b]]`, `b = [a, b]`, started
+/// at `x0 = [z0, 0]`, so `|h_k - c| <= (sup_k |e1 A^k e1| + sum_m |e1 A^m b|) * B` for
+/// inputs within `c +- B` (the filter passes a constant exactly: DC gain 1). Returns
+/// `None` if the series has not converged (poles too close to the unit circle).
+fn alpha_beta_gain(alpha: f64, beta: f64) -> Option<f64> {
+    let a = [[1.0 - alpha, 1.0 - alpha], [-beta, 1.0 - beta]];
+    let mul = |x: [f64; 2]| {
+        [
+            a[0][0] * x[0] + a[0][1] * x[1],
+            a[1][0] * x[0] + a[1][1] * x[1],
+        ]
+    };
+    let (mut free, mut forced): ([f64; 2], [f64; 2]) = ([1.0, 0.0], [alpha, beta]);
+    let (mut sup_free, mut sum_forced) = (1.0f64, 0.0f64);
+    for _ in 0..1_000_000 {
+        sum_forced += forced[0].abs();
+        sup_free = sup_free.max(free[0].abs());
+        free = mul(free);
+        forced = mul(forced);
+        if forced[0].abs() + forced[1].abs() + free[0].abs() + free[1].abs() < 1.0e-14 {
+            return Some(sup_free + sum_forced);
+        }
+    }
+    None
+}
+
+proptest! {
+    #![proptest_config(cases(512))]
+
+    /// The median of a window is one of (or the mean of two of) its values, so it lies
+    /// within the range of the inputs (definition of the median).
+    #[test]
+    fn median_within_input_range((c, b, u) in bounded_inputs(1..200)) {
+        let mut m5 = Median::<5>::new();
+        let mut m4 = Median::<4>::new();
+        let (mut lo, mut hi) = (f32::INFINITY, f32::NEG_INFINITY);
+        for x in u.iter().map(|u| c + b * u) {
+            lo = lo.min(x);
+            hi = hi.max(x);
+            for y in [m5.push(x).unwrap(), m4.push(x).unwrap()] {
+                prop_assert!(y.is_finite() && y >= lo && y <= hi, "{y} outside [{lo}, {hi}]");
+            }
+        }
+    }
+
+    /// A mean of the inputs lies within their range, up to f32 rounding of the
+    /// compensated sum (a few ulps of the magnitude).
+    #[test]
+    fn moving_average_within_input_range((c, b, u) in bounded_inputs(1..300)) {
+        let mut avg = MovingAverage::<8>::new();
+        let (mut lo, mut hi) = (f32::INFINITY, f32::NEG_INFINITY);
+        for x in u.iter().map(|u| c + b * u) {
+            lo = lo.min(x);
+            hi = hi.max(x);
+            let y = avg.push(x).unwrap();
+            let tol = ulps(c.abs() + b);
+            prop_assert!(y.is_finite() && y >= lo - tol && y <= hi + tol, "{y} outside [{lo}, {hi}]");
+        }
+    }
+
+    /// The one-pole output is a convex combination of the previous output and the input
+    /// (alpha in [0, 1]), so it stays within the input range, whatever the time steps.
+    #[test]
+    fn one_pole_within_input_range(
+        (c, b, u) in bounded_inputs(1..300),
+        cutoff in 0.001f32..100.0,
+        steps in prop::collection::vec(1.0e-4f64..1_000.0, 300),
+    ) {
+        let mut lp = OnePole::new(cutoff).unwrap();
+        let (mut lo, mut hi) = (f32::INFINITY, f32::NEG_INFINITY);
+        let mut t = 0.0f64;
+        for (x, dt) in u.iter().map(|u| c + b * u).zip(&steps) {
+            t += dt;
+            lo = lo.min(x);
+            hi = hi.max(x);
+            let y = lp.update(t, x).unwrap();
+            let tol = ulps(c.abs() + b);
+            prop_assert!(y.is_finite() && y >= lo - tol && y <= hi + tol, "{y} outside [{lo}, {hi}]");
+        }
+    }
+
+    /// Alpha-beta at a fixed rate: |h - c| <= G B with G the filter's l1 gain computed
+    /// above (BIBO bound of a stable linear recursion), plus f32 rounding.
+    #[test]
+    fn alpha_beta_bounded(
+        (c, b, u) in bounded_inputs(1..400),
+        alpha in 0.05f32..1.0,
+        beta_frac in 0.01f32..0.5,
+        rate_hz in prop::sample::select(vec![1.0f64, 10.0, 50.0]),
+    ) {
+        let beta = beta_frac * (4.0 - 2.0 * alpha);
+        let mut ab = AlphaBeta::new(alpha, beta, 10.0).unwrap();
+        let gain = alpha_beta_gain(alpha as f64, beta as f64);
+        prop_assume!(gain.is_some());
+        let gain = gain.unwrap() as f32;
+        for (i, x) in u.iter().map(|u| c + b * u).enumerate() {
+            ab.update(i as f64 / rate_hz, h(x)).unwrap();
+            let y = ab.height().unwrap().meters();
+            // rounding: relative 1e-5 of the magnitude per unit of gain (f32 recursion)
+            let tol = gain * (b + 1.0e-5 * (c.abs() + b)) + ulps(c);
+            prop_assert!((y - c).abs() <= tol, "alpha {alpha} beta {beta}: |{y} - {c}| > {tol} (G {gain})");
+            prop_assert!(ab.vertical_speed().unwrap().mps().is_finite());
+        }
+    }
+
+    /// Kalman filter (default drone settings, 50 Hz barometer, optional accelerometer
+    /// within +-2 m/s^2): height and speed stay finite and the height within
+    /// c +- (3 B + 1 m). The constant 3 is this test's choice, not a derived gain (the
+    /// filter is time varying and gated): it asserts that the estimate does not diverge
+    /// or run away from bounded measurements.
+    #[test]
+    fn kalman_bounded(
+        (c, b, u) in bounded_inputs(1..400),
+        accel in prop::collection::vec(prop::option::of(-2.0f32..2.0), 400),
+    ) {
+        let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
+        let c = c.clamp(-4_000.0, 80_000.0);
+        for (i, (x, a)) in u.iter().map(|u| c + b * u).zip(&accel).enumerate() {
+            let t = i as f64 * 0.02;
+            if let Some(a) = a {
+                kf.predict(t - 0.01, *a).unwrap();
+            }
+            let outcome = kf.correct(t, h(x)).unwrap();
+            if i == 0 {
+                prop_assert_eq!(outcome, KalmanOutcome::Initialized);
+            }
+            let e = kf.estimate().unwrap();
+            prop_assert!(e.vertical_speed.mps().is_finite() && e.height_sigma_m.is_finite());
+            let dev = (e.height.meters() - c).abs();
+            prop_assert!(dev <= 3.0 * b + 1.0, "|{} - {c}| > 3 * {b} + 1", e.height.meters());
+        }
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// Ascent totals.
+// ---------------------------------------------------------------------------------
+
+fn cm(m: f32) -> i64 {
+    let x = (m * 100.0) as f64;
+    if x >= 0.0 {
+        (x + 0.5) as i64
+    } else {
+        (x - 0.5) as i64
+    }
+}
+
+proptest! {
+    #![proptest_config(cases(512))]
+
+    /// Fed the truth itself: counted ascent <= the truth's upward variation + band, and
+    /// ascent + descent <= the total variation of the centimetre-rounded input (the
+    /// counted moves are differences between a subsequence of the inputs; module docs
+    /// of `track::totals`).
+    #[test]
+    fn totals_never_exceed_total_variation(
+        start in -400.0f32..5_000.0,
+        steps in prop::collection::vec(-20.0f32..20.0, 1..500),
+        band in 0.05f32..20.0,
+    ) {
+        let mut totals = AscentTotals::new(band).unwrap();
+        let mut z = start;
+        totals.update(h(z));
+        let (mut up, mut tv, mut prev) = (0.0f64, 0i64, cm(z));
+        for s in steps {
+            let next = z + s;
+            up += (next - z).max(0.0) as f64;
+            z = next;
+            totals.update(h(z));
+            tv += (cm(z) - prev).abs();
+            prev = cm(z);
+        }
+        prop_assert!(i64::from(totals.ascent_cm()) + i64::from(totals.descent_cm()) <= tv);
+        prop_assert!(totals.ascent_m() as f64 <= up + band as f64 + 0.01, "ascent {} > {up} + {band}", totals.ascent_m());
+    }
+
+    /// Truth made of monotone legs each longer than twice the band, measured with noise
+    /// bounded by e <= band / 4: noise alone cannot confirm a turn (2 e < band), so at
+    /// most one counted up-swing per up-leg (plus the first move), each overcounting by
+    /// at most 2 e: ascent <= upward variation of the truth + (legs_up + 1) 2 e.
+    #[test]
+    fn totals_with_bounded_noise(
+        legs in prop::collection::vec((any::<bool>(), 1.0f32..10.0, 10usize..60), 1..12),
+        band in 0.5f32..10.0,
+        noise in prop::collection::vec(-1.0f32..=1.0, 800),
+    ) {
+        let e = band / 4.0;
+        let mut totals = AscentTotals::new(band).unwrap();
+        let mut truth = 1_000.0f32;
+        let (mut up, mut legs_up) = (0.0f64, 0u32);
+        let mut noise = noise.into_iter().cycle();
+        totals.update(h(truth + e * noise.next().unwrap()));
+        for (rising, length_in_bands, n) in legs {
+            let length = (2.0 + length_in_bands) * band;
+            let step = length / n as f32 * if rising { 1.0 } else { -1.0 };
+            if rising { legs_up += 1; }
+            for _ in 0..n {
+                truth += step;
+                if rising { up += step as f64; }
+                totals.update(h(truth + e * noise.next().unwrap()));
+            }
+        }
+        let bound = up + f64::from(legs_up + 1) * 2.0 * e as f64 + 0.02;
+        prop_assert!(totals.ascent_m() as f64 <= bound, "ascent {} > {bound}", totals.ascent_m());
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// The pipeline: no NaN or infinity out of valid input; rejected samples change nothing.
+// ---------------------------------------------------------------------------------
+
+#[derive(Debug, Clone)]
+struct Step {
+    dt: f64,
+    /// relative pressure change
+    dp: f32,
+    temperature_c: Option<f32>,
+    humidity_pct: Option<f32>,
+    accel: Option<f32>,
+    fix: Option<f32>,
+    /// Make this sample invalid in one of several ways (0 = valid).
+    poison: u8,
+}
+
+fn step_strategy() -> impl Strategy<Value = Step> {
+    (
+        prop_oneof![4 => 1.0e-3f64..2.0, 1 => 2.0f64..5_000.0],
+        prop_oneof![6 => -0.002f32..0.002, 1 => -0.2f32..0.2],
+        prop::option::of(-80.0f32..50.0),
+        prop::option::of(0.0f32..=100.0),
+        prop::option::of(-50.0f32..50.0),
+        prop::option::weighted(0.05, -400.0f32..9_000.0),
+        prop_oneof![8 => Just(0u8), 1 => 1u8..10],
+    )
+        .prop_map(|(dt, dp, t, rh, a, fix, poison)| Step {
+            dt,
+            dp,
+            temperature_c: t,
+            humidity_pct: rh,
+            accel: a,
+            fix,
+            poison,
+        })
+}
+
+fn output_finite(o: &Output) -> bool {
+    o.time_s.is_finite()
+        && o.altitude_m.is_finite()
+        && o.raw_altitude_m.is_finite()
+        && o.vertical_speed_mps.is_finite()
+        && o.altitude_sigma_m.is_finite()
+        && o.altitude_sigma_m >= 0.0
+        && o.ascent_m.is_finite()
+        && o.descent_m.is_finite()
+        && o.tendency_hpa.is_none_or(f32::is_finite)
+}
+
+fn run_pipeline<const N: usize>(
+    settings: Settings,
+    p0: f32,
+    steps: &[Step],
+) -> Result<(), TestCaseError> {
+    let mut pipe = Pipeline::<N>::new(settings).unwrap();
+    let (lo, hi) = settings.pressure_range_pa;
+    let mut t = 1_000.0f64;
+    let mut p = p0.clamp(lo, hi);
+    let mut started = false;
+    for (i, s) in steps.iter().enumerate() {
+        let mut sample = Sample {
+            time_s: t + s.dt,
+            pressure_pa: (p * (1.0 + s.dp)).clamp(lo, hi),
+            temperature_c: s.temperature_c,
+            humidity_pct: s.humidity_pct,
+            accel_up_mps2: s.accel,
+            known_altitude_m: s.fix,
+        };
+        match s.poison {
+            1 => sample.pressure_pa = f32::NAN,
+            2 => sample.time_s = f64::NAN,
+            3 => sample.time_s = t, // repeated time
+            4 => sample.time_s = t - 1.0,
+            5 => sample.pressure_pa = -sample.pressure_pa,
+            6 => sample.pressure_pa = hi * 1.5,
+            7 => sample.pressure_pa = f32::INFINITY,
+            8 => sample.temperature_c = Some(f32::NAN), // optional channel: flagged only
+            9 => sample.known_altitude_m = Some(f32::INFINITY),
+            _ => {}
+        }
+        // a repeated or earlier time is only wrong after a first accepted sample
+        let invalid = matches!(s.poison, 1 | 2 | 5..=7) || (started && matches!(s.poison, 3 | 4));
+        let before = pipe.clone();
+        let out = pipe.process(&sample);
+        if out.flags.rejected() {
+            prop_assert!(
+                pipe == before,
+                "step {i}: rejected sample {sample:?} changed the state"
+            );
+            prop_assert!(out.altitude_m.is_finite() && out.vertical_speed_mps.is_finite());
+            // a valid sample may only be refused by the model (a height it cannot
+            // place), never by the input checks
+            if !invalid {
+                prop_assert!(
+                    !out.flags.contains(Flags::REJECTED_TIME)
+                        && !out.flags.contains(Flags::REJECTED_PRESSURE),
+                    "step {i}: valid sample {sample:?} rejected: {:?}",
+                    out.flags
+                );
+            }
+        } else {
+            prop_assert!(!invalid, "step {i}: invalid sample {sample:?} accepted");
+            started = true;
+            prop_assert!(
+                output_finite(&out),
+                "step {i}: non-finite output {out:?} for {sample:?}"
+            );
+            t = sample.time_s;
+            p = sample.pressure_pa;
+        }
+    }
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(cases(192))]
+
+    #[test]
+    fn pipeline_drone_finite_and_rejections_inert(p0 in 70_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300)) {
+        run_pipeline::<2>(Settings::drone(), p0, &steps)?;
+    }
+
+    #[test]
+    fn pipeline_hike_finite_and_rejections_inert(p0 in 50_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300)) {
+        run_pipeline::<2>(Settings::hike(), p0, &steps)?;
+    }
+
+    #[test]
+    fn pipeline_balloon_finite_and_rejections_inert(p0 in 60_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300), lat in prop::option::of(-90.0f32..=90.0), start in prop::option::of(-300.0f32..4_000.0)) {
+        let mut s = Settings::balloon();
+        s.latitude_deg = lat;
+        s.start_altitude_m = start;
+        run_pipeline::<16>(s, p0, &steps)?;
+    }
+}

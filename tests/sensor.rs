@@ -1,0 +1,261 @@
+//! The `embedded-hal` sensor adapter with a mock I2C bus: good reads, bus errors and
+//! recovery, device faults, pacing. The I2C device is the made-up
+//! `isohypse::sensor::ExampleBarometer` (invented register map); all values are invented
+//! demo data. Run with `--features embedded-hal` (or `--all-features`).
+#![cfg(feature = "embedded-hal")]
+
+use embedded_hal::i2c::ErrorKind;
+use embedded_hal_mock::eh1::delay::{CheckedDelay, NoopDelay, Transaction as DelayTransaction};
+use embedded_hal_mock::eh1::i2c::{Mock as I2cMock, Transaction};
+use isohypse::pipeline::{Flags, Pipeline, Sample, Settings};
+use isohypse::sensor::{
+    BarometricSensor, DriverError, ExampleBarometer, ExampleBarometerError, Reading, SensorDriver,
+};
+
+type Device<'a> = ExampleBarometer<&'a mut I2cMock>;
+const ADDRESS: u8 = Device::DEFAULT_ADDRESS;
+const DATA: u8 = Device::REGISTER_DATA;
+
+/// A data block of the invented device: ready (+ humidity fitted when given).
+fn block(pressure_pa: f32, temperature_c: f32, humidity_pct: Option<f32>) -> Vec<u8> {
+    let p = (pressure_pa * 16.0).round() as u32;
+    let t = (temperature_c * 100.0).round() as i16;
+    let h = humidity_pct.map_or(0, |h| (h * 100.0).round() as u16);
+    let status = Device::STATUS_READY | humidity_pct.map_or(0, |_| Device::STATUS_HUMIDITY);
+    let [_, p2, p1, p0] = p.to_be_bytes();
+    let [t1, t0] = t.to_be_bytes();
+    let [h1, h0] = h.to_be_bytes();
+    vec![status, p2, p1, p0, t1, t0, h1, h0]
+}
+
+fn read(block: Vec<u8>) -> Transaction {
+    Transaction::write_read(ADDRESS, vec![DATA], block)
+}
+
+#[test]
+fn decodes_the_invented_register_map() {
+    // 97 700 Pa = 1 563 200 counts of 1/16 Pa = 0x17DA40; 21.50 degC = 2150 = 0x0866;
+    // 45.00 % = 4500 = 0x1194 (invented values, exact in the device's units).
+    let bytes = [0x03, 0x17, 0xDA, 0x40, 0x08, 0x66, 0x11, 0x94];
+    assert_eq!(block(97_700.0, 21.5, Some(45.0)), bytes.to_vec());
+    let r = Device::decode(bytes).unwrap();
+    assert_eq!(r.pressure_pa, 97_700.0);
+    assert_eq!(r.temperature_c, Some(21.5));
+    assert_eq!(r.humidity_pct, Some(45.0));
+    // Below freezing: -12.34 degC = -1234 = 0xFB2E (two's complement); no humidity.
+    let r = Device::decode([0x01, 0x17, 0xDA, 0x41, 0xFB, 0x2E, 0, 0]).unwrap();
+    assert_eq!(r.pressure_pa, 97_700.0 + 1.0 / 16.0); // one count more
+    assert_eq!(r.temperature_c, Some(-12.34));
+    assert_eq!(r.humidity_pct, None);
+}
+
+#[test]
+fn probe_checks_the_identity() {
+    let mut i2c = I2cMock::new(&[
+        Transaction::write_read(
+            ADDRESS,
+            vec![Device::REGISTER_IDENTITY],
+            vec![Device::IDENTITY],
+        ),
+        Transaction::write_read(ADDRESS, vec![Device::REGISTER_IDENTITY], vec![0x55]),
+        Transaction::write_read(ADDRESS, vec![Device::REGISTER_IDENTITY], vec![0])
+            .with_error(ErrorKind::Other),
+    ]);
+    let mut dev = ExampleBarometer::new(&mut i2c, ADDRESS);
+    assert_eq!(dev.probe(), Ok(()));
+    assert_eq!(dev.probe(), Err(ExampleBarometerError::WrongIdentity(0x55)));
+    assert_eq!(
+        dev.probe(),
+        Err(ExampleBarometerError::Bus(ErrorKind::Other))
+    );
+    i2c.done();
+}
+
+#[test]
+fn good_reads_give_the_same_outputs_as_the_pipeline_fed_directly() {
+    let readings = [
+        (97_700.0, 21.5, Some(45.0)),
+        (97_698.5, 21.5, Some(45.0)),
+        (97_701.0, 21.4, Some(45.5)),
+    ];
+    let mut i2c = I2cMock::new(
+        &readings
+            .iter()
+            .map(|&(p, t, h)| read(block(p, t, h)))
+            .collect::<Vec<_>>(),
+    );
+    let mut driver = SensorDriver::new(
+        ExampleBarometer::new(&mut i2c, ADDRESS),
+        NoopDelay::new(),
+        Pipeline::<2>::new(Settings::drone()).unwrap(),
+    );
+    let mut reference = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut seen = Vec::new();
+    let summary = driver.run_for(3, 20, |t, r| seen.push((t, r)));
+    assert_eq!(summary.accepted, 3);
+    assert_eq!((summary.rejected, summary.read_errors), (0, 0));
+    for (i, ((t, result), &(p, tc, h))) in seen.into_iter().zip(readings.iter()).enumerate() {
+        assert_eq!(t, 0.02 * i as f64, "one period (20 ms) per reading");
+        let expected = reference.process(&Sample {
+            time_s: t,
+            pressure_pa: p,
+            temperature_c: Some(tc),
+            humidity_pct: h,
+            ..Sample::default()
+        });
+        assert_eq!(result.unwrap(), expected);
+    }
+    assert_eq!(driver.pipeline(), &reference);
+    assert_eq!(driver.last_time_s(), Some(0.04));
+    drop(driver);
+    i2c.done();
+}
+
+#[test]
+fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
+    let mut i2c = I2cMock::new(&[
+        read(block(97_700.0, 21.5, None)),
+        read(vec![0; 8]).with_error(ErrorKind::Other),
+        read(block(97_699.0, 21.5, None)),
+    ]);
+    let mut driver = SensorDriver::new(
+        ExampleBarometer::new(&mut i2c, ADDRESS),
+        NoopDelay::new(),
+        Pipeline::<2>::new(Settings::drone()).unwrap(),
+    );
+    let first = driver.step(0.0).unwrap();
+    assert!(first.accepted());
+    let before = driver.pipeline().clone();
+
+    let failed = driver.step(0.02);
+    assert_eq!(
+        failed,
+        Err(DriverError::Sensor(ExampleBarometerError::Bus(
+            ErrorKind::Other
+        )))
+    );
+    assert_eq!(
+        driver.pipeline(),
+        &before,
+        "a failed read must not touch the state"
+    );
+    assert_eq!(driver.read_errors(), 1);
+    assert_eq!(
+        isohypse::Error::from(failed.unwrap_err()),
+        isohypse::Error::SensorRead
+    );
+
+    // Recovery: the next read goes on as if the failed one had never happened.
+    let mut reference = before.clone();
+    let expected = reference.process(&Sample {
+        temperature_c: Some(21.5),
+        ..Sample::pressure(0.04, 97_699.0)
+    });
+    let after = driver.step(0.04).unwrap();
+    assert!(after.accepted());
+    assert_eq!(after, expected);
+    assert_eq!(driver.pipeline(), &reference);
+    drop(driver);
+    i2c.done();
+}
+
+#[test]
+fn device_fault_and_stale_data_are_typed_errors() {
+    let mut i2c = I2cMock::new(&[
+        read(vec![
+            Device::STATUS_FAULT | Device::STATUS_READY,
+            0,
+            0,
+            0,
+            0,
+            0,
+            0,
+            0,
+        ]),
+        read(vec![0; 8]),
+    ]);
+    let mut dev = ExampleBarometer::new(&mut i2c, ADDRESS);
+    assert_eq!(dev.read(), Err(ExampleBarometerError::Fault));
+    assert_eq!(dev.read(), Err(ExampleBarometerError::NotReady));
+    i2c.done();
+}
+
+#[test]
+fn non_physical_reading_is_a_flagged_rejected_sample_not_an_error() {
+    // The device says "ready" but reads 0 Pa: the pipeline rejects and flags it.
+    let mut i2c = I2cMock::new(&[
+        read(block(97_700.0, 20.0, None)),
+        read(block(0.0, 20.0, None)),
+    ]);
+    let mut driver = SensorDriver::new(
+        ExampleBarometer::new(&mut i2c, ADDRESS),
+        NoopDelay::new(),
+        Pipeline::<2>::new(Settings::hike()).unwrap(),
+    );
+    let mut outs = Vec::new();
+    let summary = driver.run_for(2, 1000, |_, r| outs.push(r.unwrap()));
+    assert_eq!(
+        (summary.accepted, summary.rejected, summary.read_errors),
+        (1, 1, 0)
+    );
+    assert!(outs[1].flags.contains(Flags::REJECTED_PRESSURE));
+    assert_eq!(driver.pipeline().last_output(), &outs[0]);
+    drop(driver);
+    i2c.done();
+}
+
+#[test]
+fn run_for_paces_with_the_delay_and_goes_on_after_errors() {
+    let mut i2c = I2cMock::new(&[
+        read(block(97_700.0, 20.0, None)),
+        read(vec![0; 8]).with_error(ErrorKind::Bus),
+        read(block(97_700.0, 20.0, None)),
+        read(block(97_700.0, 20.0, None)),
+    ]);
+    let delays = [
+        DelayTransaction::delay_ms(50),
+        DelayTransaction::delay_ms(50),
+        DelayTransaction::delay_ms(50),
+        DelayTransaction::delay_ms(50),
+    ];
+    let mut delay = CheckedDelay::new(&delays);
+    let mut driver = SensorDriver::new(
+        ExampleBarometer::new(&mut i2c, ADDRESS),
+        &mut delay,
+        Pipeline::<2>::new(Settings::drone()).unwrap(),
+    );
+    let mut times = Vec::new();
+    let first = driver.run_for(2, 50, |t, _| times.push(t));
+    let second = driver.run_for(2, 50, |t, _| times.push(t));
+    assert_eq!((first.accepted, first.read_errors), (1, 1));
+    assert_eq!((second.accepted, second.read_errors), (2, 0));
+    assert_eq!(times, vec![0.0, 0.05, 0.05 + 0.05, 0.05 + 0.05 + 0.05]);
+    drop(driver);
+    delay.done();
+    i2c.done();
+}
+
+#[test]
+fn any_sensor_works_through_a_mutable_reference() {
+    struct Fixed(u32);
+    impl BarometricSensor for Fixed {
+        type Error = ();
+        fn read(&mut self) -> Result<Reading, ()> {
+            self.0 += 1;
+            Ok(Reading {
+                pressure_pa: 101_325.0,
+                ..Reading::default()
+            })
+        }
+    }
+    let mut sensor = Fixed(0);
+    let mut driver = SensorDriver::new(
+        &mut sensor,
+        NoopDelay::new(),
+        Pipeline::<2>::new(Settings::hike()).unwrap(),
+    );
+    let summary = driver.run_for(5, 1000, |_, _| {});
+    assert_eq!(summary.accepted, 5);
+    drop(driver);
+    assert_eq!(sensor.0, 5);
+}
