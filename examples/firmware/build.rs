@@ -14,6 +14,10 @@ use std::path::PathBuf;
 #[allow(dead_code)]
 mod formulas;
 
+#[path = "src/demo.rs"]
+#[allow(dead_code)]
+mod demo;
+
 fn main() {
     let out = PathBuf::from(std::env::var("OUT_DIR").expect("OUT_DIR is set by cargo"));
     let target = std::env::var("TARGET").expect("TARGET is set by cargo");
@@ -44,6 +48,7 @@ fn main() {
     println!("cargo:rustc-link-search={}", out.display());
     println!("cargo:rerun-if-changed={memory}");
     println!("cargo:rerun-if-changed=src/formulas.rs");
+    println!("cargo:rerun-if-changed=src/demo.rs");
     println!("cargo:rerun-if-changed=build.rs");
     println!("cargo:rustc-env=FIRMWARE_TARGET={target}");
     println!("cargo:rustc-env=FIRMWARE_BOARD={board}");
@@ -106,7 +111,168 @@ fn main() {
         "The sea-level power formula of each demo pressure, computed on the host, m.",
         &baseline,
     );
+    flights(&mut src);
     std::fs::write(out.join("samples.rs"), src).expect("write samples.rs");
+}
+
+/// Deterministic pseudo-random numbers for the demo noise (a 64-bit linear congruential
+/// generator, constants from Knuth's MMIX; common practice). Approximately Gaussian:
+/// the sum of 12 uniforms minus 6.
+struct Noise(u64);
+
+impl Noise {
+    fn uniform(&mut self) -> f64 {
+        self.0 = self
+            .0
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        (self.0 >> 11) as f64 / (1u64 << 53) as f64
+    }
+    fn gaussian(&mut self) -> f64 {
+        (0..12).map(|_| self.uniform()).sum::<f64>() - 6.0
+    }
+}
+
+/// Standard-atmosphere troposphere pressure at geometric height `h_m` (demo data only;
+/// the one-line power formula, common practice).
+fn troposphere_pa(h_m: f64) -> f64 {
+    101_325.0 * (1.0 - 2.255_77e-5 * h_m).powf(5.255_88)
+}
+
+/// Writes the two invented demo flights and the host's pipeline outputs for them.
+fn flights(src: &mut String) {
+    use demo::*;
+    let bits = |src: &mut String, name: &str, doc: &str, values: &[f32]| {
+        writeln!(src, "/// {doc}").unwrap();
+        writeln!(src, "pub static {name}: [f32; {}] = [", values.len()).unwrap();
+        for v in values {
+            assert!(v.is_finite(), "{name}: {v} is not finite");
+            writeln!(src, "    f32::from_bits(0x{:08x}), // {v:?}", v.to_bits()).unwrap();
+        }
+        writeln!(src, "];").unwrap();
+    };
+    let host = |src: &mut String, name: &str, doc: &str, outs: &[demo::HostOutput]| {
+        writeln!(src, "/// {doc}").unwrap();
+        writeln!(
+            src,
+            "pub static {name}: [crate::demo::HostOutput; {}] = [",
+            outs.len()
+        )
+        .unwrap();
+        for o in outs {
+            let f = |v: f32| format!("f32::from_bits(0x{:08x})", v.to_bits());
+            writeln!(
+                src,
+                "    crate::demo::HostOutput {{ altitude_m: {}, raw_altitude_m: {}, \
+                 vertical_speed_mps: {}, altitude_sigma_m: {}, ascent_m: {}, descent_m: {}, \
+                 flags: 0x{:x}, phase: isohypse::flight::Phase::{:?} }}, // {:.3} m",
+                f(o.altitude_m),
+                f(o.raw_altitude_m),
+                f(o.vertical_speed_mps),
+                f(o.altitude_sigma_m),
+                f(o.ascent_m),
+                f(o.descent_m),
+                o.flags,
+                o.phase,
+                o.altitude_m
+            )
+            .unwrap();
+        }
+        writeln!(src, "];").unwrap();
+    };
+
+    // Drone hop (invented): 1.2 s at rest on a field at 350 m, a 3 m hop shaped as
+    // 1.5 (1 - cos(2 pi (t - 1.2) / 2.4)) m, then at rest again; 1.5 Pa pressure noise,
+    // 0.05 m/s^2 accelerometer noise.
+    let mut noise = Noise(0x1505_0e1a);
+    let field_m = 350.0;
+    let (mut pressures, mut accels) = (Vec::new(), Vec::new());
+    for i in 0..DEMO_COUNT {
+        let t = drone_time_s(i);
+        let w = 2.0 * std::f64::consts::PI / 2.4;
+        let (h, a) = if (1.2..3.6).contains(&t) {
+            let x = w * (t - 1.2);
+            (1.5 * (1.0 - x.cos()), 1.5 * w * w * x.cos())
+        } else {
+            (0.0, 0.0)
+        };
+        pressures.push((troposphere_pa(field_m + h) + 1.5 * noise.gaussian()) as f32);
+        accels.push((a + 0.05 * noise.gaussian()) as f32);
+    }
+    let mut drone = drone_pipeline().expect("drone preset");
+    let drone_out: Vec<HostOutput> = (0..DEMO_COUNT)
+        .map(|i| HostOutput::of(&drone.process(&drone_sample(i, pressures[i], accels[i]))))
+        .collect();
+    bits(
+        src,
+        "DRONE_PRESSURE_PA",
+        "Drone hop: pressure, Pa (invented demo data).",
+        &pressures,
+    );
+    bits(
+        src,
+        "DRONE_ACCEL_MPS2",
+        "Drone hop: vertical acceleration, m/s^2 (invented demo data).",
+        &accels,
+    );
+    host(
+        src,
+        "DRONE_HOST",
+        "Drone hop: the drone preset's outputs computed on the host.",
+        &drone_out,
+    );
+
+    // Balloon ascent (invented): 10 s at rest at the launch site, then 5 m/s up;
+    // 24.5 degC at launch falling 6.5 K/km, humidity 70 % falling 1 % per 100 m;
+    // 2 Pa pressure noise, 0.1 K temperature noise.
+    let mut noise = Noise(0xba11_00f1);
+    let (launch_m, t0_k, lapse) = (f64::from(LAUNCH_ELEVATION_M), 297.65, 0.0065);
+    let (p0_pa, exponent) = (97_300.0, 9.806_65 / (287.053 * lapse));
+    let (mut pressures, mut temperatures, mut humidities) = (Vec::new(), Vec::new(), Vec::new());
+    for i in 0..DEMO_COUNT {
+        let t = balloon_time_s(i);
+        let z = launch_m + 5.0 * (t - 10.0).max(0.0);
+        let temperature_k = t0_k - lapse * (z - launch_m);
+        pressures
+            .push((p0_pa * (temperature_k / t0_k).powf(exponent) + 2.0 * noise.gaussian()) as f32);
+        temperatures.push((temperature_k - 273.15 + 0.1 * noise.gaussian()) as f32);
+        humidities.push((70.0 - (z - launch_m) / 100.0) as f32);
+    }
+    let mut balloon = balloon_pipeline().expect("balloon preset");
+    let balloon_out: Vec<HostOutput> = (0..DEMO_COUNT)
+        .map(|i| {
+            HostOutput::of(&balloon.process(&balloon_sample(
+                i,
+                pressures[i],
+                temperatures[i],
+                humidities[i],
+            )))
+        })
+        .collect();
+    bits(
+        src,
+        "BALLOON_PRESSURE_PA",
+        "Balloon ascent: pressure, Pa (invented demo data).",
+        &pressures,
+    );
+    bits(
+        src,
+        "BALLOON_TEMPERATURE_C",
+        "Balloon ascent: temperature, degC (invented demo data).",
+        &temperatures,
+    );
+    bits(
+        src,
+        "BALLOON_HUMIDITY_PCT",
+        "Balloon ascent: relative humidity, % (invented demo data).",
+        &humidities,
+    );
+    host(
+        src,
+        "BALLOON_HOST",
+        "Balloon ascent: the balloon preset's outputs computed on the host.",
+        &balloon_out,
+    );
 }
 
 /// `formulas::SAMPLE_COUNT` pressures spaced evenly in ln(p) from `first_pa` to `last_pa`,

@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Flash and RAM of firmware ELF files, from their section headers (no binutils needed).
 
-Usage: elf_sizes.py LABEL=FULL.elf:BASELINE.elf ...
+Usage: elf_sizes.py [--symbols] LABEL=FULL.elf:BASELINE.elf ...
 
 For each pair it prints the sections of both builds and the difference, which is the
 library's share of the firmware: the full build calls the library, the baseline build is
@@ -10,8 +10,15 @@ the same firmware with every library call left out (cargo feature `baseline-only
 flash = every allocated section that is stored in flash: .vector_table, .text, .rodata,
         and the initial values of .data;
 RAM   = .data + .bss + .uninit (statics; the stack is not counted).
+
+With --symbols it also splits the difference by where the symbols come from (from the
+ELF symbol table; names matched on their mangled form): the library (`isohypse::` and the
+firmware's never-inlined `lib_process` wrapper around `Pipeline::process`), the maths
+crates, the compiler's soft-float routines, core's formatting, and the firmware itself
+(harness code that the baseline build does not have, e.g. the pipeline check loop).
 """
 
+import re
 import struct
 import sys
 
@@ -46,6 +53,65 @@ def sections(path):
     return out
 
 
+def symbols(path):
+    """{mangled name: size} of the sized symbols of a 32-bit little-endian ELF file."""
+    with open(path, "rb") as f:
+        data = f.read()
+    shoff, = struct.unpack_from("<I", data, 0x20)
+    shentsize, shnum, _ = struct.unpack_from("<HHH", data, 0x2E)
+    secs = [struct.unpack_from("<IIIIIIIIII", data, shoff + i * shentsize)
+            for i in range(shnum)]
+    out = {}
+    for sec in secs:
+        if sec[1] != 2:  # SHT_SYMTAB
+            continue
+        strtab_off = secs[sec[6]][4]
+        for j in range(sec[5] // 16):
+            name, _value, size, info, _other, shndx = struct.unpack_from(
+                "<IIIBBH", data, sec[4] + j * 16)
+            if size == 0 or shndx == 0:
+                continue
+            start = strtab_off + name
+            n = data[start:data.index(b"\0", start)].decode(errors="replace")
+            out[n] = out.get(n, 0) + size
+    return out
+
+
+GROUPS = [
+    ("library (isohypse)", r"8isohypse|lib_process"),
+    ("maths (libm, micromath, compiler-builtins fmin / fmax)",
+     r"4libm|9micromath|^fm(in|ax)f?$"),
+    ("soft-float / memory routines (compiler_builtins)",
+     r"compiler_builtins|^__(?!cortex_m_rt)"),
+    ("core formatting", r"3fmt"),
+    ("firmware harness and demo data", r""),
+]
+
+
+def group_of(name):
+    """The first group whose pattern matches the mangled symbol name."""
+    for label, pattern in GROUPS:
+        if re.search(pattern, name):
+            return label
+    return GROUPS[-1][0]
+
+
+def symbol_split(full_path, base_path):
+    """Prints the symbol-size difference grouped by origin."""
+    a, b = symbols(full_path), symbols(base_path)
+    sums = {}
+    for name in set(a) | set(b):
+        d = a.get(name, 0) - b.get(name, 0)
+        # demo data tables get new hashes per build: count them as harness
+        sums[group_of(name)] = sums.get(group_of(name), 0) + d
+    print("| where from | bytes (symbol sizes, with minus without) |")
+    print("| --- | ---: |")
+    for label, _ in GROUPS:
+        print(f"| {label} | {sums.get(label, 0)} |")
+    print(f"| total of sized symbols | {sum(sums.values())} |")
+    print()
+
+
 def totals(secs):
     flash = sum(v for k, v in secs.items() if k in FLASH_SECTIONS)
     ram = sum(v for k, v in secs.items() if k in RAM_SECTIONS)
@@ -53,6 +119,8 @@ def totals(secs):
 
 
 def main(argv):
+    split = "--symbols" in argv
+    argv = [a for a in argv if a != "--symbols"]
     if not argv:
         print(__doc__)
         return 2
@@ -72,6 +140,9 @@ def main(argv):
         print(f"| flash | {ff} | {bf} | {ff - bf} |")
         print(f"| RAM (statics) | {fr} | {br} | {fr - br} |")
         print()
+        if split:
+            print(f"{label}: the difference by origin")
+            symbol_split(full_path, base_path)
         rows.append((label, ff - bf, fr - br, ff, fr))
     print("library's share of the firmware (ELF with library calls minus ELF without)")
     print("| build | library flash (bytes) | library RAM (bytes) | whole firmware flash | whole firmware RAM |")

@@ -88,6 +88,9 @@ for backend in $BACKENDS; do
         # shellcheck disable=SC2046
         build "$target" "$name-size" --no-default-features $(features_for "$backend")
         # shellcheck disable=SC2046
+        build "$target" "$name-size-drone" --no-default-features --features drone-only \
+            $(features_for "$backend")
+        # shellcheck disable=SC2046
         build "$target" "$name-size-baseline" --no-default-features --features baseline-only \
             $(features_for "$backend")
 
@@ -121,7 +124,9 @@ done
 # counts TABLE from a run log: "name<TAB>count<TAB>ratio" per row of the counts table
 counts() {
     awk -F' [|] ' '/^instructions per call/ {on = 1; next}
-        on && /^\| / && !/^\| (row|---)/ {name = $1; sub(/^\| /, "", name); print name "\t" $2 "\t" $3}' "$1"
+        on && /^\| / && !/^\| (row|---)/ {name = $1; sub(/^\| /, "", name); print name "\t" $2 "\t" $3; next}
+        on && /^\| / {seen = 1; next}
+        on && seen {exit}' "$1"
 }
 
 for backend in $BACKENDS; do
@@ -146,14 +151,82 @@ for backend in $BACKENDS; do
     done <"$first"
 done
 
+# table NAME-REGEX from a run log: the rows of the table printed after the line that
+# matches, as "name<TAB>col2<TAB>col3..." (header and separator rows left out)
+table_rows() {
+    awk -v start="$1" '$0 ~ start {on = 1; next}
+        on && /^\| / && !/^\| (row|type|---)/ {line = $0; sub(/^\| /, "", line); sub(/ \|$/, "", line);
+            gsub(/ \| /, "\t", line); print line; next}
+        on && !/^\| / && seen {exit}
+        on && /^\| / {seen = 1}' "$2"
+}
+# side_by_side START BACKEND COLUMN... : joins one table from every target's log by row name
+side_by_side() {
+    local start="$1" backend="$2"
+    shift 2
+    local files=() header="| row |" sep="| --- |"
+    for target in $TARGETS; do
+        for col in "$@"; do
+            header="$header $(core_name "$target") $col |"; sep="$sep ---: |"
+        done
+        f="$out/$target-$backend.$(echo "$start" | tr -c 'a-z' '_').tsv"
+        table_rows "$start" "$out/$target-$backend.run1.txt" >"$f"
+        files+=("$f")
+    done
+    echo "$header"; echo "$sep"
+    while IFS=$'\t' read -r name rest; do
+        line="| $name | ${rest//$'\t'/ | } |"
+        for f in "${files[@]:1}"; do
+            other="$(awk -F'\t' -v n="$name" '$1 == n {sub(/^[^\t]*\t/, ""); gsub(/\t/, " | "); print}' "$f")"
+            line="$line ${other:- } |"
+        done
+        echo "$line"
+    done <"${files[0]}"
+}
+
+for backend in $BACKENDS; do
+    say "per-sample rows, backend $backend: calls, instructions per call, ratio vs the baseline formula"
+    side_by_side "^per-sample instructions per call" "$backend" calls instr. ratio
+    say "state sizes, backend $backend (size_of on the target, bytes)"
+    side_by_side "^state sizes on" "$backend" bytes
+done
+
 say "flash and RAM: firmware with the library calls minus the same firmware without them"
 pairs=()
 for backend in $BACKENDS; do
     for target in $TARGETS; do
-        pairs+=("$(core_name "$target") $target $backend=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
+        pairs+=("$(core_name "$target") $target $backend, all rows (Pipeline<2> + Pipeline<64>)=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
+        pairs+=("$(core_name "$target") $target $backend, drone pipeline only (Pipeline<2>)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
     done
 done
-python3 "$here/elf_sizes.py" "${pairs[@]}"
+python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
+
+# ---- optional profile: where the pipeline's instructions go ---------------------------
+# PROFILE=1: re-runs the firmware with QEMU's per-instruction trace and prints a flat
+# profile of Pipeline::process (profile.py): the drone preset from the drone-only build
+# (200 calls: the check), the balloon preset from the full build (400 calls: the check
+# and the measured row). About a minute per core.
+if [ "${PROFILE:-0}" = 1 ]; then
+    for backend in $BACKENDS; do
+        for target in $TARGETS; do
+            for spec in "size-drone lib_process_2 200" "elf lib_process_64 400"; do
+                read -r variant window calls <<<"$spec"
+                elf="$out/$target-$backend.elf"
+                [ "$variant" = elf ] || elf="$out/$target-$backend-$variant.elf"
+                say "profile of $window ($(core_name "$target"), $backend)"
+                # shellcheck disable=SC2046
+                timeout 900 qemu-system-arm $(qemu_args "$target") \
+                    -nographic -monitor none -serial none \
+                    -semihosting-config enable=on,target=native \
+                    -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr \
+                    -kernel "$elf" 2>&1 >/dev/null |
+                    python3 "$here/profile.py" "$elf" "$window" "$calls" 25 |
+                    { if command -v c++filt >/dev/null; then c++filt; else cat; fi; } |
+                    sed -E 's/::h[0-9a-f]{16}//'
+            done
+        done
+    done
+fi
 
 if [ "$status" != 0 ]; then
     say "FAILED (see messages above)"

@@ -17,6 +17,12 @@
 #![no_main]
 #![deny(unsafe_code)]
 
+#[cfg_attr(
+    any(feature = "drone-only", feature = "baseline-only"),
+    allow(dead_code)
+)]
+mod demo;
+mod flights;
 mod formulas;
 
 /// Demo samples and host-computed results (see `build.rs`).
@@ -176,8 +182,11 @@ fn run() -> bool {
     );
 
     let checked = check();
-    let measured = measure();
-    checked && measured
+    let flights_checked = flights::check();
+    sizes();
+    let (measured, timing) = measure();
+    flights::measure(&timing);
+    checked && flights_checked && measured
 }
 
 /// Whether a difference is within `TOLERANCE_M`; NaN is not.
@@ -250,10 +259,75 @@ fn check() -> bool {
     ok
 }
 
+/// What the per-sample rows need from the calibration in `measure()`.
+pub struct Timing {
+    /// Instructions per SysTick tick (calibrated).
+    pub instructions_per_tick: f32,
+    /// Instructions per call of the baseline formula (row 0).
+    pub baseline: f32,
+}
+
+impl Timing {
+    /// Instructions per call that `body` adds over `calls` calls of the demo loop: its
+    /// ticks minus those of the identity closure, times instructions per tick.
+    pub fn per_call(&self, body: &mut dyn FnMut(usize) -> f32, calls: usize) -> f32 {
+        let mut identity = |i: usize| i as f32;
+        let empty = demo_ticks(&mut identity, calls);
+        let full = demo_ticks(body, calls);
+        (full as f32 - empty as f32) * self.instructions_per_tick / calls as f32
+    }
+}
+
+/// SysTick ticks taken by `calls` calls of `body(i)`, `i` = 0, 1, ... (one pass over a
+/// demo flight, in order: the rows keep state between calls). Never inlined, `body`
+/// behind `black_box`, as in `ticks`.
+#[inline(never)]
+fn demo_ticks(body: &mut dyn FnMut(usize) -> f32, calls: usize) -> u32 {
+    let body = black_box(body);
+    let start = SYST::get_current();
+    for i in 0..calls {
+        black_box(body(black_box(i)));
+    }
+    let end = SYST::get_current();
+    start.wrapping_sub(end) & SYSTICK_MASK
+}
+
+/// `size_of` of every state type on this target.
+fn sizes() {
+    use core::mem::size_of;
+    use isohypse::{filter, flight, pipeline, sounding, track};
+    hprintln!("");
+    hprintln!(
+        "state sizes on {} (size_of, bytes)",
+        env!("FIRMWARE_TARGET")
+    );
+    hprintln!("| type | bytes |");
+    hprintln!("| --- | ---: |");
+    let rows: [(&str, usize); 8] = [
+        ("Pipeline<2>", size_of::<pipeline::Pipeline<2>>()),
+        (
+            "Pipeline<64>",
+            size_of::<pipeline::Pipeline<{ demo::PROFILE_LEVELS }>>(),
+        ),
+        ("VerticalKalman", size_of::<filter::VerticalKalman>()),
+        ("FlightPhases", size_of::<flight::FlightPhases>()),
+        ("HikeTracker", size_of::<track::HikeTracker>()),
+        (
+            "Sounding<64>",
+            size_of::<sounding::Sounding<{ demo::PROFILE_LEVELS }>>(),
+        ),
+        ("Settings", size_of::<pipeline::Settings>()),
+        ("Output", size_of::<pipeline::Output>()),
+    ];
+    for (name, bytes) in rows {
+        hprintln!("| {} | {} |", name, bytes);
+    }
+}
+
 /// Runs every row, prints instructions per call and the ratio to its reference row.
 /// Returns false when the timer does not count as QEMU's `-icount shift=0` promises (then
-/// the figures would mean nothing).
-fn measure() -> bool {
+/// the figures would mean nothing), and the calibration for the per-sample rows.
+fn measure() -> (bool, Timing) {
     let pressures = &PRESSURES_PA;
 
     // Fixed rows: overhead and calibration.
@@ -277,7 +351,11 @@ fn measure() -> bool {
     let per_tick = calibration.saturating_sub(empty);
     if per_tick == 0 {
         hprintln!("error: SysTick does not count; cannot measure");
-        return false;
+        let timing = Timing {
+            instructions_per_tick: f32::NAN,
+            baseline: f32::NAN,
+        };
+        return (false, timing);
     }
     // instructions per call = CALIBRATION_NOPS * (row - empty) / (calibration - empty)
     let per_call =
@@ -330,9 +408,10 @@ fn measure() -> bool {
     #[cfg(feature = "breakdown")]
     let mut powf = |x: f32| formulas::backend_powf(x, breakdown::EXPONENT);
 
-    // Each row's ratio is taken against the row at index `versus`. Add rows here (a
-    // filter step, a sounding step, the full pipeline); calls into the library go
-    // through `mod library` so that a `baseline-only` build leaves them out.
+    // Each row's ratio is taken against the row at index `versus`. Rows of one call
+    // over 30 inputs go here; calls into the library go through `mod library` so that a
+    // `baseline-only` build leaves them out. Rows that keep state over a demo flight
+    // (Kalman, sounding, pipeline) are in `flights.rs`.
     let rows: &mut [Row] = &mut [
         Row {
             name: "baseline: 44330.77 * (1 - powf(p / 101325, 0.190263))",
@@ -440,7 +519,11 @@ fn measure() -> bool {
             );
         }
     }
-    calibrated
+    let timing = Timing {
+        instructions_per_tick,
+        baseline: counts.first().copied().unwrap_or(f32::NAN),
+    };
+    (calibrated, timing)
 }
 
 /// Rows that show where the time goes: the maths functions alone, with the arguments

@@ -1,0 +1,121 @@
+#!/usr/bin/env python3
+"""Where the instructions of a function go: a flat profile from a QEMU instruction trace.
+
+Usage:
+    qemu-system-arm <machine args> -semihosting-config enable=on,target=native \\
+        -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr -kernel FW.elf \\
+        2>&1 >/dev/null | profile.py FW.elf WINDOW CALLS [TOP]
+
+With `-singlestep -d exec,nochain` QEMU logs every guest instruction it executes
+("Trace ...: [flags/PC/...]"). This script maps each PC to the function symbol that holds
+it (from the ELF symbol table, no binutils needed) and counts instructions while the
+program is inside WINDOW: from an instruction in a function whose name contains WINDOW
+(e.g. `lib_process_2`, the firmware's never-inlined wrapper around `Pipeline::process`)
+until an instruction in any other firmware function (the caller). Everything the window
+calls (library, maths, soft-float, memcpy) is counted under its own function. Counts are
+divided by CALLS (how many times the firmware calls the window function) to give
+instructions per call. Names are printed mangled; pipe through `c++filt` to read them.
+"""
+
+import bisect
+import collections
+import re
+import struct
+import sys
+
+TRACE = re.compile(r"Trace \d+: \S+ \[[0-9a-f]+/([0-9a-f]+)/")
+
+
+def functions(path):
+    """Sorted (start, size, name) of the function symbols of a 32-bit ARM ELF file."""
+    with open(path, "rb") as f:
+        data = f.read()
+    shoff, = struct.unpack_from("<I", data, 0x20)
+    shentsize, shnum, _ = struct.unpack_from("<HHH", data, 0x2E)
+    secs = [struct.unpack_from("<IIIIIIIIII", data, shoff + i * shentsize)
+            for i in range(shnum)]
+    out = []
+    for sec in secs:
+        if sec[1] != 2:  # SHT_SYMTAB
+            continue
+        strtab = secs[sec[6]][4]
+        for j in range(sec[5] // 16):
+            name, value, size, info, _other, _shndx = struct.unpack_from(
+                "<IIIBBH", data, sec[4] + j * 16)
+            if info & 0xF == 2 and size:  # STT_FUNC
+                start = strtab + name
+                out.append((value & ~1, size,
+                            data[start:data.index(b"\0", start)].decode(errors="replace")))
+    out.sort()
+    return out
+
+
+# Groups for the summary, first match wins (patterns on mangled names).
+GROUPS = [
+    ("memory copies (memcpy / memset)", r"memcpy|memset|memclr|memmove"),
+    ("f64 soft-float (time stamps are f64)",
+     r"__aeabi_d|__aeabi_f2d|__aeabi_[ul]+2d|__aeabi_i2d|df3|^fmin$|^fmax$|4fmin|4fmax"),
+    ("maths (libm / micromath, compiler-builtins fminf / fmaxf)",
+     r"4libm|9micromath|^fminf$|^fmaxf$"),
+    ("f32 soft-float and its integer helpers (cores without an FPU)",
+     r"__aeabi_f|sf3|sf2|sfsi|sisf|__aeabi_lmul|__clzsi2|__muldi3"),
+    ("Kalman filter", r"6filter6kalman"),
+    ("height model (atmosphere, geopotential, sounding, humidity)",
+     r"10atmosphere|12geopotential|8sounding|8humidity|5model"),
+    ("trackers (phases, totals, hike, ground reference)", r"6flight|5track|6ground"),
+    ("pipeline body (Pipeline::process, inlined into the wrapper)", r"lib_process|8pipeline"),
+    ("other", r""),
+]
+
+
+def group_of(name):
+    for label, pattern in GROUPS:
+        if re.search(pattern, name):
+            return label
+    return GROUPS[-1][0]
+
+
+def main(argv):
+    if len(argv) < 3:
+        print(__doc__)
+        return 2
+    elf, window, calls = argv[0], argv[1], int(argv[2])
+    top = int(argv[3]) if len(argv) > 3 else 40
+    funcs = functions(elf)
+    starts = [f[0] for f in funcs]
+    counts = collections.Counter()
+    inside = False
+    for line in sys.stdin:
+        m = TRACE.search(line)
+        if not m:
+            continue
+        pc = int(m.group(1), 16)
+        i = bisect.bisect_right(starts, pc) - 1
+        name = funcs[i][2] if i >= 0 and pc < funcs[i][0] + funcs[i][1] else "?"
+        if window in name:
+            inside = True
+        elif "isohypse_firmware" in name:
+            inside = False
+        if inside:
+            counts[name] += 1
+    total = sum(counts.values())
+    print(f"instructions inside {window}: {total} in {calls} calls = {total / calls:.1f} per call")
+    groups = collections.Counter()
+    for name, c in counts.items():
+        groups[group_of(name)] += c
+    print("| where | instructions per call | share |")
+    print("| --- | ---: | ---: |")
+    for label, _ in GROUPS:
+        c = groups.get(label, 0)
+        if c:
+            print(f"| {label} | {c / calls:.1f} | {100.0 * c / total:.1f} % |")
+    print()
+    print("| function | instructions per call | share |")
+    print("| --- | ---: | ---: |")
+    for name, c in counts.most_common(top):
+        print(f"| {name} | {c / calls:.1f} | {100.0 * c / total:.1f} % |")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv[1:]))

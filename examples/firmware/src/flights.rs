@@ -1,0 +1,360 @@
+//! The per-sample pipeline on the two demo flights (see `demo.rs`): the check against
+//! the host's outputs and the per-sample rows (one Kalman step, one sounding step, the
+//! full pipeline per preset).
+//!
+//! With feature `baseline-only` the library calls are left out, but the demo data stay
+//! in flash (read through `black_box`), so that the ELF size difference is the library's
+//! code and constants only.
+
+#[cfg(not(feature = "baseline-only"))]
+pub use with_library::{check, measure};
+#[cfg(feature = "baseline-only")]
+pub use without_library::{check, measure};
+
+#[cfg(not(feature = "baseline-only"))]
+#[cfg_attr(feature = "drone-only", allow(unused_imports, dead_code))]
+mod with_library {
+    use cortex_m_semihosting::hprintln;
+    use isohypse::filter::{VerticalKalman, VerticalKalmanConfig};
+    use isohypse::geopotential::Gravity;
+    use isohypse::pipeline::{Output, Pipeline, Sample};
+    use isohypse::sounding::Sounding;
+    use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
+
+    use crate::Timing;
+    use crate::demo::{self, DEMO_COUNT, HostOutput, PROFILE_LEVELS};
+    use crate::samples::{
+        BALLOON_HOST, BALLOON_HUMIDITY_PCT, BALLOON_PRESSURE_PA, BALLOON_TEMPERATURE_C,
+        DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA,
+    };
+
+    /// 1-sigma height noise given to the Kalman row's corrections, m: the drone's 1.5 Pa
+    /// pressure noise times `R T / (g p)`, about 0.085 m/Pa near the demo field.
+    const KALMAN_ROW_SIGMA_M: f32 = 0.125;
+
+    /// `Pipeline::<2>::process`, never inlined into the harness, so that the pipeline's
+    /// code shows under a library symbol in the ELF (`elf_sizes.py --symbols`) and its
+    /// calls can be profiled (`profile.py`).
+    #[inline(never)]
+    fn lib_process_2(pipeline: &mut Pipeline<2>, sample: &Sample) -> Output {
+        pipeline.process(sample)
+    }
+
+    /// `Pipeline::<PROFILE_LEVELS>::process`, never inlined (see [`lib_process_2`]).
+    #[inline(never)]
+    fn lib_process_64(pipeline: &mut Pipeline<PROFILE_LEVELS>, sample: &Sample) -> Output {
+        pipeline.process(sample)
+    }
+
+    fn at(values: &[f32; DEMO_COUNT], i: usize) -> f32 {
+        values.get(i).copied().unwrap_or(f32::NAN)
+    }
+
+    fn drone_sample(i: usize) -> Sample {
+        demo::drone_sample(i, at(&DRONE_PRESSURE_PA, i), at(&DRONE_ACCEL_MPS2, i))
+    }
+
+    fn balloon_sample(i: usize) -> Sample {
+        demo::balloon_sample(
+            i,
+            at(&BALLOON_PRESSURE_PA, i),
+            at(&BALLOON_TEMPERATURE_C, i),
+            at(&BALLOON_HUMIDITY_PCT, i),
+        )
+    }
+
+    /// Runs `process` over the flight and compares every output with the host's.
+    fn compare(
+        name: &str,
+        host: &[HostOutput; DEMO_COUNT],
+        mut process: impl FnMut(usize) -> Output,
+    ) -> bool {
+        hprintln!("");
+        hprintln!("{}: every 20th output on the target", name);
+        hprintln!("| t (s) | altitude (m) | vertical speed (m/s) | sigma (m) | phase | flags |");
+        hprintln!("| ---: | ---: | ---: | ---: | --- | ---: |");
+        let (mut ok, mut exact, mut values, mut worst) = (true, 0, 0, 0.0_f32);
+        let mut first_bad: Option<usize> = None;
+        let mut top = f32::NEG_INFINITY;
+        for (i, h) in host.iter().enumerate() {
+            let out = process(i);
+            let target = HostOutput::of(&out);
+            top = top.max(out.altitude_m);
+            if i % 20 == 0 || i + 1 == DEMO_COUNT {
+                hprintln!(
+                    "| {:.2} | {:.3} | {:.3} | {:.3} | {} | 0x{:x} |",
+                    out.time_s as f32,
+                    out.altitude_m,
+                    out.vertical_speed_mps,
+                    out.altitude_sigma_m,
+                    out.phase.name(),
+                    out.flags.0
+                );
+            }
+            let mut sample_ok = target.flags == h.flags && target.phase == h.phase;
+            for ((field, a), (_, b)) in target.values().iter().zip(h.values().iter()) {
+                let d = libm::fabsf(a - b);
+                values += 1;
+                exact += usize::from(a.to_bits() == b.to_bits());
+                if !crate::within_tolerance(d) {
+                    sample_ok = false;
+                    hprintln!(
+                        "mismatch: {} sample {} {}: target {} host {}",
+                        name,
+                        i,
+                        field,
+                        a,
+                        b
+                    );
+                } else {
+                    worst = worst.max(d);
+                }
+            }
+            if !sample_ok && first_bad.is_none() {
+                first_bad = Some(i);
+                hprintln!(
+                    "mismatch: {} sample {}: flags 0x{:x} / host 0x{:x}, phase {} / host {}",
+                    name,
+                    i,
+                    target.flags,
+                    h.flags,
+                    target.phase.name(),
+                    h.phase.name()
+                );
+            }
+            ok &= sample_ok;
+        }
+        hprintln!(
+            "check {}: {} samples, {} values, {} bit-identical to host, worst |diff| {:e}, \
+             flags and phase {}; highest altitude {:.3} m",
+            name,
+            DEMO_COUNT,
+            values,
+            exact,
+            worst,
+            if first_bad.is_none() {
+                "identical"
+            } else {
+                "DIFFER"
+            },
+            top
+        );
+        hprintln!("check {}: {}", name, if ok { "PASS" } else { "FAIL" });
+        ok
+    }
+
+    /// Checks both presets on their demo flights against the host's outputs (1 mm or
+    /// 1 mm/s; flags and phase identical).
+    pub fn check() -> bool {
+        let drone_ok = match demo::drone_pipeline() {
+            Ok(mut p) => compare(
+                "drone pipeline (Pipeline<2>, 50 Hz hop)",
+                &DRONE_HOST,
+                |i| lib_process_2(&mut p, &drone_sample(i)),
+            ),
+            Err(_) => false,
+        };
+        #[cfg(not(feature = "drone-only"))]
+        let balloon_ok = match demo::balloon_pipeline() {
+            Ok(mut p) => compare(
+                "balloon pipeline (Pipeline<64>, 1 Hz ascent)",
+                &BALLOON_HOST,
+                |i| lib_process_64(&mut p, &balloon_sample(i)),
+            ),
+            Err(_) => false,
+        };
+        #[cfg(feature = "drone-only")]
+        let balloon_ok = {
+            // keep the balloon's demo data in flash, as in the other builds
+            core::hint::black_box(&BALLOON_HOST);
+            core::hint::black_box((
+                &BALLOON_PRESSURE_PA,
+                &BALLOON_TEMPERATURE_C,
+                &BALLOON_HUMIDITY_PCT,
+            ));
+            hprintln!("check balloon pipeline: left out (drone-only build)");
+            true
+        };
+        drone_ok && balloon_ok
+    }
+
+    /// Only the drone pipeline is linked: nothing measured.
+    #[cfg(feature = "drone-only")]
+    pub fn measure(_timing: &Timing) {
+        hprintln!("per-sample rows: left out (drone-only build)");
+    }
+
+    /// A per-sample row: name, the code per call (gets the sample index), and the number
+    /// of calls.
+    type FlightRow<'a> = (&'a str, &'a mut dyn FnMut(usize) -> f32, usize);
+
+    /// Prints instructions per call of the per-sample rows, ratio against the baseline
+    /// formula.
+    #[cfg(not(feature = "drone-only"))]
+    pub fn measure(timing: &Timing) {
+        let (Ok(mut drone), Ok(mut balloon), Ok(mut hike), Ok(mut drone_no_accel)) = (
+            demo::drone_pipeline(),
+            demo::balloon_pipeline(),
+            demo::hike_pipeline(),
+            demo::drone_pipeline(),
+        ) else {
+            hprintln!("error: a preset failed to build");
+            return;
+        };
+        let config = VerticalKalmanConfig::default(); // the drone preset's
+        let (Ok(mut kalman), Ok(mut kalman_baro)) =
+            (VerticalKalman::new(config), VerticalKalman::new(config))
+        else {
+            hprintln!("error: Kalman filter failed to build");
+            return;
+        };
+        let first = balloon_sample(0);
+        let Ok(mut sounding) = (|| {
+            Sounding::<PROFILE_LEVELS>::new(
+                Height::from_meters(demo::LAUNCH_ELEVATION_M)?,
+                Gravity::at_latitude(demo::LAUNCH_LATITUDE_DEG)?,
+                Pressure::from_pa(first.pressure_pa)?,
+                Temperature::from_celsius(first.temperature_c.unwrap_or(15.0))?,
+                Some(RelativeHumidity::from_percent(
+                    first.humidity_pct.unwrap_or(0.0),
+                )?),
+            )
+        })() else {
+            hprintln!("error: sounding failed to start");
+            return;
+        };
+
+        let raw = |i: usize| {
+            DRONE_HOST
+                .get(i)
+                .map_or(f32::NAN, |h: &HostOutput| h.raw_altitude_m)
+        };
+        let mut kalman_step = |i: usize| {
+            let t = demo::drone_time_s(i);
+            let _ = kalman.predict(t, at(&DRONE_ACCEL_MPS2, i));
+            if let Ok(h) = Height::from_meters(raw(i)) {
+                let _ = kalman.correct_with_sigma(t, h, KALMAN_ROW_SIGMA_M);
+            }
+            kalman.estimate().map_or(0.0, |e| e.height.meters())
+        };
+        let mut kalman_baro_step = |i: usize| {
+            if let Ok(h) = Height::from_meters(raw(i)) {
+                let _ = kalman_baro.correct(demo::drone_time_s(i), h);
+            }
+            kalman_baro.estimate().map_or(0.0, |e| e.height.meters())
+        };
+        let mut sounding_step = |i: usize| {
+            let s = balloon_sample(i + 1);
+            let step = (|| {
+                sounding.update(
+                    Pressure::from_pa(s.pressure_pa)?,
+                    Some(Temperature::from_celsius(
+                        s.temperature_c.unwrap_or(f32::NAN),
+                    )?),
+                    Some(RelativeHumidity::from_percent(
+                        s.humidity_pct.unwrap_or(f32::NAN),
+                    )?),
+                )
+            })();
+            step.map_or(f32::NAN, |s| s.geometric.meters())
+        };
+        let mut drone_step = |i: usize| lib_process_2(&mut drone, &drone_sample(i)).altitude_m;
+        let mut drone_no_accel_step = |i: usize| {
+            let mut s = drone_sample(i);
+            s.accel_up_mps2 = None;
+            lib_process_2(&mut drone_no_accel, &s).altitude_m
+        };
+        let mut balloon_step =
+            |i: usize| lib_process_64(&mut balloon, &balloon_sample(i)).altitude_m;
+        // hike: the drone hop's pressures at 1 Hz (a walker stepping up a 3 m bank)
+        let mut hike_step = |i: usize| {
+            let s = Sample::pressure(demo::balloon_time_s(i), at(&DRONE_PRESSURE_PA, i));
+            lib_process_2(&mut hike, &s).altitude_m
+        };
+
+        let rows: [FlightRow; 7] = [
+            (
+                "VerticalKalman::predict + correct_with_sigma (drone config, 50 Hz hop)",
+                &mut kalman_step,
+                DEMO_COUNT,
+            ),
+            (
+                "VerticalKalman::correct (barometer only, drone config)",
+                &mut kalman_baro_step,
+                DEMO_COUNT,
+            ),
+            (
+                "Sounding::<64>::update (p, T, RH; balloon ascent)",
+                &mut sounding_step,
+                DEMO_COUNT - 1,
+            ),
+            (
+                "Pipeline::<2>::process, drone preset (p + accel, 50 Hz hop)",
+                &mut drone_step,
+                DEMO_COUNT,
+            ),
+            (
+                "Pipeline::<2>::process, drone preset (p only)",
+                &mut drone_no_accel_step,
+                DEMO_COUNT,
+            ),
+            (
+                "Pipeline::<64>::process, balloon preset (p, T, RH, 1 Hz ascent)",
+                &mut balloon_step,
+                DEMO_COUNT,
+            ),
+            (
+                "Pipeline::<2>::process, hike preset (p only, 1 Hz)",
+                &mut hike_step,
+                DEMO_COUNT,
+            ),
+        ];
+        hprintln!("");
+        hprintln!(
+            "per-sample instructions per call (one pass over a demo flight, state kept \
+             between calls, loop overhead subtracted), {}",
+            env!("FIRMWARE_TARGET")
+        );
+        hprintln!("| row | calls | instructions per call | ratio vs baseline |");
+        hprintln!("| --- | ---: | ---: | ---: |");
+        for (name, body, calls) in rows {
+            let n = timing.per_call(body, calls);
+            hprintln!(
+                "| {} | {} | {:.1} | {:.2} |",
+                name,
+                calls,
+                n,
+                n / timing.baseline
+            );
+        }
+    }
+}
+
+#[cfg(feature = "baseline-only")]
+mod without_library {
+    use core::hint::black_box;
+
+    use cortex_m_semihosting::hprintln;
+
+    use crate::Timing;
+    use crate::samples::{
+        BALLOON_HOST, BALLOON_HUMIDITY_PCT, BALLOON_PRESSURE_PA, BALLOON_TEMPERATURE_C,
+        DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA,
+    };
+
+    /// Keeps the demo data in flash as in the full build; checks nothing.
+    pub fn check() -> bool {
+        black_box(&DRONE_PRESSURE_PA);
+        black_box(&DRONE_ACCEL_MPS2);
+        black_box(&DRONE_HOST);
+        black_box(&BALLOON_PRESSURE_PA);
+        black_box(&BALLOON_TEMPERATURE_C);
+        black_box(&BALLOON_HUMIDITY_PCT);
+        black_box(&BALLOON_HOST);
+        hprintln!("check pipelines: not linked (baseline-only build)");
+        false
+    }
+
+    /// Nothing to measure without the library.
+    pub fn measure(_timing: &Timing) {}
+}
