@@ -239,6 +239,7 @@ impl StandardAtmosphere {
     ///
     /// Pressures within 1e-6 relative of the model's ends are accepted, so that the
     /// forward function's f32 rounding at the very ends always inverts.
+    #[inline]
     fn layer_for_pressure(&self, p_pa: f32) -> Result<&Layer, Error> {
         // Fast path: the troposphere above sea level, where most readings fall.
         let (sea_level, tropopause) = (&self.layers[1], &self.layers[2]);
@@ -317,7 +318,16 @@ impl StandardAtmosphere {
     ///
     /// Errors: [`Error::BelowModelBottom`] for pressure above the model's bottom pressure,
     /// [`Error::AboveModelTop`] for pressure below its top pressure.
+    #[inline]
     pub fn geopotential_height(&self, p: Pressure) -> Result<Height, Error> {
+        Ok(Height::from_finite_meters(self.geopotential_m(p)?))
+    }
+
+    /// [`Self::geopotential_height`] in metres. The result is finite: `p` is positive
+    /// and inside the model's pressure range, so the ratio to the layer base lies in
+    /// (0.05, 1.8) and every term is bounded.
+    #[inline]
+    fn geopotential_m(&self, p: Pressure) -> Result<f32, Error> {
         let pa = p.pa();
         let layer = self.layer_for_pressure(pa)?;
         // ln(p / pb) as ln of the ratio: its absolute error is about one f32 step
@@ -329,14 +339,19 @@ impl StandardAtmosphere {
         } else {
             layer.height_scale_m * math::small_exp_m1(layer.exponent * log_ratio)
         };
-        Height::from_meters(layer.base_geopotential_m + dh)
+        Ok(layer.base_geopotential_m + dh)
     }
 
     /// Pressure altitude: the geometric height (m) at which this standard has pressure
     /// `p`. Independent of latitude by definition (the standard's own Earth radius).
+    #[inline]
     pub fn pressure_altitude(&self, p: Pressure) -> Result<Height, Error> {
-        let h = self.geopotential_height(p)?;
-        crate::geopotential::geometric_from_geopotential(h, self.earth_radius_m)
+        let h = self.geopotential_m(p)?;
+        // U.S. 1976 eq. 19 as H + H^2 / (r0 - H); H is at most the model top (about
+        // 85 km, far below r0), so the result is finite.
+        Ok(Height::from_finite_meters(
+            h + h * h / (self.earth_radius_m - h),
+        ))
     }
 
     /// Pressure of this standard at geometric height `z`.
@@ -359,6 +374,7 @@ impl StandardAtmosphere {
 /// assert!(h.meters().abs() < 1e-3);
 /// # Ok::<(), isohypse::Error>(())
 /// ```
+#[inline]
 pub fn pressure_altitude(p: Pressure) -> Result<Height, Error> {
     US_1976.pressure_altitude(p)
 }

@@ -35,6 +35,7 @@ pub fn geopotential_from_geometric(z: Height, r0: f32) -> Result<Height, Error> 
 
 /// Geometric height (m) from geopotential height `h` with effective Earth radius `r0`:
 /// `z = r0 H / (r0 - H)` (U.S. 1976 eq. 19), written as `H + H^2 / (r0 - H)`.
+#[inline]
 pub fn geometric_from_geopotential(h: Height, r0: f32) -> Result<Height, Error> {
     let hm = h.meters();
     let denom = r0 - hm;

@@ -141,6 +141,11 @@ impl Height {
     pub fn feet(self) -> f32 {
         self.0 / M_PER_FT
     }
+    /// Inside the crate only, for results that are finite by construction (the caller
+    /// states why at the call site); skips the check on hot paths.
+    pub(crate) const fn from_finite_meters(m: f32) -> Self {
+        Self(m)
+    }
 }
 
 /// Vertical speed, stored in metres per second, positive up. Always finite.
