@@ -689,10 +689,8 @@ impl<const N: usize> Pipeline<N> {
             flags.set(Flags::FIX_APPLIED);
         }
         if let Some(last_t) = self.last_time_s {
-            let dt = (sample.time_s - last_t) as f32;
-            let tau = self.settings.fix_time_constant_s;
-            let k = if tau > 0.0 { dt / (tau + dt) } else { 1.0 };
-            offset += k * (offset_target - offset);
+            offset += slew_gain(sample.time_s - last_t, self.settings.fix_time_constant_s)
+                * (offset_target - offset);
         } else {
             offset = offset_target;
         }
@@ -806,11 +804,12 @@ impl<const N: usize> Pipeline<N> {
                         // vertical speed of the tracked height, smoothed (the raw
                         // difference of 2 Pa noise at 1 Hz is 0.2 m/s)
                         if let Some(t_last) = self.last_time_s {
-                            let dt = (sample.time_s - t_last) as f32;
-                            if dt > 0.0 {
-                                let v = (h - self.last.altitude_m) / dt;
-                                let k = dt / (HIKE_SPEED_TIME_CONSTANT_S + dt);
-                                hike_speed += k * (v - hike_speed);
+                            let dt = sample.time_s - t_last;
+                            // in f64: a gap of 1e77 s must not make inf / inf
+                            let v = f64::from(h - self.last.altitude_m) / dt;
+                            if v.is_finite() {
+                                let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
+                                hike_speed += k * (v as f32 - hike_speed);
                             }
                         }
                         (h, r.ascent_m, r.descent_m, r.tendency_hpa)
@@ -1010,6 +1009,20 @@ impl SpikeGate {
         self.last_accept_s = time_s;
         let _ = self.window.push(h);
     }
+}
+
+/// Gain `dt / (tau + dt)` of a first-order lag over a step of `dt` seconds (backward
+/// Euler form of `tau dx/dt = target - x`), computed in f64 so that any positive finite
+/// step gives a gain in [0, 1] (a step of 1e77 s gives 1, not inf / inf). `tau = 0`: 1.
+fn slew_gain(dt: f64, tau: f32) -> f32 {
+    let tau = f64::from(tau);
+    if dt.is_nan() || dt <= 0.0 {
+        return 0.0;
+    }
+    if tau <= 0.0 || dt.is_infinite() {
+        return 1.0;
+    }
+    (dt / (tau + dt)) as f32
 }
 
 /// Time constant of the hike preset's vertical-speed smoother, s.

@@ -235,3 +235,23 @@ fn sea_level_setting_and_run_time_change() {
     );
     assert_eq!(pipe, kept);
 }
+
+#[test]
+fn huge_time_gaps_keep_outputs_finite() {
+    // Regression test for a fuzzer find: with the hike preset a gap of 1e77 s made the
+    // vertical-speed smoother compute inf / inf (NaN); the datum slew had the same form.
+    for settings in [Settings::balloon(), Settings::drone(), Settings::hike()] {
+        let mut pipe = Pipeline::<8>::new(settings).unwrap();
+        pipe.process(&Sample::pressure(0.0, 95_000.0));
+        for t in [1.0e10, 2.316e77, 1.0e300] {
+            let out = pipe.process(&Sample::pressure(t, 95_000.0));
+            assert!(out.accepted(), "{out:?}");
+            assert!(
+                out.altitude_m.is_finite()
+                    && out.vertical_speed_mps.is_finite()
+                    && out.altitude_sigma_m.is_finite(),
+                "{out:?}"
+            );
+        }
+    }
+}

@@ -78,7 +78,12 @@ impl GroundReference {
         {
             return Err(Error::InvalidSetting);
         }
-        Ok(Self {
+        Ok(Self::empty(config))
+    }
+
+    /// A reference with no sample (configuration already checked).
+    const fn empty(config: GroundReferenceConfig) -> Self {
+        Self {
             config,
             first_time_s: 0.0,
             last_time_s: 0.0,
@@ -87,7 +92,7 @@ impl GroundReference {
             comp: 0.0,
             count: 0,
             armed_m: None,
-        })
+        }
     }
 
     /// Adds a height measured at rest at `time_s` (s). Ignored (returns `Ok(false)`)
@@ -136,7 +141,7 @@ impl GroundReference {
         if !self.is_ready() {
             return Err(Error::NotEnoughData);
         }
-        Height::from_meters(self.anchor_m + (self.sum + self.comp) / self.count as f32)
+        self.running_mean()
     }
 
     /// Mean of the samples averaged so far, before the reference is ready (a
@@ -191,17 +196,7 @@ impl GroundReference {
 
     /// Forgets the samples and the fixed reference and starts collecting again.
     pub fn rezero(&mut self) {
-        let config = self.config;
-        *self = Self {
-            config,
-            first_time_s: 0.0,
-            last_time_s: 0.0,
-            anchor_m: 0.0,
-            sum: 0.0,
-            comp: 0.0,
-            count: 0,
-            armed_m: None,
-        };
+        *self = Self::empty(self.config);
     }
 }
 
