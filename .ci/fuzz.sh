@@ -15,6 +15,9 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 seconds="${FUZZ_SECONDS:-30}"
+# A fixed seed makes a CI run repeatable on the same machine (the time bound still
+# decides how many inputs run); FUZZ_SEED=0 lets libFuzzer pick one.
+seed="${FUZZ_SEED:-1}"
 targets=("$@")
 if [ ${#targets[@]} -eq 0 ]; then
     targets=(pipeline replay_csv)
@@ -54,7 +57,7 @@ for target in "${targets[@]}"; do
     log=$(mktemp)
     echo "=== fuzz target '$target', ${seconds} s ==="
     if cargo +nightly fuzz run --fuzz-dir tests/fuzz "$target" "$corpus" -- \
-        -max_total_time="$seconds" -print_final_stats=1 -rss_limit_mb=2048 >"$log" 2>&1; then
+        -max_total_time="$seconds" -seed="$seed" -print_final_stats=1 -rss_limit_mb=2048 >"$log" 2>&1; then
         result="no crash"
     else
         result="CRASHED (input in tests/fuzz/artifacts/$target/)"

@@ -31,7 +31,7 @@ use crate::filter::{
 };
 use crate::flight::{FlightPhases, Phase, PhaseEvent, PhaseSettings};
 use crate::geopotential::Gravity;
-use crate::sounding::Sounding;
+use crate::sounding::{PendingStep, Sounding};
 use crate::track::{AscentTotals, HikeConfig, HikeTracker};
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
 
@@ -647,7 +647,7 @@ impl<const N: usize> Pipeline<N> {
         };
 
         // 2. Height model, computed on copies so that a failure changes nothing.
-        let mut sounding = self.sounding.clone();
+        let mut sounding = SoundingChange::Keep;
         let model = self.model_height(&mut sounding, pressure, temperature, humidity, &mut flags);
         let Ok((model_m, column_t)) = model else {
             return rejected(Flags::REJECTED_MODEL, &self.last);
@@ -833,7 +833,18 @@ impl<const N: usize> Pipeline<N> {
         // 6. Commit.
         self.hike_speed_mps = hike_speed;
         self.last_pressure_pa = pressure.pa();
-        self.sounding = sounding;
+        match sounding {
+            SoundingChange::Keep => {}
+            SoundingChange::Start(s) => self.sounding = Some(s),
+            SoundingChange::Step(pending, descending) => {
+                if let Some(s) = self.sounding.as_mut() {
+                    if descending {
+                        s.set_recording(false);
+                    }
+                    s.commit(pending);
+                }
+            }
+        }
         self.ground = ground;
         self.ground_frozen = ground_frozen;
         self.offset_m = offset;
@@ -869,7 +880,7 @@ impl<const N: usize> Pipeline<N> {
     /// temperature used, K.
     fn model_height(
         &self,
-        sounding: &mut Option<Sounding<N>>,
+        sounding: &mut SoundingChange<N>,
         p: Pressure,
         t: Option<Temperature>,
         rh: Option<RelativeHumidity>,
@@ -897,14 +908,14 @@ impl<const N: usize> Pipeline<N> {
                         US_1976.temperature_at(std_height)?
                     }
                 };
-                match sounding {
+                match self.sounding.as_ref() {
                     None => {
                         let base = match self.settings.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
-                        let s = Sounding::new(base, self.gravity, p, t, rh)?;
-                        *sounding = Some(s);
+                        *sounding =
+                            SoundingChange::Start(Sounding::new(base, self.gravity, p, t, rh)?);
                         // the datum offset is applied later: report model height
                         // relative to the start altitude's frame
                         Ok((base.meters() - self.start_offset(), t.kelvin()))
@@ -914,17 +925,19 @@ impl<const N: usize> Pipeline<N> {
                             self.phases.phase(),
                             Phase::Burst | Phase::Descent | Phase::Landed
                         );
-                        if descending {
-                            s.set_recording(false);
-                        }
-                        let step = s.update(p, Some(t), rh)?;
+                        // prepared now, applied when the whole sample is accepted
+                        let pending = s.prepare(p, Some(t), rh)?;
+                        *sounding = SoundingChange::Step(pending, descending);
                         if descending && descent_on_profile {
                             if let Ok(h) = s.height_on_profile(p) {
                                 flags.set(Flags::ON_PROFILE);
                                 return Ok((h.meters() - self.start_offset(), t.kelvin()));
                             }
                         }
-                        Ok((step.geometric.meters() - self.start_offset(), t.kelvin()))
+                        Ok((
+                            pending.step.geometric.meters() - self.start_offset(),
+                            t.kelvin(),
+                        ))
                     }
                 }
             }
@@ -965,6 +978,14 @@ impl<const N: usize> Pipeline<N> {
 pub const MAX_PRESSURE_NOISE_PA: f32 = 1_000.0;
 /// Largest accepted [`Settings::temperature_uncertainty_k`], K.
 pub const MAX_TEMPERATURE_UNCERTAINTY_K: f32 = 100.0;
+
+/// What a sample does to the sounding, applied only when the sample is accepted.
+#[allow(clippy::large_enum_variant)]
+enum SoundingChange<const N: usize> {
+    Keep,
+    Start(Sounding<N>),
+    Step(PendingStep, bool),
+}
 
 /// Median spike gate of the pointwise path: the last five accepted model heights.
 #[derive(Debug, Clone, Copy, PartialEq)]

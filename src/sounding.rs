@@ -263,6 +263,18 @@ pub struct SoundingStep {
     pub temperature_held: bool,
 }
 
+/// A sounding step computed by [`Sounding::prepare`] and not yet applied.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PendingStep {
+    /// The step as [`Sounding::update`] returns it.
+    pub step: SoundingStep,
+    pressure_pa: f32,
+    compensation_m: f32,
+    temperature: Temperature,
+    rising: bool,
+}
+
 /// Layer-by-layer integration of a sounding from a known launch elevation, recording a
 /// [`Profile`] of `N` levels on the way up.
 ///
@@ -325,6 +337,19 @@ impl<const N: usize> Sounding<N> {
         t: Option<Temperature>,
         rh: Option<RelativeHumidity>,
     ) -> Result<SoundingStep, Error> {
+        let pending = self.prepare(p, t, rh)?;
+        Ok(self.commit(pending))
+    }
+
+    /// The step [`Self::update`] would take, without taking it: the sounding is not
+    /// changed. Apply it with [`Self::commit`]. The pipeline uses the pair so that a
+    /// sample refused further down changes nothing, without copying the profile.
+    pub fn prepare(
+        &self,
+        p: Pressure,
+        t: Option<Temperature>,
+        rh: Option<RelativeHumidity>,
+    ) -> Result<PendingStep, Error> {
         let (t, held) = match t {
             Some(t) => (t, false),
             None => (self.last_temperature, true),
@@ -347,9 +372,28 @@ impl<const N: usize> Sounding<N> {
         let geopotential = Height::from_meters(sum)?;
         let geometric = self.gravity.geometric(geopotential)?;
         let virtual_temperature = Temperature::from_kelvin(tv)?;
-        if self.recording && dh > 0.0 {
+        Ok(PendingStep {
+            step: SoundingStep {
+                geopotential,
+                geometric,
+                virtual_temperature,
+                temperature_held: held,
+            },
+            pressure_pa: p.pa(),
+            compensation_m: compensation,
+            temperature: t,
+            rising: dh > 0.0,
+        })
+    }
+
+    /// Apply a step made by [`Self::prepare`] on this sounding (in its current state).
+    pub fn commit(&mut self, pending: PendingStep) -> SoundingStep {
+        let step = pending.step;
+        let sum = step.geopotential.meters();
+        let tv = step.virtual_temperature.kelvin();
+        if self.recording && pending.rising {
             let level = Level {
-                pressure_pa: p.pa(),
+                pressure_pa: pending.pressure_pa,
                 geopotential_m: sum,
                 virtual_temperature_k: tv,
             };
@@ -357,16 +401,11 @@ impl<const N: usize> Sounding<N> {
             let _ = self.profile.record(level);
         }
         self.geopotential_m = sum;
-        self.compensation_m = compensation;
-        self.last_pressure_pa = p.pa();
+        self.compensation_m = pending.compensation_m;
+        self.last_pressure_pa = pending.pressure_pa;
         self.last_virtual_temperature_k = tv;
-        self.last_temperature = t;
-        Ok(SoundingStep {
-            geopotential,
-            geometric,
-            virtual_temperature,
-            temperature_held: held,
-        })
+        self.last_temperature = pending.temperature;
+        step
     }
 
     /// Stop (or resume) recording profile levels, e.g. at burst.
