@@ -729,7 +729,7 @@ impl<const N: usize> Pipeline<N> {
                     {
                         // in f64: a step of 1e-40 s must not divide to infinity in f32
                         let v = f64::from(raw_m - self.last.raw_altitude_m) / (sample.time_s - t);
-                        if v.is_finite() && v.abs() < 1.0e4 {
+                        if v.is_finite() && v.abs() < MAX_SPEED_MPS {
                             v as f32
                         } else {
                             self.last.vertical_speed_mps
@@ -807,7 +807,9 @@ impl<const N: usize> Pipeline<N> {
                             let dt = sample.time_s - t_last;
                             // in f64: a gap of 1e77 s must not make inf / inf
                             let v = f64::from(h - self.last.altitude_m) / dt;
-                            if v.is_finite() {
+                            // (and no faster than anything that walks or flies: a
+                            // step of 1e-166 s must not make an f32 infinity)
+                            if v.is_finite() && v.abs() < MAX_SPEED_MPS {
                                 let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
                                 hike_speed += k * (v as f32 - hike_speed);
                             }
@@ -1045,6 +1047,10 @@ fn slew_gain(dt: f64, tau: f32) -> f32 {
     }
     (dt / (tau + dt)) as f32
 }
+
+/// Fastest vertical speed a pointwise difference may report, m/s; a faster one comes
+/// from a time step too short to divide by and is replaced by the last speed.
+const MAX_SPEED_MPS: f64 = 1.0e4;
 
 /// Time constant of the hike preset's vertical-speed smoother, s.
 const HIKE_SPEED_TIME_CONSTANT_S: f32 = 30.0;

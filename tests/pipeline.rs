@@ -255,3 +255,18 @@ fn huge_time_gaps_keep_outputs_finite() {
         }
     }
 }
+
+#[test]
+fn tiny_time_steps_keep_hike_speed_finite() {
+    // Regression test for a fuzzer find: the hike preset's speed smoother divided a
+    // height change by a step of 5e-166 s and turned the f64 quotient into an f32
+    // infinity.
+    let mut pipe = Pipeline::<2>::new(Settings::hike()).unwrap();
+    let mut first = Sample::pressure(-5.0e-166, 71_072.34);
+    first.known_altitude_m = Some(-7_000.0 + 100.0);
+    pipe.process(&first);
+    for t in [3.3e-312, 1.0e-300, 2.0e-300] {
+        let out = pipe.process(&Sample::pressure(t, 71_072.34));
+        assert!(out.accepted() && out.vertical_speed_mps.is_finite(), "{out:?}");
+    }
+}
