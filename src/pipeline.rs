@@ -727,13 +727,8 @@ impl<const N: usize> Pipeline<N> {
                     Some(t)
                         if self.last.accepted() && !self.last.flags.contains(Flags::OUTLIER) =>
                     {
-                        // in f64: a step of 1e-40 s must not divide to infinity in f32
-                        let v = f64::from(raw_m - self.last.raw_altitude_m) / (sample.time_s - t);
-                        if v.is_finite() && v.abs() < MAX_SPEED_MPS {
-                            v as f32
-                        } else {
-                            self.last.vertical_speed_mps
-                        }
+                        difference_speed(raw_m - self.last.raw_altitude_m, sample.time_s - t)
+                            .unwrap_or(self.last.vertical_speed_mps)
                     }
                     _ => self.last.vertical_speed_mps,
                 };
@@ -805,13 +800,9 @@ impl<const N: usize> Pipeline<N> {
                         // difference of 2 Pa noise at 1 Hz is 0.2 m/s)
                         if let Some(t_last) = self.last_time_s {
                             let dt = sample.time_s - t_last;
-                            // in f64: a gap of 1e77 s must not make inf / inf
-                            let v = f64::from(h - self.last.altitude_m) / dt;
-                            // (and no faster than anything that walks or flies: a
-                            // step of 1e-166 s must not make an f32 infinity)
-                            if v.is_finite() && v.abs() < MAX_SPEED_MPS {
+                            if let Some(v) = difference_speed(h - self.last.altitude_m, dt) {
                                 let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
-                                hike_speed += k * (v as f32 - hike_speed);
+                                hike_speed += k * (v - hike_speed);
                             }
                         }
                         (h, r.ascent_m, r.descent_m, r.tendency_hpa)
@@ -1035,22 +1026,37 @@ impl SpikeGate {
 }
 
 /// Gain `dt / (tau + dt)` of a first-order lag over a step of `dt` seconds (backward
-/// Euler form of `tau dx/dt = target - x`), computed in f64 so that any positive finite
-/// step gives a gain in [0, 1] (a step of 1e77 s gives 1, not inf / inf). `tau = 0`: 1.
+/// Euler form of `tau dx/dt = target - x`): in [0, 1] for every step, 1 for steps of
+/// 1e30 s and more (where f32 would give inf / inf). Only comparisons in f64: f64
+/// division is software on a single-precision FPU.
 fn slew_gain(dt: f64, tau: f32) -> f32 {
-    let tau = f64::from(tau);
     if dt.is_nan() || dt <= 0.0 {
         return 0.0;
     }
-    if tau <= 0.0 || dt.is_infinite() {
+    if tau <= 0.0 || dt >= 1.0e30 {
         return 1.0;
     }
-    (dt / (tau + dt)) as f32
+    let dt = dt as f32;
+    dt / (tau + dt)
 }
+
+/// Speed from a height change over a step of `dt` seconds; `None` for steps shorter than
+/// [`MIN_SPEED_STEP_S`] (too short to divide by), non-finite results, or speeds above
+/// [`MAX_SPEED_MPS`].
+fn difference_speed(dh: f32, dt: f64) -> Option<f32> {
+    if dt.is_nan() || dt < MIN_SPEED_STEP_S {
+        return None;
+    }
+    let v = dh / dt as f32;
+    (v.is_finite() && v.abs() < MAX_SPEED_MPS).then_some(v)
+}
+
+/// Shortest step a pointwise speed is computed over, s.
+const MIN_SPEED_STEP_S: f64 = 1.0e-3;
 
 /// Fastest vertical speed a pointwise difference may report, m/s; a faster one comes
 /// from a time step too short to divide by and is replaced by the last speed.
-const MAX_SPEED_MPS: f64 = 1.0e4;
+const MAX_SPEED_MPS: f32 = 1.0e4;
 
 /// Time constant of the hike preset's vertical-speed smoother, s.
 const HIKE_SPEED_TIME_CONSTANT_S: f32 = 30.0;
