@@ -267,6 +267,9 @@ fn tiny_time_steps_keep_hike_speed_finite() {
     pipe.process(&first);
     for t in [3.3e-312, 1.0e-300, 2.0e-300] {
         let out = pipe.process(&Sample::pressure(t, 71_072.34));
-        assert!(out.accepted() && out.vertical_speed_mps.is_finite(), "{out:?}");
+        assert!(
+            out.accepted() && out.vertical_speed_mps.is_finite(),
+            "{out:?}"
+        );
     }
 }
