@@ -767,10 +767,11 @@ impl<const N: usize> Pipeline<N> {
             }
         }
 
-        // 5. Trackers.
-        let mut track = self.track.clone();
+        // 5. Trackers, updated in place: the hike tracker's update is the last step that
+        //    can refuse the sample, and it leaves the tracker unchanged when it does;
+        //    nothing after it can fail.
         let mut hike_speed = self.hike_speed_mps;
-        let (out_height, ascent, descent, tendency) = match &mut track {
+        let (out_height, ascent, descent, tendency) = match &mut self.track {
             TrackState::Flight(totals) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
                 (height_m, totals.ascent_m(), totals.descent_m(), None)
@@ -812,13 +813,15 @@ impl<const N: usize> Pipeline<N> {
             }
         };
 
-        let speed_mps = if matches!(track, TrackState::Hike(_)) {
+        let speed_mps = if matches!(self.track, TrackState::Hike(_)) {
             hike_speed
         } else {
             speed_mps
         };
-        let mut phases = self.phases.clone();
-        let event = phases
+        // Time is validated and heights are finite here, so this cannot fail; if it
+        // did, the phase tracker would keep its state (it is atomic on error).
+        let event = self
+            .phases
             .update(sample.time_s, out_height, speed_mps)
             .ok()
             .flatten();
@@ -844,8 +847,6 @@ impl<const N: usize> Pipeline<N> {
         self.offset_target_m = offset_target;
         self.kalman = kalman;
         self.spikes = spikes;
-        self.phases = phases;
-        self.track = track;
         self.last_time_s = Some(sample.time_s);
         if temperature.is_some() {
             self.last_temperature = temperature;
