@@ -25,20 +25,8 @@ use isohypse::pipeline::{Estimator, Flags, Output, Pipeline, Sample, Settings};
 use isohypse::sounding::{Level, Profile};
 use isohypse::track::{AscentTotals, HikeConfig, HikeTracker};
 use isohypse::{Error, Height, Pressure, RelativeHumidity, Temperature};
-
-fn h(m: f32) -> Height {
-    Height::from_meters(m).unwrap()
-}
-fn pa(p: f32) -> Pressure {
-    Pressure::from_pa(p).unwrap()
-}
-fn k(t: f32) -> Temperature {
-    Temperature::from_kelvin(t).unwrap()
-}
-/// Pressure of the U.S. 1976 atmosphere at geometric height `z`, Pa.
-fn p_at(z: f32) -> f32 {
-    US_1976.pressure_at(h(z)).unwrap().pa()
-}
+mod common;
+use common::{h, k, p_at, pa};
 
 /// Outcome of one case: whether it matched, and what was observed.
 type Observed = (bool, String);

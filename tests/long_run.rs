@@ -14,6 +14,8 @@ use isohypse::flight::Phase;
 use isohypse::pipeline::{Pipeline, Sample, Settings};
 use isohypse::track::HikeConfig;
 use isohypse::{Height, Pressure};
+mod common;
+use common::p_at;
 
 struct Noise(u64);
 
@@ -34,13 +36,6 @@ impl Noise {
         let (u1, u2) = (self.uniform(), self.uniform());
         (-2.0 * u1.ln()).sqrt() * (2.0 * std::f64::consts::PI * u2).cos()
     }
-}
-
-fn p_at(z: f32) -> f32 {
-    US_1976
-        .pressure_at(Height::from_meters(z).unwrap())
-        .unwrap()
-        .pa()
 }
 
 /// A week at 1 Hz, device at rest at 300 m, no weather change, 1.5 Pa (1-sigma) white

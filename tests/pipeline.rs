@@ -1,17 +1,12 @@
 //! The composed pipeline: presets, rejection without state change, run-time settings,
 //! state sizes.
 
-use isohypse::atmosphere::{self, US_1976};
+use isohypse::atmosphere;
 use isohypse::flight::Phase;
 use isohypse::pipeline::{Estimator, Flags, HeightModel, Pipeline, Sample, Settings};
-use isohypse::{Error, Height, Pressure};
-
-fn p_at(z: f32) -> f32 {
-    US_1976
-        .pressure_at(Height::from_meters(z).unwrap())
-        .unwrap()
-        .pa()
-}
+use isohypse::{Error, Pressure};
+mod common;
+use common::p_at;
 
 #[test]
 fn pipeline_state_sizes() {

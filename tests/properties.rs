@@ -19,8 +19,9 @@ use isohypse::filter::{KalmanOutcome, VerticalKalmanConfig};
 use isohypse::model::{AirSample, ColumnModel, Reference, TemperatureModel};
 use isohypse::pipeline::{Flags, Output, Pipeline, Sample, Settings};
 use isohypse::track::AscentTotals;
-use isohypse::{Height, Pressure, Temperature};
 use proptest::prelude::*;
+mod common;
+use common::{h, k, pa};
 
 /// Proptest settings: `n` cases, no failure-persistence files (a failing case is printed
 /// with its inputs instead).
@@ -30,16 +31,6 @@ fn cases(n: u32) -> ProptestConfig {
         failure_persistence: None,
         ..ProptestConfig::default()
     }
-}
-
-fn h(m: f32) -> Height {
-    Height::from_meters(m).unwrap()
-}
-fn pa(p: f32) -> Pressure {
-    Pressure::from_pa(p).unwrap()
-}
-fn k(t: f32) -> Temperature {
-    Temperature::from_kelvin(t).unwrap()
 }
 
 /// Round-trip budget for one standard atmosphere: twice the per-conversion goal

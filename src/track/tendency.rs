@@ -136,7 +136,12 @@ impl PressureTendency {
     /// An empty tracker. Errors: as [`TendencyConfig::validate`].
     pub fn new(config: TendencyConfig) -> Result<Self, Error> {
         config.validate()?;
-        Ok(Self {
+        Ok(Self::empty(config))
+    }
+
+    /// An empty ring with a checked configuration.
+    const fn empty(config: TendencyConfig) -> Self {
+        Self {
             config,
             ring: [MISSING; SLOTS],
             newest: 0,
@@ -144,7 +149,7 @@ impl PressureTendency {
             started: false,
             last_time_s: 0.0,
             next_due_s: 0.0,
-        })
+        }
     }
 
     /// True if a call to [`Self::update`] at `time_s` would store a value: lets a caller
@@ -252,15 +257,7 @@ impl PressureTendency {
 
     /// Forgets every stored value; keeps the settings.
     pub fn reset(&mut self) {
-        *self = Self {
-            config: self.config,
-            ring: [MISSING; SLOTS],
-            newest: 0,
-            filled: 0,
-            started: false,
-            last_time_s: 0.0,
-            next_due_s: 0.0,
-        };
+        *self = Self::empty(self.config);
     }
 }
 

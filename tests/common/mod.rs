@@ -164,3 +164,21 @@ pub fn height_limit(z_m: f64) -> f64 {
         0.05
     }
 }
+
+/// Shorthands for the newtypes in tests (values known to be valid).
+pub fn h(m: f32) -> isohypse::Height {
+    isohypse::Height::from_meters(m).unwrap()
+}
+pub fn pa(p: f32) -> isohypse::Pressure {
+    isohypse::Pressure::from_pa(p).unwrap()
+}
+pub fn k(t: f32) -> isohypse::Temperature {
+    isohypse::Temperature::from_kelvin(t).unwrap()
+}
+/// Pressure of the U.S. 1976 atmosphere at geometric height `z`, Pa.
+pub fn p_at(z: f32) -> f32 {
+    isohypse::atmosphere::US_1976
+        .pressure_at(h(z))
+        .unwrap()
+        .pa()
+}
