@@ -83,7 +83,8 @@
 //!    landed) and [`track`] (walking devices: ascent/descent totals with hysteresis,
 //!    weather drift at rest, known-elevation fixes, 3-hour pressure tendency).
 //! 7. **Pipeline** — [`pipeline`] (one call per sample, presets for balloon, drone and
-//!    hike), and the optional `embedded-hal` sensor adapter (`sensor`) and `defmt` formatting.
+//!    hike), and the optional `embedded-hal` sensor adapter (`sensor`, and `sensor_async`
+//!    with `embedded-hal-async`) and `defmt` formatting.
 //!
 //! Every formula's documentation gives the equation and its published source.
 //!
@@ -123,6 +124,8 @@ pub mod model;
 pub mod pipeline;
 #[cfg(feature = "embedded-hal")]
 pub mod sensor;
+#[cfg(feature = "embedded-hal-async")]
+pub mod sensor_async;
 pub mod sounding;
 pub mod track;
 pub mod units;

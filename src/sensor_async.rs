@@ -1,0 +1,147 @@
+//! The async variant of [`crate::sensor`] (feature `embedded-hal-async`), for firmware
+//! built on an async executor: the same [`Reading`], the same error handling, an
+//! [`embedded_hal_async::delay::DelayNs`] to pace the loop.
+//!
+//! A failed read is counted and returned as [`DriverError::Sensor`]; the pipeline is not
+//! touched by it.
+//!
+//! ```
+//! use isohypse::pipeline::{Pipeline, Settings};
+//! use isohypse::sensor::Reading;
+//! use isohypse::sensor_async::{AsyncBarometricSensor, AsyncSensorDriver};
+//!
+//! struct Steady; // an invented sensor for the example
+//! impl AsyncBarometricSensor for Steady {
+//!     type Error = ();
+//!     async fn read(&mut self) -> Result<Reading, ()> {
+//!         Ok(Reading { pressure_pa: 95_000.0, temperature_c: Some(12.0), humidity_pct: None })
+//!     }
+//! }
+//! struct NoWait;
+//! impl embedded_hal_async::delay::DelayNs for NoWait {
+//!     async fn delay_ns(&mut self, _ns: u32) {}
+//! }
+//! # fn block_on<F: core::future::Future>(f: F) -> F::Output {
+//! #     let mut f = core::pin::pin!(f);
+//! #     let mut cx = core::task::Context::from_waker(core::task::Waker::noop());
+//! #     loop {
+//! #         if let core::task::Poll::Ready(v) = f.as_mut().poll(&mut cx) { return v; }
+//! #     }
+//! # }
+//! let pipeline = Pipeline::<2>::new(Settings::hike())?;
+//! let mut driver = AsyncSensorDriver::new(Steady, NoWait, pipeline);
+//! let summary = block_on(driver.run_for(10, 1000, |_, _| {}));
+//! assert_eq!(summary.accepted, 10);
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+
+use embedded_hal_async::delay::DelayNs;
+
+use crate::pipeline::{Output, Pipeline};
+use crate::sensor::{DriverError, Reading, RunSummary};
+
+/// Anything that yields pressure and temperature (and optionally humidity),
+/// asynchronously. The async counterpart of [`crate::sensor::BarometricSensor`].
+// `async fn` in a public trait: the futures' auto traits (Send) cannot be named by
+// callers; this is the form embedded-hal-async itself uses for single-threaded
+// executors.
+#[allow(async_fn_in_trait)]
+pub trait AsyncBarometricSensor {
+    /// The sensor's own error type (a bus error, a device fault...).
+    type Error;
+    /// Take one reading now.
+    async fn read(&mut self) -> Result<Reading, Self::Error>;
+}
+
+/// Drives an [`AsyncBarometricSensor`] through a [`Pipeline`] at a chosen rate.
+/// Same behaviour as [`crate::sensor::SensorDriver`], awaiting the read and the delay.
+#[derive(Debug)]
+pub struct AsyncSensorDriver<S, D, const N: usize> {
+    sensor: S,
+    delay: D,
+    pipeline: Pipeline<N>,
+    last_time_s: Option<f64>,
+    read_errors: u32,
+}
+
+/// Formats the pipeline and the driver's counters.
+#[cfg(feature = "defmt")]
+impl<S, D, const N: usize> defmt::Format for AsyncSensorDriver<S, D, N> {
+    fn format(&self, f: defmt::Formatter<'_>) {
+        defmt::write!(
+            f,
+            "AsyncSensorDriver {{ pipeline: {}, last_time_s: {}, read_errors: {} }}",
+            self.pipeline,
+            self.last_time_s,
+            self.read_errors
+        );
+    }
+}
+
+impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, D, N> {
+    /// A driver for `sensor`, pacing with `delay`, feeding `pipeline`.
+    pub const fn new(sensor: S, delay: D, pipeline: Pipeline<N>) -> Self {
+        Self {
+            sensor,
+            delay,
+            pipeline,
+            last_time_s: None,
+            read_errors: 0,
+        }
+    }
+
+    /// Read the sensor once and feed the reading to the pipeline as taken at `time_s`
+    /// (s). `Err`: the read failed and the pipeline was not touched.
+    pub async fn step(&mut self, time_s: f64) -> Result<Output, DriverError<S::Error>> {
+        self.last_time_s = Some(time_s);
+        match self.sensor.read().await {
+            Ok(reading) => Ok(self.pipeline.process(&reading.to_sample(time_s))),
+            Err(e) => {
+                self.read_errors = self.read_errors.saturating_add(1);
+                Err(DriverError::Sensor(e))
+            }
+        }
+    }
+
+    /// Take `samples` readings `period_ms` apart (see
+    /// [`crate::sensor::SensorDriver::run_for`]), awaiting the delay after each.
+    pub async fn run_for<F>(&mut self, samples: u32, period_ms: u32, mut each: F) -> RunSummary
+    where
+        F: FnMut(f64, Result<Output, DriverError<S::Error>>),
+    {
+        let period_s = f64::from(period_ms) / 1000.0;
+        let mut summary = RunSummary::default();
+        for _ in 0..samples {
+            let time_s = self.last_time_s.map_or(0.0, |t| t + period_s);
+            let result = self.step(time_s).await;
+            match &result {
+                Ok(out) if out.accepted() => summary.accepted += 1,
+                Ok(_) => summary.rejected += 1,
+                Err(_) => summary.read_errors += 1,
+            }
+            each(time_s, result);
+            self.delay.delay_ms(period_ms).await;
+        }
+        summary
+    }
+
+    /// The pipeline.
+    pub fn pipeline(&self) -> &Pipeline<N> {
+        &self.pipeline
+    }
+
+    /// The pipeline, e.g. to feed accelerometer samples between readings.
+    pub fn pipeline_mut(&mut self) -> &mut Pipeline<N> {
+        &mut self.pipeline
+    }
+
+    /// Failed reads since the driver was made.
+    pub const fn read_errors(&self) -> u32 {
+        self.read_errors
+    }
+
+    /// Take the parts back.
+    pub fn release(self) -> (S, D, Pipeline<N>) {
+        (self.sensor, self.delay, self.pipeline)
+    }
+}
