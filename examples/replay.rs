@@ -53,11 +53,22 @@ pub(crate) struct Cli {
     /// Settings preset for the kind of device.
     #[arg(long, value_enum, default_value_t = PresetArg::Balloon)]
     pub(crate) preset: PresetArg,
-    /// Height model: `standard` (U.S. 1976 pressure altitude plus datum) or `sounding`
+    /// Height model: `standard` (U.S. 1976 pressure altitude plus datum), `sounding`
     /// (layer-by-layer hypsometric integration with each row's temperature and
-    /// humidity). Default: the preset's (balloon: sounding; drone, hike: standard).
+    /// humidity), `mean` (two-point hypsometric method from the first row: the column
+    /// at the mean of the first and the current temperature) or `offset` (standard
+    /// atmosphere warmer or colder by --temperature-offset-k). Default: the preset's
+    /// (balloon: sounding; drone, hike: standard).
     #[arg(long, value_enum)]
     pub(crate) model: Option<ModelArg>,
+    /// Temperature offset from standard for `--model offset`, K (positive: warmer).
+    #[arg(
+        long,
+        value_name = "K",
+        allow_hyphen_values = true,
+        default_value_t = 0.0
+    )]
+    pub(crate) temperature_offset_k: f32,
     /// `off`: pointwise conversion: no smoothing, no outlier rejection, no weather hold
     /// (hike totals then count every move beyond a 3 m band); `on`: the preset's
     /// estimator and trackers.
@@ -100,8 +111,15 @@ pub(crate) enum PresetArg {
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
 pub(crate) enum ModelArg {
+    /// U.S. 1976 pressure altitude plus the datum.
     Standard,
+    /// Layer-by-layer integration with each row's temperature and humidity.
     Sounding,
+    /// Two-point hypsometric method: the column at the mean of the first row's and the
+    /// current row's temperature.
+    Mean,
+    /// The standard atmosphere offset by --temperature-offset-k (a warm or cold day).
+    Offset,
 }
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
@@ -183,6 +201,14 @@ pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
             s.model = HeightModel::Sounding {
                 descent_on_profile: true,
             }
+        }
+        Some(ModelArg::Mean) => {
+            s.model = HeightModel::Column(isohypse::model::TemperatureModel::MeanOfEnds)
+        }
+        Some(ModelArg::Offset) => {
+            s.model = HeightModel::Column(isohypse::model::TemperatureModel::StandardOffset {
+                delta_k: cli.temperature_offset_k,
+            })
         }
         None => {}
     }
@@ -740,6 +766,7 @@ pub(crate) fn run(cli: &Cli) -> Result<(), Failure> {
                     summary: None,
                     out_dir: cli.out_dir.clone(),
                     model: cli.model,
+                    temperature_offset_k: cli.temperature_offset_k,
                     filter: cli.filter,
                     strict: cli.strict,
                     quiet: cli.quiet,

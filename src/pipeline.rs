@@ -31,6 +31,8 @@ use crate::filter::{
 };
 use crate::flight::{FlightPhases, Phase, PhaseEvent, PhaseSettings};
 use crate::geopotential::Gravity;
+use crate::humidity::MixingRatio;
+use crate::model::{AirSample, ColumnModel, Reference, TemperatureModel};
 use crate::sounding::{PendingStep, Sounding};
 use crate::track::{AscentTotals, HikeConfig, HikeTracker};
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
@@ -202,6 +204,13 @@ pub enum HeightModel {
         /// integrating with the lagging temperature sensor.
         descent_on_profile: bool,
     },
+    /// A layer temperature model ([`crate::model`]) between a reference level and the
+    /// sample: the reference is the first accepted sample (its pressure, temperature,
+    /// and the start altitude, or its standard pressure altitude without one); each
+    /// sample's temperature and humidity go in as the current air. For example
+    /// [`TemperatureModel::MeanOfEnds`], the two-point hypsometric method, or
+    /// [`TemperatureModel::StandardOffset`] for a warm or cold day.
+    Column(TemperatureModel),
 }
 
 /// How heights are smoothed and vertical speed is estimated.
@@ -394,6 +403,15 @@ impl Settings {
         if let Estimator::Kalman(k) = self.estimator {
             k.validate()?;
         }
+        if let HeightModel::Column(model) = self.model {
+            // the model's own parameters: it must place a plain standard-day sample
+            let reference = Reference::new(Pressure::from_pa(101_325.0)?, Height::ZERO)
+                .with_temperature(Temperature::from_kelvin(288.15)?);
+            let air = AirSample::at(Temperature::from_kelvin(282.0)?);
+            model
+                .height(&reference, Pressure::from_pa(95_000.0)?, &air)
+                .map_err(|_| Error::InvalidSetting)?;
+        }
         match self.tracking {
             Tracking::Flight {
                 phases,
@@ -436,6 +454,7 @@ pub struct Pipeline<const N: usize> {
     settings: Settings,
     gravity: Gravity,
     sounding: Option<Sounding<N>>,
+    column_reference: Option<Reference>,
     kalman: Option<VerticalKalman>,
     ground: GroundReference,
     phases: FlightPhases,
@@ -480,6 +499,7 @@ impl<const N: usize> Pipeline<N> {
             gravity: settings.gravity()?,
             settings,
             sounding: None,
+            column_reference: None,
             kalman,
             ground: GroundReference::new(GroundReferenceConfig {
                 min_samples: settings.ground_min_samples.max(2),
@@ -648,7 +668,15 @@ impl<const N: usize> Pipeline<N> {
 
         // 2. Height model, computed on copies so that a failure changes nothing.
         let mut sounding = SoundingChange::Keep;
-        let model = self.model_height(&mut sounding, pressure, temperature, humidity, &mut flags);
+        let mut column = None;
+        let model = self.model_height(
+            &mut sounding,
+            &mut column,
+            pressure,
+            temperature,
+            humidity,
+            &mut flags,
+        );
         let Ok((model_m, column_t)) = model else {
             return rejected(Flags::REJECTED_MODEL, &self.last);
         };
@@ -829,6 +857,9 @@ impl<const N: usize> Pipeline<N> {
         // 6. Commit.
         self.hike_speed_mps = hike_speed;
         self.last_pressure_pa = pressure.pa();
+        if column.is_some() {
+            self.column_reference = column;
+        }
         match sounding {
             SoundingChange::Keep => {}
             SoundingChange::Start(s) => self.sounding = Some(s),
@@ -875,6 +906,7 @@ impl<const N: usize> Pipeline<N> {
     fn model_height(
         &self,
         sounding: &mut SoundingChange<N>,
+        column: &mut Option<Reference>,
         p: Pressure,
         t: Option<Temperature>,
         rh: Option<RelativeHumidity>,
@@ -890,18 +922,40 @@ impl<const N: usize> Pipeline<N> {
                 };
                 Ok((h.meters(), t.map_or(t_std, |t| t.kelvin())))
             }
-            HeightModel::Sounding { descent_on_profile } => {
-                let t = match (t, self.last_temperature) {
-                    (Some(t), _) => t,
-                    (None, Some(held)) => {
-                        flags.set(Flags::TEMPERATURE_HELD);
-                        held
-                    }
-                    (None, None) => {
-                        flags.set(Flags::TEMPERATURE_ASSUMED);
-                        US_1976.temperature_at(std_height)?
-                    }
+            HeightModel::Column(model) => {
+                let t = Some(self.temperature_or_held(t, std_height, flags)?);
+                let air = AirSample {
+                    temperature: t,
+                    mixing_ratio: match (t, rh) {
+                        (Some(t), Some(rh)) => MixingRatio::from_relative_humidity(p, t, rh)?,
+                        _ => MixingRatio::DRY,
+                    },
                 };
+                let column_t =
+                    t.map_or(US_1976.temperature_at(std_height)?.kelvin(), |t| t.kelvin());
+                match self.column_reference {
+                    None => {
+                        let base = match self.settings.start_altitude_m {
+                            Some(h) => Height::from_meters(h)?,
+                            None => std_height,
+                        };
+                        let mut reference = Reference::new(p, base);
+                        if let Some(t) = t {
+                            reference = reference.with_temperature(t);
+                        }
+                        // checks the model can place this sample before keeping it
+                        model.height(&reference, p, &air)?;
+                        *column = Some(reference);
+                        Ok((base.meters() - self.start_offset(), column_t))
+                    }
+                    Some(reference) => {
+                        let h = model.height(&reference, p, &air)?;
+                        Ok((h.meters() - self.start_offset(), column_t))
+                    }
+                }
+            }
+            HeightModel::Sounding { descent_on_profile } => {
+                let t = self.temperature_or_held(t, std_height, flags)?;
                 match self.sounding.as_ref() {
                     None => {
                         let base = match self.settings.start_altitude_m {
@@ -938,11 +992,34 @@ impl<const N: usize> Pipeline<N> {
         }
     }
 
+    /// The sample's temperature; without one the last one held, or before any the
+    /// standard atmosphere's at the pressure altitude (flagged either way).
+    fn temperature_or_held(
+        &self,
+        t: Option<Temperature>,
+        std_height: Height,
+        flags: &mut Flags,
+    ) -> Result<Temperature, Error> {
+        match (t, self.last_temperature) {
+            (Some(t), _) => Ok(t),
+            (None, Some(held)) => {
+                flags.set(Flags::TEMPERATURE_HELD);
+                Ok(held)
+            }
+            (None, None) => {
+                flags.set(Flags::TEMPERATURE_ASSUMED);
+                US_1976.temperature_at(std_height)
+            }
+        }
+    }
+
     /// The sounding already starts at the start altitude, so the ground-reference
     /// offset must not add it again: report its heights relative to zero.
     fn start_offset(&self) -> f32 {
         match self.settings.model {
-            HeightModel::Sounding { .. } => self.settings.start_altitude_m.unwrap_or(0.0),
+            HeightModel::Sounding { .. } | HeightModel::Column(_) => {
+                self.settings.start_altitude_m.unwrap_or(0.0)
+            }
             HeightModel::Standard => 0.0,
         }
     }

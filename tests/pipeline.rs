@@ -268,3 +268,71 @@ fn tiny_time_steps_keep_hike_speed_finite() {
         );
     }
 }
+
+#[test]
+fn column_models_through_the_pipeline() {
+    use isohypse::geopotential::{geometric_from_geopotential, geopotential_from_geometric};
+    use isohypse::model::TemperatureModel;
+    // Two-point hypsometric method (mean of the end temperatures): from a reference at
+    // 500 m, 950 hPa, 15 degC to 900 hPa at 10 degC,
+    // dH = (R / g0) * (T1 + T2) / 2 * ln(p1 / p2) (hypsometric equation, Wallace & Hobbs
+    // 2006 eq. 3.29 with the layer mean taken as the mean of its ends).
+    let mut s = Settings::hike();
+    s.model = HeightModel::Column(TemperatureModel::MeanOfEnds);
+    s.estimator = Estimator::Off;
+    s.tracking = isohypse::pipeline::Tracking::Flight {
+        phases: isohypse::flight::PhaseSettings::HIKE,
+        totals_band_m: 3.0,
+    };
+    s.spike_gate_m = None;
+    s.start_altitude_m = Some(500.0);
+    let mut pipe = Pipeline::<2>::new(s).unwrap();
+    let mut first = Sample::pressure(0.0, 95_000.0);
+    first.temperature_c = Some(15.0);
+    let out0 = pipe.process(&first);
+    assert!((out0.altitude_m - 500.0).abs() < 1e-3, "{out0:?}");
+    let mut second = Sample::pressure(1.0, 90_000.0);
+    second.temperature_c = Some(10.0);
+    let out = pipe.process(&second);
+    let dh = 287.053_07f64 / 9.806_65 * (288.15 + 283.15) / 2.0 * (95_000.0f64 / 90_000.0).ln();
+    let h_ref =
+        geopotential_from_geometric(isohypse::Height::from_meters(500.0).unwrap(), 6_356_766.0)
+            .unwrap()
+            .meters() as f64;
+    let expect = geometric_from_geopotential(
+        isohypse::Height::from_meters((h_ref + dh) as f32).unwrap(),
+        6_356_766.0,
+    )
+    .unwrap()
+    .meters();
+    assert!(
+        (out.altitude_m - expect).abs() < 0.02,
+        "{} vs {expect}",
+        out.altitude_m
+    );
+
+    // A warm day (+10 K) puts the same pressure step higher than the standard model
+    // (common practice: thickness grows with temperature).
+    let height_for = |model: HeightModel| {
+        let mut s = Settings::drone();
+        s.model = model;
+        s.estimator = Estimator::Off;
+        s.start_altitude_m = None;
+        let mut pipe = Pipeline::<2>::new(s).unwrap();
+        pipe.process(&Sample::pressure(0.0, 100_000.0));
+        pipe.process(&Sample::pressure(1.0, 80_000.0)).altitude_m
+    };
+    let warm = height_for(HeightModel::Column(TemperatureModel::StandardOffset {
+        delta_k: 10.0,
+    }));
+    let standard = height_for(HeightModel::Standard);
+    assert!(warm > standard + 50.0, "{warm} vs {standard}");
+
+    // A model that cannot place anything is refused with the settings.
+    let mut bad = Settings::drone();
+    bad.model = HeightModel::Column(TemperatureModel::ConstantLapse {
+        reference_temperature: isohypse::Temperature::from_kelvin(280.0).unwrap(),
+        lapse_rate_k_per_m: 0.0,
+    });
+    assert_eq!(Pipeline::<2>::new(bad).err(), Some(Error::InvalidSetting));
+}
