@@ -10,6 +10,7 @@
 //!   the pipeline exactly as it was (`Pipeline` derives `Clone + PartialEq`).
 #![no_main]
 
+use isohypse::model::TemperatureModel;
 use isohypse::pipeline::{Estimator, HeightModel, Pipeline, Sample, Settings};
 use libfuzzer_sys::fuzz_target;
 
@@ -59,12 +60,13 @@ fn settings(b: &mut Bytes) -> Settings {
         s.latitude_deg = if b.u8() & 1 == 0 { None } else { Some(b.f32()) };
     }
     if choice & 0x10 != 0 {
-        s.model = if b.u8() & 1 == 0 {
-            HeightModel::Standard
-        } else {
-            HeightModel::Sounding {
+        s.model = match b.u8() % 4 {
+            0 => HeightModel::Standard,
+            1 => HeightModel::Sounding {
                 descent_on_profile: b.u8() & 1 == 1,
-            }
+            },
+            2 => HeightModel::Column(TemperatureModel::MeanOfEnds),
+            _ => HeightModel::Column(TemperatureModel::StandardOffset { delta_k: b.f32() }),
         };
     }
     if choice & 0x20 != 0 {
