@@ -32,7 +32,7 @@ use isohypse::pipeline::{Estimator, HeightModel, Output, Pipeline, Sample, Setti
 /// Replay a pressure log through the isohypse pipeline (the same per-sample pipeline
 /// the firmware runs) and write the heights, an SVG plot and a summary.
 #[derive(Parser, Debug)]
-#[command(version, about, long_about = None, after_help = AFTER_HELP)]
+#[command(version, long_about = None, after_help = AFTER_HELP)]
 pub(crate) struct Cli {
     /// Input CSV log. Without it the three built-in demo logs (balloon, drone, hike)
     /// are replayed and the files go to --out-dir.
@@ -92,8 +92,9 @@ pub(crate) struct Cli {
 }
 
 const AFTER_HELP: &str = "\
-Input columns: time_s (required), pressure_pa (required), temperature_c, humidity_pct,
-accel_up_mps2, known_altitude_m. Lines starting with # are comments.
+Input columns: time_s (required), pressure_pa (required; empty only in an
+accelerometer-only row), temperature_c, humidity_pct, accel_up_mps2, known_altitude_m.
+Lines starting with # are comments.
 Output columns: time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
 ascent_m,descent_m,flags.
 A bad row (wrong field count, unparsable or non-physical value, time not after the
