@@ -89,6 +89,7 @@ fn every_public_type_implements_format() {
     is_format::<sounding::Profile<8>>();
     is_format::<sounding::SoundingStep>();
     is_format::<sounding::Sounding<8>>();
+    is_format::<sounding::PendingStep>();
     // filters
     is_format::<filter::AlphaBeta>();
     is_format::<filter::GroundReference>();
@@ -132,6 +133,10 @@ fn every_public_type_implements_format() {
         is_format::<sensor::SensorDriver<(), (), 2>>();
         is_format::<sensor::ExampleBarometer<()>>();
         is_format::<sensor::ExampleBarometerError<u8>>();
+    }
+    #[cfg(feature = "embedded-hal-async")]
+    {
+        is_format::<isohypse::sensor_async::AsyncSensorDriver<(), (), 2>>();
     }
 }
 
