@@ -451,7 +451,7 @@ enum TrackState {
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Pipeline<const N: usize> {
-    settings: Settings,
+    run: RunSettings,
     gravity: Gravity,
     sounding: Option<Sounding<N>>,
     column_reference: Option<Reference>,
@@ -497,7 +497,7 @@ impl<const N: usize> Pipeline<N> {
         };
         Ok(Self {
             gravity: settings.gravity()?,
-            settings,
+            run: RunSettings::of(&settings),
             sounding: None,
             column_reference: None,
             kalman,
@@ -521,8 +521,37 @@ impl<const N: usize> Pipeline<N> {
     }
 
     /// The settings in use.
-    pub fn settings(&self) -> &Settings {
-        &self.settings
+    pub fn settings(&self) -> Settings {
+        let r = &self.run;
+        let estimator = match &self.kalman {
+            Some(k) => Estimator::Kalman(*k.config()),
+            None => Estimator::Off,
+        };
+        let phases = self.phases.settings();
+        let tracking = match &self.track {
+            TrackState::Flight(totals) => Tracking::Flight {
+                phases,
+                totals_band_m: totals.band_m(),
+            },
+            TrackState::Hike(hike) => Tracking::Hike {
+                hike: hike.config(),
+                phases,
+            },
+        };
+        Settings {
+            model: r.model,
+            estimator,
+            tracking,
+            start_altitude_m: r.start_altitude_m,
+            altimeter_setting: r.altimeter_setting,
+            latitude_deg: r.latitude_deg,
+            ground_min_samples: r.ground_min_samples,
+            pressure_range_pa: r.pressure_range_pa,
+            pressure_noise_pa: r.pressure_noise_pa,
+            temperature_uncertainty_k: r.temperature_uncertainty_k,
+            fix_time_constant_s: r.fix_time_constant_s,
+            spike_gate_m: r.spike_gate_m,
+        }
     }
 
     /// The last output.
@@ -549,10 +578,10 @@ impl<const N: usize> Pipeline<N> {
     /// estimator, phases and totals keep their state; the height moves to the new datum
     /// through [`Settings::fix_time_constant_s`]. Errors: [`Error::InvalidSetting`].
     pub fn set_start_altitude(&mut self, start_altitude_m: Option<f32>) -> Result<(), Error> {
-        let mut s = self.settings;
+        let mut s = self.settings();
         s.start_altitude_m = start_altitude_m;
         s.validate()?;
-        self.settings = s;
+        self.run = RunSettings::of(&s);
         self.ground_frozen = false;
         self.ground.rezero();
         Ok(())
@@ -564,24 +593,24 @@ impl<const N: usize> Pipeline<N> {
     /// instead of jumping. Errors, settings unchanged: [`Error::InvalidSetting`] and the
     /// standard atmosphere's range errors for a setting outside it.
     pub fn set_altimeter_setting(&mut self, setting: AltimeterSetting) -> Result<(), Error> {
-        let mut s = self.settings;
+        let mut s = self.settings();
         s.altimeter_setting = setting;
         s.validate()?;
         // Height difference the new setting makes at the last pressure; the datum
         // offset absorbs it now and slews back to its target.
         if let (HeightModel::Standard, Some(p)) = (
-            self.settings.model,
+            self.run.model,
             Pressure::from_pa(self.last_pressure_pa).ok(),
         ) {
-            let old = self.settings.altimeter_setting.height(p)?;
+            let old = self.run.altimeter_setting.height(p)?;
             let new = setting.height(p)?;
             self.offset_m -= new.meters() - old.meters();
         }
-        if self.settings.start_altitude_m.is_some() && !self.ground_frozen {
+        if self.run.start_altitude_m.is_some() && !self.ground_frozen {
             // the ground reference averaged heights of the old setting: take it anew
             self.ground.rezero();
         }
-        self.settings = s;
+        self.run = RunSettings::of(&s);
         Ok(())
     }
 
@@ -627,7 +656,7 @@ impl<const N: usize> Pipeline<N> {
         if !time_ok {
             return rejected(Flags::REJECTED_TIME, &self.last);
         }
-        let (lo, hi) = self.settings.pressure_range_pa;
+        let (lo, hi) = self.run.pressure_range_pa;
         let pressure = match Pressure::from_pa(sample.pressure_pa) {
             Ok(p) if p.pa() >= lo && p.pa() <= hi => p,
             _ => return rejected(Flags::REJECTED_PRESSURE, &self.last),
@@ -687,10 +716,10 @@ impl<const N: usize> Pipeline<N> {
         let mut ground_frozen = self.ground_frozen;
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
-        let averaging = self.settings.start_altitude_m.is_some()
+        let averaging = self.run.start_altitude_m.is_some()
             && !ground_frozen
             && self.phases.phase() == Phase::Ground;
-        if let (Some(start), true) = (self.settings.start_altitude_m, averaging) {
+        if let (Some(start), true) = (self.run.start_altitude_m, averaging) {
             if ground.sample_count() == 0 {
                 // provisional until samples at rest are averaged
                 offset_target = start - model_m;
@@ -699,7 +728,7 @@ impl<const N: usize> Pipeline<N> {
             if !ground.is_ready() {
                 flags.set(Flags::GROUND_AVERAGING);
             }
-        } else if self.settings.start_altitude_m.is_some() && !ground_frozen {
+        } else if self.run.start_altitude_m.is_some() && !ground_frozen {
             // motion started: the reference is fixed from now on
             ground_frozen = true;
         }
@@ -717,7 +746,7 @@ impl<const N: usize> Pipeline<N> {
             flags.set(Flags::FIX_APPLIED);
         }
         if let Some(last_t) = self.last_time_s {
-            offset += slew_gain(sample.time_s - last_t, self.settings.fix_time_constant_s)
+            offset += slew_gain(sample.time_s - last_t, self.run.fix_time_constant_s)
                 * (offset_target - offset);
         } else {
             offset = offset_target;
@@ -733,7 +762,7 @@ impl<const N: usize> Pipeline<N> {
         let mut spikes = self.spikes;
         let (height_m, speed_mps, sigma_m) = match kalman.as_mut() {
             None => {
-                if let Some(gate) = self.settings.spike_gate_m {
+                if let Some(gate) = self.run.spike_gate_m {
                     if spikes.is_spike(sample.time_s, model_m, gate) {
                         // carried forward; the gate counts toward re-acquiring
                         spikes.consecutive = spikes.consecutive.saturating_add(1);
@@ -784,7 +813,7 @@ impl<const N: usize> Pipeline<N> {
         };
         // The ground reference takes samples the estimator accepted, at rest only: a
         // spike or the first seconds of a climb must not move the zero.
-        if let (Some(start), true) = (self.settings.start_altitude_m, averaging) {
+        if let (Some(start), true) = (self.run.start_altitude_m, averaging) {
             let at_rest = speed_mps.abs() < self.phases.settings().rest_mps;
             if at_rest && !flags.contains(Flags::OUTLIER) && !flags.contains(Flags::REACQUIRED) {
                 let _ = ground.push(sample.time_s, height_or_zero(model_m));
@@ -913,10 +942,10 @@ impl<const N: usize> Pipeline<N> {
         flags: &mut Flags,
     ) -> Result<(f32, f32), Error> {
         let std_height = US_1976.pressure_altitude(p)?;
-        match self.settings.model {
+        match self.run.model {
             HeightModel::Standard => {
                 let t_std = US_1976.temperature_at(std_height)?.kelvin();
-                let h = match self.settings.altimeter_setting {
+                let h = match self.run.altimeter_setting {
                     AltimeterSetting::Standard => std_height,
                     setting => setting.height(p)?,
                 };
@@ -935,7 +964,7 @@ impl<const N: usize> Pipeline<N> {
                     t.map_or(US_1976.temperature_at(std_height)?.kelvin(), |t| t.kelvin());
                 match self.column_reference {
                     None => {
-                        let base = match self.settings.start_altitude_m {
+                        let base = match self.run.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
@@ -958,7 +987,7 @@ impl<const N: usize> Pipeline<N> {
                 let t = self.temperature_or_held(t, std_height, flags)?;
                 match self.sounding.as_ref() {
                     None => {
-                        let base = match self.settings.start_altitude_m {
+                        let base = match self.run.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
@@ -1016,9 +1045,9 @@ impl<const N: usize> Pipeline<N> {
     /// The sounding already starts at the start altitude, so the ground-reference
     /// offset must not add it again: report its heights relative to zero.
     fn start_offset(&self) -> f32 {
-        match self.settings.model {
+        match self.run.model {
             HeightModel::Sounding { .. } | HeightModel::Column(_) => {
-                self.settings.start_altitude_m.unwrap_or(0.0)
+                self.run.start_altitude_m.unwrap_or(0.0)
             }
             HeightModel::Standard => 0.0,
         }
@@ -1027,8 +1056,7 @@ impl<const N: usize> Pipeline<N> {
     /// 1-sigma height noise from the pressure noise: `(R T / (g0 p)) sigma_p`
     /// (hypsometric equation differentiated in `p`).
     fn pressure_sigma_m(&self, p: Pressure, column_t: f32) -> f32 {
-        US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * self.settings.pressure_noise_pa
-            / p.pa()
+        US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * self.run.pressure_noise_pa / p.pa()
     }
 
     /// First-order 1-sigma of a pointwise height: pressure noise through the scale
@@ -1037,9 +1065,9 @@ impl<const N: usize> Pipeline<N> {
     /// dz / z = dT / T). The two add in quadrature.
     fn model_sigma(&self, p: Pressure, column_t: f32, height_m: f32) -> f32 {
         let from_pressure = self.pressure_sigma_m(p, column_t);
-        let reference = self.settings.start_altitude_m.unwrap_or(0.0);
+        let reference = self.run.start_altitude_m.unwrap_or(0.0);
         let from_temperature =
-            (height_m - reference).abs() * self.settings.temperature_uncertainty_k / column_t;
+            (height_m - reference).abs() * self.run.temperature_uncertainty_k / column_t;
         crate::math::sqrt(from_pressure * from_pressure + from_temperature * from_temperature)
     }
 }
@@ -1049,6 +1077,40 @@ impl<const N: usize> Pipeline<N> {
 pub const MAX_PRESSURE_NOISE_PA: f32 = 1_000.0;
 /// Largest accepted [`Settings::temperature_uncertainty_k`], K.
 pub const MAX_TEMPERATURE_UNCERTAINTY_K: f32 = 100.0;
+
+/// The settings the pipeline reads per sample; the estimator's and the trackers' own
+/// settings live in those components only (not stored twice).
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct RunSettings {
+    model: HeightModel,
+    start_altitude_m: Option<f32>,
+    altimeter_setting: AltimeterSetting,
+    latitude_deg: Option<f32>,
+    ground_min_samples: u32,
+    pressure_range_pa: (f32, f32),
+    pressure_noise_pa: f32,
+    temperature_uncertainty_k: f32,
+    fix_time_constant_s: f32,
+    spike_gate_m: Option<f32>,
+}
+
+impl RunSettings {
+    fn of(s: &Settings) -> Self {
+        Self {
+            model: s.model,
+            start_altitude_m: s.start_altitude_m,
+            altimeter_setting: s.altimeter_setting,
+            latitude_deg: s.latitude_deg,
+            ground_min_samples: s.ground_min_samples,
+            pressure_range_pa: s.pressure_range_pa,
+            pressure_noise_pa: s.pressure_noise_pa,
+            temperature_uncertainty_k: s.temperature_uncertainty_k,
+            fix_time_constant_s: s.fix_time_constant_s,
+            spike_gate_m: s.spike_gate_m,
+        }
+    }
+}
 
 /// What a sample does to the sounding, applied only when the sample is accepted.
 #[allow(clippy::large_enum_variant)]
