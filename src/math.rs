@@ -16,9 +16,6 @@
 //! `micromath::F32Ext::ln(x)`), never as methods like `x.ln()`: in host tests a method
 //! call silently resolves to `std` and would test the wrong code.
 
-// Not every function is used by every build of the crate.
-#![allow(dead_code)]
-
 #[cfg(not(any(feature = "libm", feature = "micromath")))]
 compile_error!("isohypse needs a maths backend: enable feature `libm` (default) or `micromath`");
 
@@ -119,19 +116,6 @@ pub(crate) fn sqrt(x: f32) -> f32 {
     #[cfg(feature = "libm")]
     {
         libm::sqrtf(x)
-    }
-}
-
-/// x^y for x > 0.
-#[inline]
-pub(crate) fn powf(x: f32, y: f32) -> f32 {
-    #[cfg(all(feature = "micromath", not(feature = "libm")))]
-    {
-        M::powf(x, y)
-    }
-    #[cfg(feature = "libm")]
-    {
-        libm::powf(x, y)
     }
 }
 
