@@ -125,6 +125,41 @@ pub struct RunSummary {
     pub read_errors: u32,
 }
 
+impl RunSummary {
+    /// Count one step's result (shared by the blocking and the async driver).
+    pub(crate) fn count<E>(&mut self, result: &Result<Output, DriverError<E>>) {
+        match result {
+            Ok(out) if out.accepted() => self.accepted += 1,
+            Ok(_) => self.rejected += 1,
+            Err(_) => self.read_errors += 1,
+        }
+    }
+}
+
+/// Feed the result of one read to the pipeline as taken at `time_s`: a reading is
+/// processed; a failed read is counted in `read_errors` and leaves the pipeline alone.
+/// Shared by the blocking and the async driver.
+pub(crate) fn feed<E, const N: usize>(
+    pipeline: &mut Pipeline<N>,
+    read_errors: &mut u32,
+    time_s: f64,
+    read: Result<Reading, E>,
+) -> Result<Output, DriverError<E>> {
+    match read {
+        Ok(reading) => Ok(pipeline.process(&reading.to_sample(time_s))),
+        Err(e) => {
+            *read_errors = read_errors.saturating_add(1);
+            Err(DriverError::Sensor(e))
+        }
+    }
+}
+
+/// Time of the next reading of a run: one period after the last reading, 0 s for the
+/// very first.
+pub(crate) fn next_time(last_time_s: Option<f64>, period_ms: u32) -> f64 {
+    last_time_s.map_or(0.0, |t| t + f64::from(period_ms) / 1000.0)
+}
+
 /// Drives a [`BarometricSensor`] through a [`Pipeline`] at a chosen rate.
 ///
 /// The driver keeps the time of the last reading it took; [`Self::run_for`] continues
@@ -171,13 +206,8 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
     /// [`Output::accepted`]). `Err`: the read failed and the pipeline was not touched.
     pub fn step(&mut self, time_s: f64) -> Result<Output, DriverError<S::Error>> {
         self.last_time_s = Some(time_s);
-        match self.sensor.read() {
-            Ok(reading) => Ok(self.pipeline.process(&reading.to_sample(time_s))),
-            Err(e) => {
-                self.read_errors = self.read_errors.saturating_add(1);
-                Err(DriverError::Sensor(e))
-            }
-        }
+        let read = self.sensor.read();
+        feed(&mut self.pipeline, &mut self.read_errors, time_s, read)
     }
 
     /// Take `samples` readings `period_ms` apart: each one is [`Self::step`]ped at the
@@ -190,16 +220,11 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
     where
         F: FnMut(f64, Result<Output, DriverError<S::Error>>),
     {
-        let period_s = f64::from(period_ms) / 1000.0;
         let mut summary = RunSummary::default();
         for _ in 0..samples {
-            let time_s = self.last_time_s.map_or(0.0, |t| t + period_s);
+            let time_s = next_time(self.last_time_s, period_ms);
             let result = self.step(time_s);
-            match &result {
-                Ok(out) if out.accepted() => summary.accepted += 1,
-                Ok(_) => summary.rejected += 1,
-                Err(_) => summary.read_errors += 1,
-            }
+            summary.count(&result);
             each(time_s, result);
             self.delay.delay_ms(period_ms);
         }

@@ -38,7 +38,7 @@
 use embedded_hal_async::delay::DelayNs;
 
 use crate::pipeline::{Output, Pipeline};
-use crate::sensor::{DriverError, Reading, RunSummary};
+use crate::sensor::{DriverError, Reading, RunSummary, feed, next_time};
 
 /// Anything that yields pressure and temperature (and optionally humidity),
 /// asynchronously. The async counterpart of [`crate::sensor::BarometricSensor`].
@@ -94,13 +94,8 @@ impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, 
     /// (s). `Err`: the read failed and the pipeline was not touched.
     pub async fn step(&mut self, time_s: f64) -> Result<Output, DriverError<S::Error>> {
         self.last_time_s = Some(time_s);
-        match self.sensor.read().await {
-            Ok(reading) => Ok(self.pipeline.process(&reading.to_sample(time_s))),
-            Err(e) => {
-                self.read_errors = self.read_errors.saturating_add(1);
-                Err(DriverError::Sensor(e))
-            }
-        }
+        let read = self.sensor.read().await;
+        feed(&mut self.pipeline, &mut self.read_errors, time_s, read)
     }
 
     /// Take `samples` readings `period_ms` apart (see
@@ -109,16 +104,11 @@ impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, 
     where
         F: FnMut(f64, Result<Output, DriverError<S::Error>>),
     {
-        let period_s = f64::from(period_ms) / 1000.0;
         let mut summary = RunSummary::default();
         for _ in 0..samples {
-            let time_s = self.last_time_s.map_or(0.0, |t| t + period_s);
+            let time_s = next_time(self.last_time_s, period_ms);
             let result = self.step(time_s).await;
-            match &result {
-                Ok(out) if out.accepted() => summary.accepted += 1,
-                Ok(_) => summary.rejected += 1,
-                Err(_) => summary.read_errors += 1,
-            }
+            summary.count(&result);
             each(time_s, result);
             self.delay.delay_ms(period_ms).await;
         }
