@@ -53,27 +53,34 @@ def sections(path):
     return out
 
 
-def symbols(path):
-    """{mangled name: size} of the sized symbols of a 32-bit little-endian ELF file."""
+def symbol_table(path):
+    """(name, value, size, info, shndx) of every symbol of a 32-bit little-endian ELF
+    file (also used by profile.py)."""
     with open(path, "rb") as f:
         data = f.read()
     shoff, = struct.unpack_from("<I", data, 0x20)
     shentsize, shnum, _ = struct.unpack_from("<HHH", data, 0x2E)
     secs = [struct.unpack_from("<IIIIIIIIII", data, shoff + i * shentsize)
             for i in range(shnum)]
-    out = {}
     for sec in secs:
         if sec[1] != 2:  # SHT_SYMTAB
             continue
         strtab_off = secs[sec[6]][4]
         for j in range(sec[5] // 16):
-            name, _value, size, info, _other, shndx = struct.unpack_from(
+            name, value, size, info, _other, shndx = struct.unpack_from(
                 "<IIIBBH", data, sec[4] + j * 16)
-            if size == 0 or shndx == 0:
-                continue
             start = strtab_off + name
             n = data[start:data.index(b"\0", start)].decode(errors="replace")
-            out[n] = out.get(n, 0) + size
+            yield n, value, size, info, shndx
+
+
+def symbols(path):
+    """{mangled name: size} of the sized symbols of a 32-bit little-endian ELF file."""
+    out = {}
+    for n, _value, size, _info, shndx in symbol_table(path):
+        if size == 0 or shndx == 0:
+            continue
+        out[n] = out.get(n, 0) + size
     return out
 
 
@@ -88,12 +95,14 @@ GROUPS = [
 ]
 
 
-def group_of(name):
-    """The first group whose pattern matches the mangled symbol name."""
-    for label, pattern in GROUPS:
+def group_of(name, groups=None):
+    """The first group (of `groups`, default GROUPS) whose pattern matches the mangled
+    symbol name; the last group catches the rest (also used by profile.py)."""
+    groups = GROUPS if groups is None else groups
+    for label, pattern in groups:
         if re.search(pattern, name):
             return label
-    return GROUPS[-1][0]
+    return groups[-1][0]
 
 
 def symbol_split(full_path, base_path):

@@ -20,34 +20,19 @@ instructions per call. Names are printed mangled; pipe through `c++filt` to read
 import bisect
 import collections
 import re
-import struct
 import sys
+
+import elf_sizes
+from elf_sizes import symbol_table
 
 TRACE = re.compile(r"Trace \d+: \S+ \[[0-9a-f]+/([0-9a-f]+)/")
 
 
 def functions(path):
     """Sorted (start, size, name) of the function symbols of a 32-bit ARM ELF file."""
-    with open(path, "rb") as f:
-        data = f.read()
-    shoff, = struct.unpack_from("<I", data, 0x20)
-    shentsize, shnum, _ = struct.unpack_from("<HHH", data, 0x2E)
-    secs = [struct.unpack_from("<IIIIIIIIII", data, shoff + i * shentsize)
-            for i in range(shnum)]
-    out = []
-    for sec in secs:
-        if sec[1] != 2:  # SHT_SYMTAB
-            continue
-        strtab = secs[sec[6]][4]
-        for j in range(sec[5] // 16):
-            name, value, size, info, _other, _shndx = struct.unpack_from(
-                "<IIIBBH", data, sec[4] + j * 16)
-            if info & 0xF == 2 and size:  # STT_FUNC
-                start = strtab + name
-                out.append((value & ~1, size,
-                            data[start:data.index(b"\0", start)].decode(errors="replace")))
-    out.sort()
-    return out
+    return sorted((value & ~1, size, name)
+                  for name, value, size, info, _shndx in symbol_table(path)
+                  if info & 0xF == 2 and size)  # STT_FUNC
 
 
 # Groups for the summary, first match wins (patterns on mangled names).
@@ -69,10 +54,7 @@ GROUPS = [
 
 
 def group_of(name):
-    for label, pattern in GROUPS:
-        if re.search(pattern, name):
-            return label
-    return GROUPS[-1][0]
+    return elf_sizes.group_of(name, GROUPS)
 
 
 def main(argv):
