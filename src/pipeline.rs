@@ -643,7 +643,9 @@ impl<const N: usize> Pipeline<N> {
     /// a rejected sample leaves the whole pipeline unchanged.
     pub fn process(&mut self, sample: &Sample) -> Output {
         let mut flags = Flags::default();
-        let rejected = |f: Flags, last: &Output| {
+        // The last output carried forward to this sample's time with `f` as its flags
+        // (a rejected sample, or an outlier the spike gate held back).
+        let carried = |f: Flags, last: &Output| {
             let mut out = *last;
             out.time_s = sample.time_s;
             out.flags = f;
@@ -654,12 +656,12 @@ impl<const N: usize> Pipeline<N> {
         let time_ok =
             sample.time_s.is_finite() && self.last_time_s.is_none_or(|t| sample.time_s > t);
         if !time_ok {
-            return rejected(Flags::REJECTED_TIME, &self.last);
+            return carried(Flags::REJECTED_TIME, &self.last);
         }
         let (lo, hi) = self.run.pressure_range_pa;
         let pressure = match Pressure::from_pa(sample.pressure_pa) {
             Ok(p) if p.pa() >= lo && p.pa() <= hi => p,
-            _ => return rejected(Flags::REJECTED_PRESSURE, &self.last),
+            _ => return carried(Flags::REJECTED_PRESSURE, &self.last),
         };
         // Optional channels: an invalid value is ignored and flagged.
         let temperature = match sample.temperature_c.map(Temperature::from_celsius) {
@@ -707,7 +709,7 @@ impl<const N: usize> Pipeline<N> {
             &mut flags,
         );
         let Ok((model_m, column_t)) = model else {
-            return rejected(Flags::REJECTED_MODEL, &self.last);
+            return carried(Flags::REJECTED_MODEL, &self.last);
         };
 
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
@@ -753,7 +755,7 @@ impl<const N: usize> Pipeline<N> {
         }
         let raw_m = model_m + offset;
         let Ok(raw) = Height::from_meters(raw_m) else {
-            return rejected(Flags::REJECTED_MODEL, &self.last);
+            return carried(Flags::REJECTED_MODEL, &self.last);
         };
 
         // 4. Estimator (with its outlier gate), or the pointwise height behind a median
@@ -766,11 +768,7 @@ impl<const N: usize> Pipeline<N> {
                     if spikes.is_spike(sample.time_s, model_m, gate) {
                         // carried forward; the gate counts toward re-acquiring
                         spikes.consecutive = spikes.consecutive.saturating_add(1);
-                        let mut out = self.last;
-                        out.time_s = sample.time_s;
-                        out.event = None;
-                        out.flags = flags;
-                        out.flags.set(Flags::OUTLIER);
+                        let out = carried(Flags(flags.0 | Flags::OUTLIER.0), &self.last);
                         self.spikes = spikes;
                         self.outliers = self.outliers.saturating_add(1);
                         // taken (flagged), so its time counts as the last one
@@ -803,7 +801,7 @@ impl<const N: usize> Pipeline<N> {
                     Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
                     Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
                     Ok(_) => {}
-                    Err(_) => return rejected(Flags::REJECTED_MODEL, &self.last),
+                    Err(_) => return carried(Flags::REJECTED_MODEL, &self.last),
                 }
                 match k.estimate() {
                     Some(e) => (e.height.meters(), e.vertical_speed.mps(), e.height_sigma_m),
@@ -865,7 +863,7 @@ impl<const N: usize> Pipeline<N> {
                         }
                         (h, r.ascent_m, r.descent_m, r.tendency_hpa)
                     }
-                    Err(_) => return rejected(Flags::REJECTED_MODEL, &self.last),
+                    Err(_) => return carried(Flags::REJECTED_MODEL, &self.last),
                 }
             }
         };
