@@ -192,8 +192,8 @@ impl FlightPhases {
     }
 
     /// Settings in use.
-    pub fn settings(&self) -> PhaseSettings {
-        self.settings
+    pub const fn settings(&self) -> &PhaseSettings {
+        &self.settings
     }
 
     /// Replace the settings (validated first; the phase is kept).

@@ -27,7 +27,8 @@ use crate::Error;
 use crate::atmosphere::{STANDARD_GRAVITY, US_1976, US_1976_GAS_CONSTANT};
 use crate::datum::AltimeterSetting;
 use crate::filter::{
-    GroundReference, GroundReferenceConfig, KalmanOutcome, VerticalKalman, VerticalKalmanConfig,
+    GroundReference, GroundReferenceConfig, KalmanOutcome, Step, VerticalKalman,
+    VerticalKalmanConfig, finite_time, step_between,
 };
 use crate::flight::{FlightPhases, Phase, PhaseEvent, PhaseSettings};
 use crate::geopotential::Gravity;
@@ -527,7 +528,7 @@ impl<const N: usize> Pipeline<N> {
             Some(k) => Estimator::Kalman(*k.config()),
             None => Estimator::Off,
         };
-        let phases = self.phases.settings();
+        let phases = *self.phases.settings();
         let tracking = match &self.track {
             TrackState::Flight(totals) => Tracking::Flight {
                 phases,
@@ -652,12 +653,19 @@ impl<const N: usize> Pipeline<N> {
             out.event = None;
             out
         };
-        // 1. Validation of the required channels.
-        let time_ok =
-            sample.time_s.is_finite() && self.last_time_s.is_none_or(|t| sample.time_s > t);
-        if !time_ok {
+        // 1. Validation of the required channels. The step from the last sample is
+        //    formed once (one `f64` subtraction) and reused below.
+        if !finite_time(sample.time_s) {
             return carried(Flags::REJECTED_TIME, &self.last);
         }
+        let step = self
+            .last_time_s
+            .map(|last| step_between(last, sample.time_s));
+        let dt = match step {
+            None => None,
+            Some(Step::Later(dt)) => Some(dt),
+            Some(_) => return carried(Flags::REJECTED_TIME, &self.last),
+        };
         let (lo, hi) = self.run.pressure_range_pa;
         let pressure = match Pressure::from_pa(sample.pressure_pa) {
             Ok(p) if p.pa() >= lo && p.pa() <= hi => p,
@@ -747,11 +755,11 @@ impl<const N: usize> Pipeline<N> {
             }
             flags.set(Flags::FIX_APPLIED);
         }
-        if let Some(last_t) = self.last_time_s {
-            offset += slew_gain(sample.time_s - last_t, self.run.fix_time_constant_s)
-                * (offset_target - offset);
-        } else {
-            offset = offset_target;
+        match dt {
+            Some(dt) => {
+                offset += slew_gain(dt, self.run.fix_time_constant_s) * (offset_target - offset)
+            }
+            None => offset = offset_target,
         }
         let raw_m = model_m + offset;
         let Ok(raw) = Height::from_meters(raw_m) else {
@@ -760,9 +768,16 @@ impl<const N: usize> Pipeline<N> {
 
         // 4. Estimator (with its outlier gate), or the pointwise height behind a median
         //    spike gate.
-        let mut kalman = self.kalman;
+        // The hike tracker is the last step that can refuse the sample; ask it now,
+        // before the estimator changes.
+        if let TrackState::Hike(hike) = &self.track {
+            if !hike.accepts(sample.time_s, raw) {
+                return carried(Flags::REJECTED_MODEL, &self.last);
+            }
+        }
         let mut spikes = self.spikes;
-        let (height_m, speed_mps, sigma_m) = match kalman.as_mut() {
+        let known_step = self.last_time_s.zip(step);
+        let (height_m, speed_mps, sigma_m) = match self.kalman.as_mut() {
             None => {
                 if let Some(gate) = self.run.spike_gate_m {
                     if spikes.is_spike(sample.time_s, model_m, gate) {
@@ -778,34 +793,47 @@ impl<const N: usize> Pipeline<N> {
                     }
                     spikes.accept(sample.time_s, model_m);
                 }
-                let speed = match self.last_time_s {
-                    Some(t)
+                let speed = match dt {
+                    Some(dt)
                         if self.last.accepted() && !self.last.flags.contains(Flags::OUTLIER) =>
                     {
-                        difference_speed(raw_m - self.last.raw_altitude_m, sample.time_s - t)
+                        difference_speed(raw_m - self.last.raw_altitude_m, dt)
                             .unwrap_or(self.last.vertical_speed_mps)
                     }
                     _ => self.last.vertical_speed_mps,
                 };
-                (raw_m, speed, self.model_sigma(pressure, column_t, raw_m))
+                (
+                    raw_m,
+                    speed,
+                    model_sigma(&self.run, pressure, column_t, raw_m),
+                )
             }
             Some(k) => {
-                if let Some(a) = accel {
-                    if k.predict(sample.time_s, a).is_err() {
-                        flags.set(Flags::ACCEL_IGNORED);
-                    }
-                }
                 // Height noise of this sample from the sensor's pressure noise.
-                let sigma = self.pressure_sigma_m(pressure, column_t).max(1.0e-3);
-                match k.correct_with_sigma(sample.time_s, raw, sigma) {
+                let sigma = pressure_sigma_m(&self.run, pressure, column_t);
+                let sigma = if sigma > 1.0e-3 { sigma } else { 1.0e-3 };
+                // In place: the filter takes the accelerometer and barometer samples
+                // as one and changes nothing when it refuses the barometer sample, and
+                // nothing after this step can refuse the sample.
+                let step_k = k.step_reusing(sample.time_s, known_step);
+                let (predicted, corrected) =
+                    k.predict_correct(sample.time_s, step_k, accel, raw, sigma);
+                if predicted.is_err() {
+                    flags.set(Flags::ACCEL_IGNORED);
+                }
+                match corrected {
                     Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
                     Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
                     Ok(_) => {}
                     Err(_) => return carried(Flags::REJECTED_MODEL, &self.last),
                 }
-                match k.estimate() {
-                    Some(e) => (e.height.meters(), e.vertical_speed.mps(), e.height_sigma_m),
-                    None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m)),
+                match k.height_speed_variance() {
+                    Some((h, v, var_h)) => (h, v, crate::math::sigma_from_variance(var_h)),
+                    None => (
+                        raw_m,
+                        0.0,
+                        model_sigma(&self.run, pressure, column_t, raw_m),
+                    ),
                 }
             }
         };
@@ -854,8 +882,7 @@ impl<const N: usize> Pipeline<N> {
                         let h = r.height.meters();
                         // vertical speed of the tracked height, smoothed (the raw
                         // difference of 2 Pa noise at 1 Hz is 0.2 m/s)
-                        if let Some(t_last) = self.last_time_s {
-                            let dt = sample.time_s - t_last;
+                        if let Some(dt) = dt {
                             if let Some(v) = difference_speed(h - self.last.altitude_m, dt) {
                                 let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
                                 hike_speed += k * (v - hike_speed);
@@ -903,7 +930,6 @@ impl<const N: usize> Pipeline<N> {
         self.ground_frozen = ground_frozen;
         self.offset_m = offset;
         self.offset_target_m = offset_target;
-        self.kalman = kalman;
         self.spikes = spikes;
         self.last_time_s = Some(sample.time_s);
         if temperature.is_some() {
@@ -1050,24 +1076,25 @@ impl<const N: usize> Pipeline<N> {
             HeightModel::Standard => 0.0,
         }
     }
+}
 
-    /// 1-sigma height noise from the pressure noise: `(R T / (g0 p)) sigma_p`
-    /// (hypsometric equation differentiated in `p`).
-    fn pressure_sigma_m(&self, p: Pressure, column_t: f32) -> f32 {
-        US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * self.run.pressure_noise_pa / p.pa()
-    }
+/// 1-sigma height noise from the pressure noise: `(R T / (g0 p)) sigma_p`
+/// (hypsometric equation differentiated in `p`).
+fn pressure_sigma_m(run: &RunSettings, p: Pressure, column_t: f32) -> f32 {
+    US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * run.pressure_noise_pa / p.pa()
+}
 
-    /// First-order 1-sigma of a pointwise height: pressure noise through the scale
-    /// height, and the column temperature uncertainty scaling the height above the
-    /// datum reference (hypsometric equation: dz = (R T / g) dp / p, and
-    /// dz / z = dT / T). The two add in quadrature.
-    fn model_sigma(&self, p: Pressure, column_t: f32, height_m: f32) -> f32 {
-        let from_pressure = self.pressure_sigma_m(p, column_t);
-        let reference = self.run.start_altitude_m.unwrap_or(0.0);
-        let from_temperature =
-            (height_m - reference).abs() * self.run.temperature_uncertainty_k / column_t;
-        crate::math::sqrt(from_pressure * from_pressure + from_temperature * from_temperature)
-    }
+/// First-order 1-sigma of a pointwise height: pressure noise through the scale
+/// height, and the column temperature uncertainty scaling the height above the
+/// datum reference (hypsometric equation: dz = (R T / g) dp / p, and
+/// dz / z = dT / T). The two add in quadrature.
+fn model_sigma(run: &RunSettings, p: Pressure, column_t: f32, height_m: f32) -> f32 {
+    let from_pressure = pressure_sigma_m(run, p, column_t);
+    let reference = run.start_altitude_m.unwrap_or(0.0);
+    let from_temperature = (height_m - reference).abs() * run.temperature_uncertainty_k / column_t;
+    crate::math::sigma_from_variance(
+        from_pressure * from_pressure + from_temperature * from_temperature,
+    )
 }
 
 /// Largest accepted [`Settings::pressure_noise_pa`], Pa (10 hPa: beyond any working
@@ -1165,32 +1192,30 @@ impl SpikeGate {
 
 /// Gain `dt / (tau + dt)` of a first-order lag over a step of `dt` seconds (backward
 /// Euler form of `tau dx/dt = target - x`): in [0, 1] for every step, 1 for steps of
-/// 1e30 s and more (where f32 would give inf / inf). Only comparisons in f64: f64
-/// division is software on a single-precision FPU.
-fn slew_gain(dt: f64, tau: f32) -> f32 {
+/// 1e30 s and more (where f32 would give inf / inf).
+fn slew_gain(dt: f32, tau: f32) -> f32 {
     if dt.is_nan() || dt <= 0.0 {
         return 0.0;
     }
     if tau <= 0.0 || dt >= 1.0e30 {
         return 1.0;
     }
-    let dt = dt as f32;
     dt / (tau + dt)
 }
 
 /// Speed from a height change over a step of `dt` seconds; `None` for steps shorter than
 /// [`MIN_SPEED_STEP_S`] (too short to divide by), non-finite results, or speeds above
 /// [`MAX_SPEED_MPS`].
-fn difference_speed(dh: f32, dt: f64) -> Option<f32> {
+fn difference_speed(dh: f32, dt: f32) -> Option<f32> {
     if dt.is_nan() || dt < MIN_SPEED_STEP_S {
         return None;
     }
-    let v = dh / dt as f32;
+    let v = dh / dt;
     (v.is_finite() && v.abs() < MAX_SPEED_MPS).then_some(v)
 }
 
 /// Shortest step a pointwise speed is computed over, s.
-const MIN_SPEED_STEP_S: f64 = 1.0e-3;
+const MIN_SPEED_STEP_S: f32 = 1.0e-3;
 
 /// Fastest vertical speed a pointwise difference may report, m/s; a faster one comes
 /// from a time step too short to divide by and is replaced by the last speed.

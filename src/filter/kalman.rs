@@ -1,5 +1,6 @@
 //! Kalman filter over height, vertical speed and accelerometer bias.
 
+use super::Step;
 use crate::{Error, Height, VerticalSpeed};
 
 /// Settings of a [`VerticalKalman`]. All fields are in SI units; [`Default`] gives
@@ -252,7 +253,7 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 /// # Cost
 ///
 /// O(1) per sample, no `exp` or `sqrt` (only in [`Self::estimate`]). State: see
-/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 168 bytes on a 64-bit
+/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 136 bytes on a 64-bit
 /// host, of which 60 are the configuration).
 ///
 /// ```
@@ -275,14 +276,18 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 pub struct VerticalKalman {
     config: VerticalKalmanConfig,
     core: Core,
-    /// Time of `core`, s; meaningful once initialised.
+    /// Time of `core`, s, once initialised; before that, the time of the latest
+    /// accelerometer sample (if `accel_age_s` is finite).
     time_s: f64,
-    /// Latest accelerometer sample (time, value).
-    last_accel: Option<(f64, f32)>,
-    /// Time of the latest barometer sample, accepted or not.
-    last_baro_s: Option<f64>,
-    /// Time of the latest accepted barometer sample.
-    last_accepted_baro_s: f64,
+    /// Latest accelerometer sample, m/s^2.
+    accel_mps2: f32,
+    /// Age of the latest accelerometer sample at `time_s`, s; infinite before the first.
+    /// Ages are `f32` so that only one `f64` subtraction is done per call.
+    accel_age_s: f32,
+    /// Age of the latest accepted barometer sample at `time_s`, s.
+    accepted_age_s: f32,
+    /// The latest barometer sample (accepted or not) is at `time_s`.
+    baro_at_core: bool,
     initialized: bool,
     disturbed: bool,
     reacquire_pending: bool,
@@ -313,9 +318,10 @@ impl VerticalKalman {
                 },
             },
             time_s: 0.0,
-            last_accel: None,
-            last_baro_s: None,
-            last_accepted_baro_s: 0.0,
+            accel_mps2: 0.0,
+            accel_age_s: f32::INFINITY,
+            accepted_age_s: 0.0,
+            baro_at_core: false,
             initialized: false,
             disturbed: false,
             reacquire_pending: false,
@@ -342,35 +348,58 @@ impl VerticalKalman {
     /// barometer sample).
     pub fn predict(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
         let t = super::check_time(time_s)?;
+        let step = if self.initialized || self.accel_age_s.is_finite() {
+            super::step_between(self.time_s, t)
+        } else {
+            Step::Later(0.0)
+        };
+        self.predict_step(t, step, accel_up_mps2)
+    }
+
+    /// [`Self::predict`] with the step from the filter's time to `t` already formed
+    /// (`step_between(self.time_s, t)`; anything when the filter has no time yet), so
+    /// that a caller which has it does not pay for a second `f64` subtraction. `t` is
+    /// finite.
+    pub(crate) fn predict_step(
+        &mut self,
+        t: f64,
+        step: Step,
+        accel_up_mps2: f32,
+    ) -> Result<(), Error> {
         if !accel_up_mps2.is_finite() {
             return Err(Error::NotFinite);
         }
         if accel_up_mps2.abs() > self.config.max_accel_mps2 {
             return Err(Error::SampleOutOfRange);
         }
-        if let Some((last, _)) = self.last_accel {
-            if t <= last {
-                return Err(Error::NotIncreasing);
-            }
-        }
+        let has_time = self.initialized || self.accel_age_s.is_finite();
+        let dt = match step {
+            _ if !has_time => 0.0,
+            Step::Later(dt) => dt,
+            // equal times of the two streams are fine, not two accelerometer samples
+            Step::Same if self.accel_age_s > 0.0 => 0.0,
+            Step::Same | Step::Earlier => return Err(Error::NotIncreasing),
+        };
         if !self.initialized {
-            if let Some(last) = self.last_baro_s {
-                if t < last {
-                    return Err(Error::NotIncreasing);
-                }
-            }
-            self.last_accel = Some((t, accel_up_mps2));
+            // before the first barometer sample the accelerometer is only remembered
+            self.time_s = t;
+            self.accel_mps2 = accel_up_mps2;
+            self.accel_age_s = 0.0;
             return Ok(());
         }
-        if t < self.time_s {
-            return Err(Error::NotIncreasing);
+        let (core, dropout) = self.propagate(dt, Some(accel_up_mps2));
+        if !core.is_finite() {
+            return Err(Error::NotFinite);
         }
-        let dt = (t - self.time_s).min(1.0e30) as f32;
-        let (core, dropout) = self.propagate(dt, Some(accel_up_mps2))?;
         self.core = core;
         self.reacquire_pending |= dropout;
         self.time_s = t;
-        self.last_accel = Some((t, accel_up_mps2));
+        self.accel_mps2 = accel_up_mps2;
+        self.accel_age_s = 0.0;
+        self.accepted_age_s += dt;
+        if dt > 0.0 {
+            self.baro_at_core = false;
+        }
         Ok(())
     }
 
@@ -384,8 +413,18 @@ impl VerticalKalman {
     /// `min_height_m..=max_height_m`), [`Error::NotIncreasing`] (time not after the
     /// previous barometer sample, or before the latest accelerometer sample).
     pub fn correct(&mut self, time_s: f64, height: Height) -> Result<KalmanOutcome, Error> {
+        let t = super::check_time(time_s)?;
         let r = self.measurement_variance();
-        self.correct_with_variance(time_s, height, r)
+        self.correct_with_variance(t, self.step_to(t), height, r)
+    }
+
+    /// The step from the filter's time to `t` (`Later(0)` before it has a time).
+    fn step_to(&self, t: f64) -> Step {
+        if self.initialized || self.accel_age_s.is_finite() {
+            super::step_between(self.time_s, t)
+        } else {
+            Step::Later(0.0)
+        }
     }
 
     /// Like [`Self::correct`], with this sample's own 1-sigma height noise `sigma_m`
@@ -402,6 +441,19 @@ impl VerticalKalman {
         height: Height,
         sigma_m: f32,
     ) -> Result<KalmanOutcome, Error> {
+        let t = super::check_time(time_s)?;
+        self.correct_step(t, self.step_to(t), height, sigma_m)
+    }
+
+    /// [`Self::correct_with_sigma`] with the step from the filter's time to `t` already
+    /// formed (see [`Self::predict_step`]). `t` is finite.
+    pub(crate) fn correct_step(
+        &mut self,
+        t: f64,
+        step: Step,
+        height: Height,
+        sigma_m: f32,
+    ) -> Result<KalmanOutcome, Error> {
         if !(sigma_m.is_finite() && sigma_m > 0.0) {
             return Err(Error::InvalidSetting);
         }
@@ -411,34 +463,92 @@ impl VerticalKalman {
             1.0
         };
         let sigma = sigma_m * scale;
-        self.correct_with_variance(time_s, height, sigma * sigma)
+        self.correct_with_variance(t, step, height, sigma * sigma)
     }
 
-    fn correct_with_variance(
-        &mut self,
-        time_s: f64,
-        height: Height,
-        r: f32,
-    ) -> Result<KalmanOutcome, Error> {
-        let t = super::check_time(time_s)?;
-        let z = height.meters();
+    /// Refusals of a barometer sample with height `z` at `step` from the filter's time,
+    /// the same as [`Self::correct`] gives, checked before anything changes.
+    fn check_correct(&self, step: Step, z: f32) -> Result<(), Error> {
         if z < self.config.min_height_m {
             return Err(Error::BelowModelBottom);
         }
         if z > self.config.max_height_m {
             return Err(Error::AboveModelTop);
         }
-        if let Some(last) = self.last_baro_s {
-            if t <= last {
-                return Err(Error::NotIncreasing);
-            }
+        let time_ok = match step {
+            // before the first barometer sample only an accelerometer sample orders it
+            Step::Earlier => !self.initialized && !self.accel_age_s.is_finite(),
+            Step::Later(_) => true,
+            Step::Same => !self.initialized || !self.baro_at_core,
+        };
+        if time_ok {
+            Ok(())
+        } else {
+            Err(Error::NotIncreasing)
         }
-        if let Some((last, _)) = self.last_accel {
-            if t < last {
-                return Err(Error::NotIncreasing);
-            }
+    }
+
+    /// An accelerometer sample (if any) and a barometer sample taken at the same time
+    /// `t`, `step` from the filter's time (see [`Self::predict_step`]), applied as one:
+    /// when the barometer sample is refused, the accelerometer sample is not applied
+    /// either. A refused accelerometer sample alone does not stop the barometer sample;
+    /// its error is the first result.
+    pub(crate) fn predict_correct(
+        &mut self,
+        t: f64,
+        step: Step,
+        accel_up_mps2: Option<f32>,
+        height: Height,
+        sigma_m: f32,
+    ) -> (Result<(), Error>, Result<KalmanOutcome, Error>) {
+        if !(sigma_m.is_finite() && sigma_m > 0.0) {
+            return (Ok(()), Err(Error::InvalidSetting));
         }
+        if let Err(e) = self.check_correct(step, height.meters()) {
+            return (Ok(()), Err(e));
+        }
+        let mut step = step;
+        let predicted = match accel_up_mps2 {
+            Some(a) => {
+                let r = self.predict_step(t, step, a);
+                if r.is_ok() {
+                    step = Step::Same;
+                }
+                r
+            }
+            None => Ok(()),
+        };
+        // Cannot be refused now (checked above; after a prediction to `t` the step is
+        // `Same` with no barometer sample at `t`).
+        (predicted, self.correct_step(t, step, height, sigma_m))
+    }
+
+    /// The step from the filter's time to `t`, reusing `known` (the step from the time
+    /// `known.0` to `t`) when the filter's time is that time.
+    pub(crate) fn step_reusing(&self, t: f64, known: Option<(f64, Step)>) -> Step {
+        match known {
+            Some((from, step)) if self.initialized && from.to_bits() == self.time_s.to_bits() => {
+                step
+            }
+            _ => self.step_to(t),
+        }
+    }
+
+    fn correct_with_variance(
+        &mut self,
+        t: f64,
+        step: Step,
+        height: Height,
+        r: f32,
+    ) -> Result<KalmanOutcome, Error> {
+        let z = height.meters();
+        self.check_correct(step, z)?;
         if !self.initialized {
+            // ordered by `check_correct`; the accelerometer sample's age moves on
+            let age = match step {
+                Step::Later(dt) => self.accel_age_s + dt,
+                _ => self.accel_age_s,
+            };
             let c = &self.config;
             self.core = Core {
                 h: z,
@@ -454,21 +564,28 @@ impl VerticalKalman {
                 },
             };
             self.time_s = t;
-            self.last_baro_s = Some(t);
-            self.last_accepted_baro_s = t;
+            self.accel_age_s = age;
+            self.baro_at_core = true;
+            self.accepted_age_s = 0.0;
             self.initialized = true;
             return Ok(KalmanOutcome::Initialized);
         }
-        if t < self.time_s {
-            return Err(Error::NotIncreasing);
-        }
-        let dt = (t - self.time_s).min(1.0e30) as f32;
-        let accel = match self.last_accel {
-            Some((ta, a)) if t - ta <= f64::from(self.config.accel_timeout_s) => Some(a),
-            _ => None,
+        let dt = match step {
+            Step::Later(dt) => dt,
+            // `Same`: after an accelerometer sample at this time (checked above)
+            Step::Same | Step::Earlier => 0.0,
         };
-        let (mut core, dropout) = self.propagate(dt, accel)?;
-        let stale = t - self.last_accepted_baro_s > f64::from(self.config.baro_timeout_s);
+        let accel_age = self.accel_age_s + dt;
+        let accel = (accel_age <= self.config.accel_timeout_s).then_some(self.accel_mps2);
+        // A step of 0 (an accelerometer sample at this time was just applied) leaves
+        // mean and covariance as they are.
+        let (mut core, dropout) = if dt > 0.0 {
+            self.propagate(dt, accel)
+        } else {
+            (self.core, false)
+        };
+        let accepted_age = self.accepted_age_s + dt;
+        let stale = accepted_age > self.config.baro_timeout_s;
         let mut reacquire = self.reacquire_pending || dropout || stale;
 
         let y = z - core.h;
@@ -504,19 +621,23 @@ impl VerticalKalman {
         // Commit.
         self.core = core;
         self.time_s = t;
-        self.last_baro_s = Some(t);
+        self.baro_at_core = true;
+        self.accel_age_s = accel_age;
         self.rejected = rejected;
         match outcome {
-            KalmanOutcome::Rejected { .. } => self.consecutive_rejections = consecutive,
+            KalmanOutcome::Rejected { .. } => {
+                self.consecutive_rejections = consecutive;
+                self.accepted_age_s = accepted_age;
+            }
             KalmanOutcome::Reacquired => {
                 self.consecutive_rejections = 0;
                 self.reacquire_pending = false;
                 self.reacquisitions = self.reacquisitions.saturating_add(1);
-                self.last_accepted_baro_s = t;
+                self.accepted_age_s = 0.0;
             }
             _ => {
                 self.consecutive_rejections = 0;
-                self.last_accepted_baro_s = t;
+                self.accepted_age_s = 0.0;
             }
         }
         Ok(outcome)
@@ -532,10 +653,14 @@ impl VerticalKalman {
     }
 
     /// Mean and covariance propagated over `dt` (s); also whether `dt` was a dropout.
-    fn propagate(&self, dt_full: f32, accel: Option<f32>) -> Result<(Core, bool), Error> {
+    /// The caller checks the result is finite. (Not a `Result`: returned in one, the
+    /// 36-byte state lands at an odd offset and is copied byte by byte on Cortex-M,
+    /// 400 instructions per call, measured.)
+    fn propagate(&self, dt_full: f32, accel: Option<f32>) -> (Core, bool) {
         let cfg = &self.config;
         let dropout = dt_full > cfg.max_step_s;
-        let dt = dt_full.min(cfg.max_step_s);
+        // (a comparison, not `f32::min`: that is a library call on ARMv7E-M)
+        let dt = if dropout { cfg.max_step_s } else { dt_full };
         let Core { h, v, b, p } = self.core;
         let dt2 = dt * dt;
         let dt3 = dt2 * dt;
@@ -603,10 +728,7 @@ impl VerticalKalman {
             };
             saturated = true;
         }
-        if !core.is_finite() {
-            return Err(Error::NotFinite);
-        }
-        Ok((core, dropout || saturated))
+        (core, dropout || saturated)
     }
 
     /// Joseph-form scalar update with `H = [1 0 0]`: `P' = A P A^T + r K K^T`,
@@ -669,6 +791,14 @@ impl VerticalKalman {
             height_sigma_m: crate::math::sqrt(c.p.hh.max(0.0)),
             speed_sigma_mps: crate::math::sqrt(c.p.vv.max(0.0)),
         })
+    }
+
+    /// Height (m), vertical speed (m/s) and height variance (m^2) at the latest sample,
+    /// `None` before the first barometer sample: [`Self::estimate`] without its two
+    /// square roots.
+    pub(crate) fn height_speed_variance(&self) -> Option<(f32, f32, f32)> {
+        self.initialized
+            .then_some((self.core.h, self.core.v, self.core.p.hh))
     }
 
     /// Barometer samples rejected by the gate since start.

@@ -305,6 +305,15 @@ impl HikeTracker {
         Ok(self.step(time_s, h))
     }
 
+    /// Whether [`Self::update_pressure_altitude`] would take this sample (for callers
+    /// that must know before changing other state).
+    pub(crate) fn accepts(&self, time_s: f64, height: Height) -> bool {
+        let h = height.meters();
+        self.check_time(time_s).is_ok()
+            && h >= self.height_limits_m.0
+            && h <= self.height_limits_m.1
+    }
+
     fn check_time(&self, time_s: f64) -> Result<(), Error> {
         if !time_s.is_finite() {
             return Err(Error::NotFinite);
