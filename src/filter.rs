@@ -59,6 +59,9 @@ pub(crate) enum Step {
     Later(f32),
 }
 
+/// Largest step [`step_between`] reports, s.
+const MAX_STEP_S: f32 = 1.0e30;
+
 /// `now` relative to `last` with a single `f64` subtraction: the step is narrowed to
 /// `f32` after the subtraction (full resolution of the step) and then compared in
 /// `f32`. On a single-precision FPU every `f64` operation is a library call (a
@@ -82,9 +85,15 @@ pub(crate) fn step_between(last: f64, now: f64) -> Step {
         return Step::Same;
     }
     // A positive step below the smallest `f32` (1.4e-45 s) narrows to 0: still later.
-    // (a comparison, not `f32::min`: that is a library call on ARMv7E-M)
+    // Capped by comparing the bits (positive floats order as their bit patterns): an
+    // `f32` comparison here would be folded by the compiler into an `f64` one, a
+    // library call on a single-precision FPU, and `f32::min` is one on ARMv7E-M.
     let dt = d as f32;
-    Step::Later(if dt > 1.0e30 { 1.0e30 } else { dt })
+    Step::Later(if dt.to_bits() > MAX_STEP_S.to_bits() {
+        MAX_STEP_S
+    } else {
+        dt
+    })
 }
 
 /// `t` is finite, tested on its bits (no `f64` library call).

@@ -28,6 +28,7 @@
 //! ```
 
 use crate::Error;
+use crate::filter::{Step, step_between};
 
 /// The phase of a flight.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -166,7 +167,10 @@ impl PhaseSettings {
 pub struct FlightPhases {
     settings: PhaseSettings,
     phase: Phase,
-    candidate: Option<(Phase, f64, f32)>,
+    /// The phase the samples argue for: (phase, start time, start height, seconds it
+    /// has held). The hold is summed in `f32` steps so that a sample needs no `f64`
+    /// arithmetic beyond forming its step.
+    candidate: Option<(Phase, f64, f32, f32)>,
     last_time_s: Option<f64>,
     apex: Option<(f64, f32)>,
     last_event: Option<PhaseEvent>,
@@ -223,13 +227,28 @@ impl FlightPhases {
         height_m: f32,
         speed_mps: f32,
     ) -> Result<Option<PhaseEvent>, Error> {
-        if !(time_s.is_finite() && height_m.is_finite() && speed_mps.is_finite()) {
+        if !crate::filter::finite_time(time_s) {
             return Err(Error::NotFinite);
         }
-        if let Some(last) = self.last_time_s {
-            if time_s <= last {
-                return Err(Error::NotIncreasing);
-            }
+        let dt = match self.last_time_s.map(|last| step_between(last, time_s)) {
+            None => 0.0,
+            Some(Step::Later(dt)) => dt,
+            Some(_) => return Err(Error::NotIncreasing),
+        };
+        self.update_step(time_s, dt, height_m, speed_mps)
+    }
+
+    /// [`Self::update`] with the step from the previous sample already formed (`dt`,
+    /// s, >= 0; anything for the first sample) and `time_s` finite and later.
+    pub(crate) fn update_step(
+        &mut self,
+        time_s: f64,
+        dt: f32,
+        height_m: f32,
+        speed_mps: f32,
+    ) -> Result<Option<PhaseEvent>, Error> {
+        if !(height_m.is_finite() && speed_mps.is_finite()) {
+            return Err(Error::NotFinite);
         }
         self.last_time_s = Some(time_s);
         let s = self.settings;
@@ -268,19 +287,19 @@ impl FlightPhases {
         match wanted {
             None => self.candidate = None,
             Some((next, hold)) => {
-                let (start_t, start_h) = match self.candidate {
+                let (start_t, start_h, held) = match self.candidate {
                     // a burst candidate also counts toward a plain descent and back
-                    Some((c, t0, h0))
+                    Some((c, t0, h0, held))
                         if c == next
                             || (matches!(c, Phase::Burst | Phase::Descent)
                                 && matches!(next, Phase::Burst | Phase::Descent)) =>
                     {
-                        (t0, h0)
+                        (t0, h0, held + dt)
                     }
-                    _ => (time_s, height_m),
+                    _ => (time_s, height_m, 0.0),
                 };
-                self.candidate = Some((next, start_t, start_h));
-                if time_s - start_t >= f64::from(hold) {
+                self.candidate = Some((next, start_t, start_h, held));
+                if held >= hold {
                     self.phase = next;
                     self.candidate = None;
                     event = Some(PhaseEvent {

@@ -470,6 +470,9 @@ pub struct Pipeline<const N: usize> {
     outliers: u32,
     spikes: SpikeGate,
     hike_speed_mps: f32,
+    /// Seconds covered by samples the spike gate held back since the phase tracker's
+    /// last sample (it sees only the samples that are taken).
+    held_back_s: f32,
     last_pressure_pa: f32,
     last: Output,
 }
@@ -516,6 +519,7 @@ impl<const N: usize> Pipeline<N> {
             outliers: 0,
             spikes: SpikeGate::new(),
             hike_speed_mps: 0.0,
+            held_back_s: 0.0,
             last_pressure_pa: 0.0,
             last: Output::default(),
         })
@@ -788,6 +792,7 @@ impl<const N: usize> Pipeline<N> {
                         self.outliers = self.outliers.saturating_add(1);
                         // taken (flagged), so its time counts as the last one
                         self.last_time_s = Some(sample.time_s);
+                        self.held_back_s += dt.unwrap_or(0.0);
                         self.last = out;
                         return out;
                     }
@@ -904,7 +909,12 @@ impl<const N: usize> Pipeline<N> {
         // did, the phase tracker would keep its state (it is atomic on error).
         let event = self
             .phases
-            .update(sample.time_s, out_height, speed_mps)
+            .update_step(
+                sample.time_s,
+                dt.unwrap_or(0.0) + self.held_back_s,
+                out_height,
+                speed_mps,
+            )
             .ok()
             .flatten();
 
@@ -931,6 +941,7 @@ impl<const N: usize> Pipeline<N> {
         self.offset_m = offset;
         self.offset_target_m = offset_target;
         self.spikes = spikes;
+        self.held_back_s = 0.0;
         self.last_time_s = Some(sample.time_s);
         if temperature.is_some() {
             self.last_temperature = temperature;

@@ -131,7 +131,8 @@ impl GroundReference {
     /// Whether enough samples over a long enough span have been averaged.
     pub fn is_ready(&self) -> bool {
         self.count >= self.config.min_samples
-            && self.last_time_s - self.first_time_s >= f64::from(self.config.min_duration_s)
+            && (self.config.min_duration_s <= 0.0
+                || self.last_time_s - self.first_time_s >= f64::from(self.config.min_duration_s))
     }
 
     /// Mean of the samples averaged so far.
