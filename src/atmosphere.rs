@@ -328,6 +328,12 @@ impl StandardAtmosphere {
     /// (0.05, 1.8) and every term is bounded.
     #[inline]
     fn geopotential_m(&self, p: Pressure) -> Result<f32, Error> {
+        Ok(self.geopotential_in_layer(p)?.0)
+    }
+
+    /// [`Self::geopotential_m`] and the layer it lies in.
+    #[inline]
+    fn geopotential_in_layer(&self, p: Pressure) -> Result<(f32, &Layer), Error> {
         let pa = p.pa();
         let layer = self.layer_for_pressure(pa)?;
         // ln(p / pb) as ln of the ratio: its absolute error is about one f32 step
@@ -339,7 +345,7 @@ impl StandardAtmosphere {
         } else {
             layer.height_scale_m * math::small_exp_m1(layer.exponent * log_ratio)
         };
-        Ok(layer.base_geopotential_m + dh)
+        Ok((layer.base_geopotential_m + dh, layer))
     }
 
     /// Pressure altitude: the geometric height (m) at which this standard has pressure
@@ -347,11 +353,40 @@ impl StandardAtmosphere {
     #[inline]
     pub fn pressure_altitude(&self, p: Pressure) -> Result<Height, Error> {
         let h = self.geopotential_m(p)?;
-        // U.S. 1976 eq. 19 as H + H^2 / (r0 - H); H is at most the model top (about
-        // 85 km, far below r0), so the result is finite.
-        Ok(Height::from_finite_meters(
-            h + h * h / (self.earth_radius_m - h),
-        ))
+        Ok(self.geometric_of(h))
+    }
+
+    /// [`Self::pressure_altitude`] and this standard's temperature at that level, from
+    /// one inversion: `T = Tb + L (H - Hb)` in the layer found for `p` (U.S. 1976
+    /// eq. 23), without the forward pressure that [`Self::temperature_at`] also
+    /// computes.
+    ///
+    /// ```
+    /// use isohypse::{atmosphere::US_1976, Pressure};
+    /// let (h, t) = US_1976.pressure_altitude_with_temperature(Pressure::from_pa(22_632.06)?)?;
+    /// assert!((h.meters() - 11_019.1).abs() < 0.5); // tropopause, 11 km' geopotential
+    /// assert!((t.kelvin() - 216.65).abs() < 1e-3);
+    /// # Ok::<(), isohypse::Error>(())
+    /// ```
+    ///
+    /// Errors: as [`Self::pressure_altitude`].
+    #[inline]
+    pub fn pressure_altitude_with_temperature(
+        &self,
+        p: Pressure,
+    ) -> Result<(Height, Temperature), Error> {
+        let (h, layer) = self.geopotential_in_layer(p)?;
+        let t =
+            layer.base_temperature_k + layer.lapse_rate_k_per_m * (h - layer.base_geopotential_m);
+        Ok((self.geometric_of(h), Temperature::from_kelvin(t)?))
+    }
+
+    /// Geometric height of geopotential `h` (m') from this model's inverse: U.S. 1976
+    /// eq. 19 as `H + H^2 / (r0 - H)`; `H` is at most the model top (about 85 km, far
+    /// below r0), so the result is finite.
+    #[inline]
+    fn geometric_of(&self, h: f32) -> Height {
+        Height::from_finite_meters(h + h * h / (self.earth_radius_m - h))
     }
 
     /// Pressure of this standard at geometric height `z`.

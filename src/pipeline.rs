@@ -976,10 +976,10 @@ impl<const N: usize> Pipeline<N> {
         rh: Option<RelativeHumidity>,
         flags: &mut Flags,
     ) -> Result<(f32, f32), Error> {
-        let std_height = US_1976.pressure_altitude(p)?;
+        let (std_height, t_std) = US_1976.pressure_altitude_with_temperature(p)?;
         match self.run.model {
             HeightModel::Standard => {
-                let t_std = US_1976.temperature_at(std_height)?.kelvin();
+                let t_std = t_std.kelvin();
                 let h = match self.run.altimeter_setting {
                     AltimeterSetting::Standard => std_height,
                     setting => setting.height(p)?,
@@ -987,7 +987,7 @@ impl<const N: usize> Pipeline<N> {
                 Ok((h.meters(), t.map_or(t_std, |t| t.kelvin())))
             }
             HeightModel::Column(model) => {
-                let t = Some(self.temperature_or_held(t, std_height, flags)?);
+                let t = Some(self.temperature_or_held(t, t_std, flags));
                 let air = AirSample {
                     temperature: t,
                     mixing_ratio: match (t, rh) {
@@ -995,8 +995,7 @@ impl<const N: usize> Pipeline<N> {
                         _ => MixingRatio::DRY,
                     },
                 };
-                let column_t =
-                    t.map_or(US_1976.temperature_at(std_height)?.kelvin(), |t| t.kelvin());
+                let column_t = t.map_or(t_std.kelvin(), |t| t.kelvin());
                 match self.column_reference {
                     None => {
                         let base = match self.run.start_altitude_m {
@@ -1019,7 +1018,7 @@ impl<const N: usize> Pipeline<N> {
                 }
             }
             HeightModel::Sounding { descent_on_profile } => {
-                let t = self.temperature_or_held(t, std_height, flags)?;
+                let t = self.temperature_or_held(t, t_std, flags);
                 match self.sounding.as_ref() {
                     None => {
                         let base = match self.run.start_altitude_m {
@@ -1061,18 +1060,18 @@ impl<const N: usize> Pipeline<N> {
     fn temperature_or_held(
         &self,
         t: Option<Temperature>,
-        std_height: Height,
+        standard: Temperature,
         flags: &mut Flags,
-    ) -> Result<Temperature, Error> {
+    ) -> Temperature {
         match (t, self.last_temperature) {
-            (Some(t), _) => Ok(t),
+            (Some(t), _) => t,
             (None, Some(held)) => {
                 flags.set(Flags::TEMPERATURE_HELD);
-                Ok(held)
+                held
             }
             (None, None) => {
                 flags.set(Flags::TEMPERATURE_ASSUMED);
-                US_1976.temperature_at(std_height)
+                standard
             }
         }
     }

@@ -179,6 +179,19 @@ fn agrees_with_fluids_reference_vectors() {
             "f64 ref vs fluids at {z}: {z_f64}"
         );
         worst_inverse = worst_inverse.max(err);
+        // Height and temperature from one inversion: the same height, and the
+        // reference temperature (its lapse rate of at most 4 K/km times the inverse
+        // error above, plus f32 rounding).
+        let (h2, t2) = US_1976.pressure_altitude_with_temperature(pa(p32)).unwrap();
+        assert_eq!(h2.meters() as f64, ours, "same height at {z}");
+        if h <= 84_852.0 {
+            let t_limit = 1e-4 + 0.004 * height_limit(z);
+            assert!(
+                (t2.kelvin() as f64 - t).abs() < t_limit,
+                "T from p at {z}: {} vs {t}",
+                t2.kelvin()
+            );
+        }
     }
     println!(
         "fluids vectors: {} rows, worst inverse error {worst_inverse:.4} m",
