@@ -1101,3 +1101,25 @@ fn huge_noise_settings_are_refused_or_harmless() {
         }
     }
 }
+
+/// Regression test, fixed bug (found by the `pipeline` fuzz target after the Kalman filter
+/// moved to `f32` steps; src/filter/kalman.rs, `predict_step`): a sample less than
+/// 1.4e-45 s after the previous one (its step narrows to 0 in `f32`) with an
+/// accelerometer reading. The prediction treated the zero step as "same time", so the
+/// barometer sample at that time looked like a second one at the filter's time and was
+/// refused after the prediction had been applied: the sample came back rejected with the
+/// state changed. Such a step is strictly later and must be taken.
+#[test]
+fn kalman_takes_accelerometer_and_baro_after_sub_f32_step() {
+    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    assert!(p.process(&Sample::pressure(0.0, 95_000.0)).accepted());
+    let mut s = Sample::pressure(1.0e-300, 95_007.6);
+    s.accel_up_mps2 = Some(0.0);
+    let before = p.clone();
+    let out = p.process(&s);
+    if out.flags.rejected() {
+        assert!(p == before, "rejected sample changed the state");
+    }
+    assert!(out.accepted(), "{out:?}"); // rejected (state changed) before the fix
+    assert!(!out.flags.contains(Flags::ACCEL_IGNORED), "{out:?}");
+}

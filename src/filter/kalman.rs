@@ -288,6 +288,9 @@ pub struct VerticalKalman {
     accepted_age_s: f32,
     /// The latest barometer sample (accepted or not) is at `time_s`.
     baro_at_core: bool,
+    /// The latest accelerometer sample is at `time_s`. (Not `accel_age_s == 0`: a step
+    /// below the smallest `f32`, 1.4e-45 s, is later but adds 0 to the age.)
+    accel_at_core: bool,
     initialized: bool,
     disturbed: bool,
     reacquire_pending: bool,
@@ -322,6 +325,7 @@ impl VerticalKalman {
             accel_age_s: f32::INFINITY,
             accepted_age_s: 0.0,
             baro_at_core: false,
+            accel_at_core: false,
             initialized: false,
             disturbed: false,
             reacquire_pending: false,
@@ -377,7 +381,7 @@ impl VerticalKalman {
             _ if !has_time => 0.0,
             Step::Later(dt) => dt,
             // equal times of the two streams are fine, not two accelerometer samples
-            Step::Same if self.accel_age_s > 0.0 => 0.0,
+            Step::Same if !self.accel_at_core => 0.0,
             Step::Same | Step::Earlier => return Err(Error::NotIncreasing),
         };
         if !self.initialized {
@@ -385,6 +389,7 @@ impl VerticalKalman {
             self.time_s = t;
             self.accel_mps2 = accel_up_mps2;
             self.accel_age_s = 0.0;
+            self.accel_at_core = true;
             return Ok(());
         }
         let (core, dropout) = self.propagate(dt, Some(accel_up_mps2));
@@ -396,8 +401,9 @@ impl VerticalKalman {
         self.time_s = t;
         self.accel_mps2 = accel_up_mps2;
         self.accel_age_s = 0.0;
+        self.accel_at_core = true;
         self.accepted_age_s += dt;
-        if dt > 0.0 {
+        if matches!(step, Step::Later(_)) {
             self.baro_at_core = false;
         }
         Ok(())
@@ -566,6 +572,9 @@ impl VerticalKalman {
             self.time_s = t;
             self.accel_age_s = age;
             self.baro_at_core = true;
+            if matches!(step, Step::Later(_)) {
+                self.accel_at_core = false;
+            }
             self.accepted_age_s = 0.0;
             self.initialized = true;
             return Ok(KalmanOutcome::Initialized);
@@ -622,6 +631,9 @@ impl VerticalKalman {
         self.core = core;
         self.time_s = t;
         self.baro_at_core = true;
+        if matches!(step, Step::Later(_)) {
+            self.accel_at_core = false;
+        }
         self.accel_age_s = accel_age;
         self.rejected = rejected;
         match outcome {
