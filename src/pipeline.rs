@@ -32,10 +32,15 @@ use crate::filter::{
 };
 use crate::flight::{FlightPhases, Phase, PhaseEvent, PhaseSettings};
 use crate::geopotential::Gravity;
+#[cfg(feature = "pipeline-column")]
 use crate::humidity::MixingRatio;
+#[cfg(feature = "pipeline-column")]
 use crate::model::{AirSample, ColumnModel, Reference, TemperatureModel};
+#[cfg(feature = "pipeline-sounding")]
 use crate::sounding::{PendingStep, Sounding};
-use crate::track::{AscentTotals, HikeConfig, HikeTracker};
+use crate::track::AscentTotals;
+#[cfg(feature = "pipeline-hike")]
+use crate::track::{HikeConfig, HikeTracker};
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
 
 /// One reading. Only time and pressure are required; every other channel is optional.
@@ -195,11 +200,14 @@ impl Output {
 /// Where heights come from.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum HeightModel {
     /// U.S. Standard Atmosphere 1976 pressure altitude (plus the datum offset).
     Standard,
     /// Layer-by-layer integration of each sample's pressure, temperature and humidity
     /// from the first sample ([`crate::sounding`]).
+    /// Feature `pipeline-sounding`.
+    #[cfg(feature = "pipeline-sounding")]
     Sounding {
         /// After burst, take heights from the profile stored on the way up instead of
         /// integrating with the lagging temperature sensor.
@@ -210,7 +218,9 @@ pub enum HeightModel {
     /// and the start altitude, or its standard pressure altitude without one); each
     /// sample's temperature and humidity go in as the current air. For example
     /// [`TemperatureModel::MeanOfEnds`], the two-point hypsometric method, or
-    /// [`TemperatureModel::StandardOffset`] for a warm or cold day.
+    /// [`TemperatureModel::StandardOffset`] for a warm or cold day. Feature
+    /// `pipeline-column`.
+    #[cfg(feature = "pipeline-column")]
     Column(TemperatureModel),
 }
 
@@ -229,6 +239,7 @@ pub enum Estimator {
 /// Per-use tracker.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum Tracking {
     /// Flight phases and plain ascent/descent totals with a hysteresis band, m.
     Flight {
@@ -238,7 +249,8 @@ pub enum Tracking {
         totals_band_m: f32,
     },
     /// Walking: totals with weather-drift handling, fixes and tendency
-    /// ([`crate::track::HikeTracker`]), plus phases.
+    /// ([`crate::track::HikeTracker`]), plus phases. Feature `pipeline-hike`.
+    #[cfg(feature = "pipeline-hike")]
     Hike {
         /// Hike tracker settings.
         hike: HikeConfig,
@@ -289,6 +301,8 @@ pub struct Settings {
 impl Settings {
     /// Balloon: sounding model with descent on the stored profile, Kalman filter on
     /// barometric height alone (1 Hz samples, wide dynamics for burst), flight phases.
+    /// Feature `pipeline-sounding`.
+    #[cfg(feature = "pipeline-sounding")]
     pub fn balloon() -> Self {
         Self {
             model: HeightModel::Sounding {
@@ -346,6 +360,7 @@ impl Settings {
 
     /// Hike: standard model, the hike tracker (smoothing, totals with hysteresis,
     /// weather drift at rest, fixes, tendency), no Kalman filter (the tracker smooths).
+    #[cfg(feature = "pipeline-hike")]
     pub fn hike() -> Self {
         Self {
             model: HeightModel::Standard,
@@ -404,6 +419,7 @@ impl Settings {
         if let Estimator::Kalman(k) = self.estimator {
             k.validate()?;
         }
+        #[cfg(feature = "pipeline-column")]
         if let HeightModel::Column(model) = self.model {
             // the model's own parameters: it must place a plain standard-day sample
             let reference = Reference::new(Pressure::from_pa(101_325.0)?, Height::ZERO)
@@ -421,6 +437,7 @@ impl Settings {
                 phases.validate()?;
                 AscentTotals::new(totals_band_m)?;
             }
+            #[cfg(feature = "pipeline-hike")]
             Tracking::Hike { hike, phases } => {
                 phases.validate()?;
                 hike.validate()?;
@@ -429,6 +446,8 @@ impl Settings {
         Ok(())
     }
 
+    /// Gravity for the sounding (validates the latitude in every build).
+    #[cfg_attr(not(feature = "pipeline-sounding"), allow(dead_code))]
     fn gravity(&self) -> Result<Gravity, Error> {
         match self.latitude_deg {
             Some(lat) => Gravity::at_latitude(lat),
@@ -442,6 +461,7 @@ impl Settings {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 enum TrackState {
     Flight(AscentTotals),
+    #[cfg(feature = "pipeline-hike")]
     Hike(HikeTracker),
 }
 
@@ -453,8 +473,11 @@ enum TrackState {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Pipeline<const N: usize> {
     run: RunSettings,
+    #[cfg(feature = "pipeline-sounding")]
     gravity: Gravity,
+    #[cfg(feature = "pipeline-sounding")]
     sounding: Option<Sounding<N>>,
+    #[cfg(feature = "pipeline-column")]
     column_reference: Option<Reference>,
     kalman: Option<VerticalKalman>,
     ground: GroundReference,
@@ -466,6 +489,7 @@ pub struct Pipeline<const N: usize> {
     /// Height (after datum) of the ground reference, once frozen.
     ground_frozen: bool,
     last_time_s: Option<f64>,
+    #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     last_temperature: Option<Temperature>,
     outliers: u32,
     spikes: SpikeGate,
@@ -494,15 +518,21 @@ impl<const N: usize> Pipeline<N> {
                 FlightPhases::new(phases)?,
                 TrackState::Flight(AscentTotals::new(totals_band_m)?),
             ),
+            #[cfg(feature = "pipeline-hike")]
             Tracking::Hike { hike, phases } => (
                 FlightPhases::new(phases)?,
                 TrackState::Hike(HikeTracker::new(hike)?),
             ),
         };
+        // the latitude is checked in every build
+        let _gravity = settings.gravity()?;
         Ok(Self {
-            gravity: settings.gravity()?,
+            #[cfg(feature = "pipeline-sounding")]
+            gravity: _gravity,
             run: RunSettings::of(&settings),
+            #[cfg(feature = "pipeline-sounding")]
             sounding: None,
+            #[cfg(feature = "pipeline-column")]
             column_reference: None,
             kalman,
             ground: GroundReference::new(GroundReferenceConfig {
@@ -515,6 +545,7 @@ impl<const N: usize> Pipeline<N> {
             offset_target_m: 0.0,
             ground_frozen: false,
             last_time_s: None,
+            #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
             last_temperature: None,
             outliers: 0,
             spikes: SpikeGate::new(),
@@ -538,6 +569,7 @@ impl<const N: usize> Pipeline<N> {
                 phases,
                 totals_band_m: totals.band_m(),
             },
+            #[cfg(feature = "pipeline-hike")]
             TrackState::Hike(hike) => Tracking::Hike {
                 hike: hike.config(),
                 phases,
@@ -565,6 +597,7 @@ impl<const N: usize> Pipeline<N> {
     }
 
     /// The sounding (balloon model), once started.
+    #[cfg(feature = "pipeline-sounding")]
     pub fn sounding(&self) -> Option<&Sounding<N>> {
         self.sounding.as_ref()
     }
@@ -710,15 +743,17 @@ impl<const N: usize> Pipeline<N> {
         };
 
         // 2. Height model, computed on copies so that a failure changes nothing.
-        let mut sounding = SoundingChange::Keep;
-        let mut column = None;
+        // What the model prepares for its own state (a new sounding level, the column
+        // reference), applied only when the whole sample is accepted. An out-parameter,
+        // not part of the result: returned by value the sounding inside would be copied
+        // on every sample (about 240 instructions on the Cortex-M4F, measured).
+        let mut model_change = ModelChange::Keep;
         let model = self.model_height(
-            &mut sounding,
-            &mut column,
             pressure,
             temperature,
             humidity,
             &mut flags,
+            &mut model_change,
         );
         let Ok((model_m, column_t)) = model else {
             return carried(Flags::REJECTED_MODEL, &self.last);
@@ -747,7 +782,7 @@ impl<const N: usize> Pipeline<N> {
             ground_frozen = true;
         }
         if let Some(known) = fix {
-            if !matches!(self.track, TrackState::Hike(_)) {
+            if !self.is_hike() {
                 // the estimate (not the single sample) is what the fix corrects
                 let current = if self.last_time_s.is_some() {
                     self.last.altitude_m - offset
@@ -774,6 +809,7 @@ impl<const N: usize> Pipeline<N> {
         //    spike gate.
         // The hike tracker is the last step that can refuse the sample; ask it now,
         // before the estimator changes.
+        #[cfg(feature = "pipeline-hike")]
         if let TrackState::Hike(hike) = &self.track {
             if !hike.accepts(sample.time_s, raw) {
                 return carried(Flags::REJECTED_MODEL, &self.last);
@@ -858,12 +894,14 @@ impl<const N: usize> Pipeline<N> {
         // 5. Trackers, updated in place: the hike tracker's update is the last step that
         //    can refuse the sample, and it leaves the tracker unchanged when it does;
         //    nothing after it can fail.
+        #[cfg_attr(not(feature = "pipeline-hike"), allow(unused_mut))]
         let mut hike_speed = self.hike_speed_mps;
         let (out_height, ascent, descent, tendency) = match &mut self.track {
             TrackState::Flight(totals) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
                 (height_m, totals.ascent_m(), totals.descent_m(), None)
             }
+            #[cfg(feature = "pipeline-hike")]
             TrackState::Hike(hike) => {
                 match hike.update_pressure_altitude(sample.time_s, raw) {
                     Ok(mut r) => {
@@ -900,7 +938,7 @@ impl<const N: usize> Pipeline<N> {
             }
         };
 
-        let speed_mps = if matches!(self.track, TrackState::Hike(_)) {
+        let speed_mps = if self.is_hike() {
             hike_speed
         } else {
             speed_mps
@@ -921,13 +959,14 @@ impl<const N: usize> Pipeline<N> {
         // 6. Commit.
         self.hike_speed_mps = hike_speed;
         self.last_pressure_pa = pressure.pa();
-        if column.is_some() {
-            self.column_reference = column;
-        }
-        match sounding {
-            SoundingChange::Keep => {}
-            SoundingChange::Start(s) => self.sounding = Some(s),
-            SoundingChange::Step(pending, descending) => {
+        match model_change {
+            ModelChange::Keep => {}
+            #[cfg(feature = "pipeline-column")]
+            ModelChange::ColumnStart(reference) => self.column_reference = Some(reference),
+            #[cfg(feature = "pipeline-sounding")]
+            ModelChange::SoundingStart(s) => self.sounding = Some(s),
+            #[cfg(feature = "pipeline-sounding")]
+            ModelChange::SoundingStep(pending, descending) => {
                 if let Some(s) = self.sounding.as_mut() {
                     if descending {
                         s.set_recording(false);
@@ -943,6 +982,7 @@ impl<const N: usize> Pipeline<N> {
         self.spikes = spikes;
         self.held_back_s = 0.0;
         self.last_time_s = Some(sample.time_s);
+        #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
         if temperature.is_some() {
             self.last_temperature = temperature;
         }
@@ -967,14 +1007,17 @@ impl<const N: usize> Pipeline<N> {
 
     /// Height of the sample from the model (before the datum), m, and the column
     /// temperature used, K.
+    #[cfg_attr(
+        not(any(feature = "pipeline-sounding", feature = "pipeline-column")),
+        allow(unused_variables)
+    )]
     fn model_height(
         &self,
-        sounding: &mut SoundingChange<N>,
-        column: &mut Option<Reference>,
         p: Pressure,
         t: Option<Temperature>,
         rh: Option<RelativeHumidity>,
         flags: &mut Flags,
+        change: &mut ModelChange<N>,
     ) -> Result<(f32, f32), Error> {
         let (std_height, t_std) = US_1976.pressure_altitude_with_temperature(p)?;
         match self.run.model {
@@ -986,6 +1029,7 @@ impl<const N: usize> Pipeline<N> {
                 };
                 Ok((h.meters(), t.map_or(t_std, |t| t.kelvin())))
             }
+            #[cfg(feature = "pipeline-column")]
             HeightModel::Column(model) => {
                 let t = Some(self.temperature_or_held(t, t_std, flags));
                 let air = AirSample {
@@ -1008,7 +1052,7 @@ impl<const N: usize> Pipeline<N> {
                         }
                         // checks the model can place this sample before keeping it
                         model.height(&reference, p, &air)?;
-                        *column = Some(reference);
+                        *change = ModelChange::ColumnStart(reference);
                         Ok((base.meters() - self.start_offset(), column_t))
                     }
                     Some(reference) => {
@@ -1017,6 +1061,7 @@ impl<const N: usize> Pipeline<N> {
                     }
                 }
             }
+            #[cfg(feature = "pipeline-sounding")]
             HeightModel::Sounding { descent_on_profile } => {
                 let t = self.temperature_or_held(t, t_std, flags);
                 match self.sounding.as_ref() {
@@ -1025,10 +1070,10 @@ impl<const N: usize> Pipeline<N> {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
-                        *sounding =
-                            SoundingChange::Start(Sounding::new(base, self.gravity, p, t, rh)?);
+                        let start = Sounding::new(base, self.gravity, p, t, rh)?;
                         // the datum offset is applied later: report model height
                         // relative to the start altitude's frame
+                        *change = ModelChange::SoundingStart(start);
                         Ok((base.meters() - self.start_offset(), t.kelvin()))
                     }
                     Some(s) => {
@@ -1038,25 +1083,33 @@ impl<const N: usize> Pipeline<N> {
                         );
                         // prepared now, applied when the whole sample is accepted
                         let pending = s.prepare(p, Some(t), rh)?;
-                        *sounding = SoundingChange::Step(pending, descending);
+                        let h = pending.step.geometric.meters();
+                        *change = ModelChange::SoundingStep(pending, descending);
                         if descending && descent_on_profile {
                             if let Ok(h) = s.height_on_profile(p) {
                                 flags.set(Flags::ON_PROFILE);
                                 return Ok((h.meters() - self.start_offset(), t.kelvin()));
                             }
                         }
-                        Ok((
-                            pending.step.geometric.meters() - self.start_offset(),
-                            t.kelvin(),
-                        ))
+                        Ok((h - self.start_offset(), t.kelvin()))
                     }
                 }
             }
         }
     }
 
+    /// Whether the hike tracker is in use.
+    fn is_hike(&self) -> bool {
+        match self.track {
+            TrackState::Flight(_) => false,
+            #[cfg(feature = "pipeline-hike")]
+            TrackState::Hike(_) => true,
+        }
+    }
+
     /// The sample's temperature; without one the last one held, or before any the
     /// standard atmosphere's at the pressure altitude (flagged either way).
+    #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     fn temperature_or_held(
         &self,
         t: Option<Temperature>,
@@ -1078,12 +1131,12 @@ impl<const N: usize> Pipeline<N> {
 
     /// The sounding already starts at the start altitude, so the ground-reference
     /// offset must not add it again: report its heights relative to zero.
+    #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     fn start_offset(&self) -> f32 {
         match self.run.model {
-            HeightModel::Sounding { .. } | HeightModel::Column(_) => {
-                self.run.start_altitude_m.unwrap_or(0.0)
-            }
             HeightModel::Standard => 0.0,
+            // the sounding and the column models
+            _ => self.run.start_altitude_m.unwrap_or(0.0),
         }
     }
 }
@@ -1147,12 +1200,17 @@ impl RunSettings {
     }
 }
 
-/// What a sample does to the sounding, applied only when the sample is accepted.
+/// What a sample does to the height model's state, applied only when the sample is
+/// accepted.
 #[allow(clippy::large_enum_variant)]
-enum SoundingChange<const N: usize> {
+enum ModelChange<const N: usize> {
     Keep,
-    Start(Sounding<N>),
-    Step(PendingStep, bool),
+    #[cfg(feature = "pipeline-column")]
+    ColumnStart(Reference),
+    #[cfg(feature = "pipeline-sounding")]
+    SoundingStart(Sounding<N>),
+    #[cfg(feature = "pipeline-sounding")]
+    SoundingStep(PendingStep, bool),
 }
 
 /// Median spike gate of the pointwise path: the last five accepted model heights.
@@ -1232,6 +1290,7 @@ const MIN_SPEED_STEP_S: f32 = 1.0e-3;
 const MAX_SPEED_MPS: f32 = 1.0e4;
 
 /// Time constant of the hike preset's vertical-speed smoother, s.
+#[cfg(feature = "pipeline-hike")]
 const HIKE_SPEED_TIME_CONSTANT_S: f32 = 30.0;
 
 fn height_or_zero(m: f32) -> Height {

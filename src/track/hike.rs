@@ -307,6 +307,7 @@ impl HikeTracker {
 
     /// Whether [`Self::update_pressure_altitude`] would take this sample (for callers
     /// that must know before changing other state).
+    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
     pub(crate) fn accepts(&self, time_s: f64, height: Height) -> bool {
         let h = height.meters();
         self.check_time(time_s).is_ok()

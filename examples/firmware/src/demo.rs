@@ -63,6 +63,7 @@ pub fn drone_pipeline() -> Result<Pipeline<2>, Error> {
     Pipeline::new(Settings::drone())
 }
 
+#[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The balloon preset with the launch elevation and latitude set.
 pub fn balloon_settings() -> Settings {
     let mut s = Settings::balloon();
@@ -71,11 +72,13 @@ pub fn balloon_settings() -> Settings {
     s
 }
 
+#[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The balloon preset with a `PROFILE_LEVELS`-level stored profile.
 pub fn balloon_pipeline() -> Result<Pipeline<PROFILE_LEVELS>, Error> {
     Pipeline::new(balloon_settings())
 }
 
+#[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The hike preset (measured only: instruction count, no reference outputs).
 #[cfg_attr(not(target_os = "none"), allow(dead_code))]
 pub fn hike_pipeline() -> Result<Pipeline<2>, Error> {
