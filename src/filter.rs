@@ -106,7 +106,7 @@ pub(crate) const fn finite_time(t: f64) -> bool {
 ///
 /// Errors: [`Error::NotFinite`] if `now` is not finite, [`Error::NotIncreasing`] if
 /// `now` is not after `last`.
-fn step_s(last: f64, now: f64) -> Result<f32, Error> {
+pub(crate) fn step_s(last: f64, now: f64) -> Result<f32, Error> {
     if !finite_time(now) {
         return Err(Error::NotFinite);
     }
@@ -117,7 +117,7 @@ fn step_s(last: f64, now: f64) -> Result<f32, Error> {
 }
 
 /// Validates a time stamp on its own (finite).
-fn check_time(now: f64) -> Result<f64, Error> {
+pub(crate) fn check_time(now: f64) -> Result<f64, Error> {
     if finite_time(now) {
         Ok(now)
     } else {

@@ -28,7 +28,7 @@
 //! ```
 
 use crate::Error;
-use crate::filter::{Step, step_between};
+use crate::filter;
 
 /// The phase of a flight.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -227,13 +227,12 @@ impl FlightPhases {
         height_m: f32,
         speed_mps: f32,
     ) -> Result<Option<PhaseEvent>, Error> {
-        if !crate::filter::finite_time(time_s) {
-            return Err(Error::NotFinite);
-        }
-        let dt = match self.last_time_s.map(|last| step_between(last, time_s)) {
-            None => 0.0,
-            Some(Step::Later(dt)) => dt,
-            Some(_) => return Err(Error::NotIncreasing),
+        let dt = match self.last_time_s {
+            None => {
+                filter::check_time(time_s)?;
+                0.0
+            }
+            Some(last) => filter::step_s(last, time_s)?,
         };
         self.update_step(time_s, dt, height_m, speed_mps)
     }

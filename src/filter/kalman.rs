@@ -352,12 +352,7 @@ impl VerticalKalman {
     /// barometer sample).
     pub fn predict(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
         let t = super::check_time(time_s)?;
-        let step = if self.initialized || self.accel_age_s.is_finite() {
-            super::step_between(self.time_s, t)
-        } else {
-            Step::Later(0.0)
-        };
-        self.predict_step(t, step, accel_up_mps2)
+        self.predict_step(t, self.step_to(t), accel_up_mps2)
     }
 
     /// [`Self::predict`] with the step from the filter's time to `t` already formed
@@ -376,9 +371,8 @@ impl VerticalKalman {
         if accel_up_mps2.abs() > self.config.max_accel_mps2 {
             return Err(Error::SampleOutOfRange);
         }
-        let has_time = self.initialized || self.accel_age_s.is_finite();
         let dt = match step {
-            _ if !has_time => 0.0,
+            _ if !self.has_time() => 0.0,
             Step::Later(dt) => dt,
             // equal times of the two streams are fine, not two accelerometer samples
             Step::Same if !self.accel_at_core => 0.0,
@@ -420,13 +414,19 @@ impl VerticalKalman {
     /// previous barometer sample, or before the latest accelerometer sample).
     pub fn correct(&mut self, time_s: f64, height: Height) -> Result<KalmanOutcome, Error> {
         let t = super::check_time(time_s)?;
-        let r = self.measurement_variance();
+        let r = self.sample_variance(self.config.baro_sigma_m)?;
         self.correct_with_variance(t, self.step_to(t), height, r)
+    }
+
+    /// The filter has a time: it is initialised, or has remembered an accelerometer
+    /// sample.
+    fn has_time(&self) -> bool {
+        self.initialized || self.accel_age_s.is_finite()
     }
 
     /// The step from the filter's time to `t` (`Later(0)` before it has a time).
     fn step_to(&self, t: f64) -> Step {
-        if self.initialized || self.accel_age_s.is_finite() {
+        if self.has_time() {
             super::step_between(self.time_s, t)
         } else {
             Step::Later(0.0)
@@ -460,16 +460,23 @@ impl VerticalKalman {
         height: Height,
         sigma_m: f32,
     ) -> Result<KalmanOutcome, Error> {
+        let r = self.sample_variance(sigma_m)?;
+        self.correct_with_variance(t, step, height, r)
+    }
+
+    /// Variance of a barometer sample with 1-sigma `sigma_m` (m), the disturbance factor
+    /// applied while disturbed. Errors: [`Error::InvalidSetting`] for a `sigma_m` that is
+    /// not finite and positive.
+    fn sample_variance(&self, sigma_m: f32) -> Result<f32, Error> {
         if !(sigma_m.is_finite() && sigma_m > 0.0) {
             return Err(Error::InvalidSetting);
         }
-        let scale = if self.disturbed {
-            self.config.disturbed_sigma_scale
+        let sigma = if self.disturbed {
+            sigma_m * self.config.disturbed_sigma_scale
         } else {
-            1.0
+            sigma_m
         };
-        let sigma = sigma_m * scale;
-        self.correct_with_variance(t, step, height, sigma * sigma)
+        Ok(sigma * sigma)
     }
 
     /// Refusals of a barometer sample with height `z` at `step` from the filter's time,
@@ -507,10 +514,12 @@ impl VerticalKalman {
         height: Height,
         sigma_m: f32,
     ) -> (Result<(), Error>, Result<KalmanOutcome, Error>) {
-        if !(sigma_m.is_finite() && sigma_m > 0.0) {
-            return (Ok(()), Err(Error::InvalidSetting));
-        }
-        if let Err(e) = self.check_correct(step, height.meters()) {
+        let z = height.meters();
+        let r = match self.sample_variance(sigma_m) {
+            Ok(r) => r,
+            Err(e) => return (Ok(()), Err(e)),
+        };
+        if let Err(e) = self.check_correct(step, z) {
             return (Ok(()), Err(e));
         }
         let mut step = step;
@@ -524,9 +533,9 @@ impl VerticalKalman {
             }
             None => Ok(()),
         };
-        // Cannot be refused now (checked above; after a prediction to `t` the step is
-        // `Same` with no barometer sample at `t`).
-        (predicted, self.correct_step(t, step, height, sigma_m))
+        // Checked above (after a prediction to `t` the step is `Same` with no barometer
+        // sample at `t`, which the check allows too).
+        (predicted, self.apply_correct(t, step, z, r))
     }
 
     /// The step from the filter's time to `t`, reusing `known` (the step from the time
@@ -549,6 +558,18 @@ impl VerticalKalman {
     ) -> Result<KalmanOutcome, Error> {
         let z = height.meters();
         self.check_correct(step, z)?;
+        self.apply_correct(t, step, z, r)
+    }
+
+    /// A barometer height `z` with variance `r` at `step` from the filter's time, after
+    /// [`Self::check_correct`] passed. Error, state unchanged: [`Error::NotFinite`].
+    fn apply_correct(
+        &mut self,
+        t: f64,
+        step: Step,
+        z: f32,
+        r: f32,
+    ) -> Result<KalmanOutcome, Error> {
         if !self.initialized {
             // ordered by `check_correct`; the accelerometer sample's age moves on
             let age = match step {
@@ -653,15 +674,6 @@ impl VerticalKalman {
             }
         }
         Ok(outcome)
-    }
-
-    /// Barometer noise variance in use, m^2.
-    fn measurement_variance(&self) -> f32 {
-        let mut sigma = self.config.baro_sigma_m;
-        if self.disturbed {
-            sigma *= self.config.disturbed_sigma_scale;
-        }
-        sigma * sigma
     }
 
     /// Mean and covariance propagated over `dt` (s); also whether `dt` was a dropout.

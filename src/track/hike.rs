@@ -294,6 +294,19 @@ impl HikeTracker {
         time_s: f64,
         height: Height,
     ) -> Result<HikeReport, Error> {
+        self.check_pressure_altitude(time_s, height)?;
+        Ok(self.step(time_s, height.meters()))
+    }
+
+    /// Whether [`Self::update_pressure_altitude`] would take this sample (for callers
+    /// that must know before changing other state).
+    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
+    pub(crate) fn accepts(&self, time_s: f64, height: Height) -> bool {
+        self.check_pressure_altitude(time_s, height).is_ok()
+    }
+
+    /// The refusals of [`Self::update_pressure_altitude`].
+    fn check_pressure_altitude(&self, time_s: f64, height: Height) -> Result<(), Error> {
         self.check_time(time_s)?;
         let h = height.meters();
         if h < self.height_limits_m.0 {
@@ -302,17 +315,7 @@ impl HikeTracker {
         if h > self.height_limits_m.1 {
             return Err(Error::AboveModelTop);
         }
-        Ok(self.step(time_s, h))
-    }
-
-    /// Whether [`Self::update_pressure_altitude`] would take this sample (for callers
-    /// that must know before changing other state).
-    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
-    pub(crate) fn accepts(&self, time_s: f64, height: Height) -> bool {
-        let h = height.meters();
-        self.check_time(time_s).is_ok()
-            && h >= self.height_limits_m.0
-            && h <= self.height_limits_m.1
+        Ok(())
     }
 
     fn check_time(&self, time_s: f64) -> Result<(), Error> {
