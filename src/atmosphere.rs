@@ -206,7 +206,7 @@ impl StandardAtmosphere {
     }
 
     /// Lowest pressure of the model (at its top), Pa.
-    pub fn top_pressure_pa(&self) -> f32 {
+    pub const fn top_pressure_pa(&self) -> f32 {
         self.layers[LAYER_COUNT].base_pressure_pa
     }
 

@@ -29,6 +29,7 @@
 
 use crate::Error;
 use crate::filter;
+use core::borrow::Borrow;
 
 /// The phase of a flight.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -164,8 +165,9 @@ impl PhaseSettings {
 /// size test). O(1) per sample.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct FlightPhases {
-    settings: PhaseSettings,
+pub struct FlightPhases<S = PhaseSettings> {
+    /// The settings, owned or borrowed (`&'static PhaseSettings` keeps them in flash).
+    settings: S,
     phase: Phase,
     /// The phase the samples argue for: (phase, start time, start height, seconds it
     /// has held). The hold is summed in `f32` steps so that a sample needs no `f64`
@@ -176,10 +178,12 @@ pub struct FlightPhases {
     last_event: Option<PhaseEvent>,
 }
 
-impl FlightPhases {
-    /// A tracker on the ground. Errors: [`Error::InvalidSetting`].
-    pub fn new(settings: PhaseSettings) -> Result<Self, Error> {
-        settings.validate()?;
+impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
+    /// A tracker on the ground. `settings` is owned (`PhaseSettings`) or borrowed
+    /// (`&PhaseSettings`, for example from a `static`: the settings then stay out of the
+    /// tracker's state). Errors: [`Error::InvalidSetting`].
+    pub fn new(settings: S) -> Result<Self, Error> {
+        settings.borrow().validate()?;
         Ok(Self {
             settings,
             phase: Phase::Ground,
@@ -196,13 +200,13 @@ impl FlightPhases {
     }
 
     /// Settings in use.
-    pub const fn settings(&self) -> &PhaseSettings {
-        &self.settings
+    pub fn settings(&self) -> &PhaseSettings {
+        self.settings.borrow()
     }
 
     /// Replace the settings (validated first; the phase is kept).
-    pub fn set_settings(&mut self, settings: PhaseSettings) -> Result<(), Error> {
-        settings.validate()?;
+    pub fn set_settings(&mut self, settings: S) -> Result<(), Error> {
+        settings.borrow().validate()?;
         self.settings = settings;
         Ok(())
     }
@@ -250,7 +254,7 @@ impl FlightPhases {
             return Err(Error::NotFinite);
         }
         self.last_time_s = Some(time_s);
-        let s = self.settings;
+        let s = self.settings.borrow();
         if self.phase == Phase::Burst {
             self.phase = Phase::Descent;
         }

@@ -42,6 +42,7 @@ use crate::track::AscentTotals;
 #[cfg(feature = "pipeline-hike")]
 use crate::track::{HikeConfig, HikeTracker};
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
+use core::borrow::Borrow;
 
 /// One reading. Only time and pressure are required; every other channel is optional.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -303,7 +304,7 @@ impl Settings {
     /// barometric height alone (1 Hz samples, wide dynamics for burst), flight phases.
     /// Feature `pipeline-sounding`.
     #[cfg(feature = "pipeline-sounding")]
-    pub fn balloon() -> Self {
+    pub const fn balloon() -> Self {
         Self {
             model: HeightModel::Sounding {
                 descent_on_profile: true,
@@ -317,7 +318,7 @@ impl Settings {
                 accel_timeout_s: 0.5,
                 baro_timeout_s: 60.0,
                 reacquire_after: 5,
-                ..VerticalKalmanConfig::default()
+                ..VerticalKalmanConfig::DEFAULT
             }),
             tracking: Tracking::Flight {
                 phases: PhaseSettings::BALLOON,
@@ -338,10 +339,10 @@ impl Settings {
 
     /// Drone: standard model, height above the ground reference taken at arming, Kalman
     /// filter with accelerometer and gating, phases tuned for hops.
-    pub fn drone() -> Self {
+    pub const fn drone() -> Self {
         Self {
             model: HeightModel::Standard,
-            estimator: Estimator::Kalman(VerticalKalmanConfig::default()),
+            estimator: Estimator::Kalman(VerticalKalmanConfig::DEFAULT),
             tracking: Tracking::Flight {
                 phases: PhaseSettings::DRONE,
                 totals_band_m: 0.5,
@@ -361,12 +362,12 @@ impl Settings {
     /// Hike: standard model, the hike tracker (smoothing, totals with hysteresis,
     /// weather drift at rest, fixes, tendency), no Kalman filter (the tracker smooths).
     #[cfg(feature = "pipeline-hike")]
-    pub fn hike() -> Self {
+    pub const fn hike() -> Self {
         Self {
             model: HeightModel::Standard,
             estimator: Estimator::Off,
             tracking: Tracking::Hike {
-                hike: HikeConfig::default(),
+                hike: HikeConfig::DEFAULT,
                 phases: PhaseSettings::HIKE,
             },
             start_altitude_m: None,
@@ -465,23 +466,129 @@ enum TrackState {
     Hike(HikeTracker),
 }
 
+/// The estimator's state: the two estimators are never used together, so their states
+/// share one place.
+#[derive(Debug, Clone, PartialEq)]
+#[allow(clippy::large_enum_variant)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+enum EstimatorState<K> {
+    /// Pointwise heights behind the median spike gate.
+    Pointwise(SpikeGate),
+    /// The Kalman filter.
+    Kalman(VerticalKalman<K>),
+}
+
+/// Where a [`Pipeline`] keeps its [`Settings`]: in its own state ([`Settings`], the
+/// default, 156 bytes on a 64-bit host) or borrowed (`&Settings`, for example
+/// `&'static Settings` from a `static` in flash: then only a reference and the run-time
+/// changes, the start altitude and the altimeter setting, are in the state, and the
+/// Kalman filter and the phase tracker borrow their settings from it too).
+///
+/// ```
+/// use isohypse::pipeline::{Pipeline, Sample, Settings};
+/// static DRONE: Settings = Settings::drone();
+/// let mut pipe = Pipeline::<2, &'static Settings>::new(&DRONE)?;
+/// let out = pipe.process(&Sample::pressure(0.0, 98_000.0));
+/// assert!(out.accepted());
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+pub trait SettingsStore {
+    /// How the Kalman filter holds its settings (owned or borrowed).
+    type Kalman: Borrow<VerticalKalmanConfig> + Copy;
+    /// How the phase tracker holds its settings (owned or borrowed).
+    type Phases: Borrow<PhaseSettings>;
+    /// The settings.
+    fn settings(&self) -> &Settings;
+    /// The Kalman filter's settings, if the estimator is [`Estimator::Kalman`].
+    fn kalman(&self) -> Option<Self::Kalman>;
+    /// The phase tracker's settings.
+    fn phases(&self) -> Self::Phases;
+}
+
+impl SettingsStore for Settings {
+    type Kalman = VerticalKalmanConfig;
+    type Phases = PhaseSettings;
+    fn settings(&self) -> &Settings {
+        self
+    }
+    fn kalman(&self) -> Option<VerticalKalmanConfig> {
+        match self.estimator {
+            Estimator::Kalman(k) => Some(k),
+            Estimator::Off => None,
+        }
+    }
+    fn phases(&self) -> PhaseSettings {
+        *self.tracking.phases()
+    }
+}
+
+impl<'a> SettingsStore for &'a Settings {
+    type Kalman = &'a VerticalKalmanConfig;
+    type Phases = &'a PhaseSettings;
+    fn settings(&self) -> &Settings {
+        self
+    }
+    fn kalman(&self) -> Option<&'a VerticalKalmanConfig> {
+        let s: &'a Settings = self;
+        match &s.estimator {
+            Estimator::Kalman(k) => Some(k),
+            Estimator::Off => None,
+        }
+    }
+    fn phases(&self) -> &'a PhaseSettings {
+        let s: &'a Settings = self;
+        s.tracking.phases()
+    }
+}
+
+impl Tracking {
+    /// The phase thresholds.
+    pub const fn phases(&self) -> &PhaseSettings {
+        match self {
+            Tracking::Flight { phases, .. } => phases,
+            #[cfg(feature = "pipeline-hike")]
+            Tracking::Hike { phases, .. } => phases,
+        }
+    }
+}
+
+/// What [`Pipeline`] keeps of its last output to carry it forward (the phase, totals
+/// and tendency are read from the trackers).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct Carried {
+    altitude_m: f32,
+    raw_altitude_m: f32,
+    vertical_speed_mps: f32,
+    altitude_sigma_m: f32,
+    flags: Flags,
+    /// The last sample confirmed the phase tracker's last event.
+    event: bool,
+}
+
 /// The composed per-sample pipeline; `N` is the capacity of the balloon's stored
-/// profile (use 2 for the other presets: the profile is then unused and small).
+/// profile (use 2 for the other presets: the profile is then unused and small); `S`
+/// is where the settings are kept ([`SettingsStore`]: owned by default, or a
+/// `&'static Settings` to keep them out of RAM).
 ///
 /// State size: printed by the test `pipeline_state_sizes` and in README.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct Pipeline<const N: usize> {
-    run: RunSettings,
+pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
+    store: S,
+    /// The run-time changes of the settings ([`Self::set_start_altitude`],
+    /// [`Self::set_altimeter_setting`]); everything else is read from `store`.
+    start_altitude_m: Option<f32>,
+    altimeter_setting: AltimeterSetting,
     #[cfg(feature = "pipeline-sounding")]
     gravity: Gravity,
     #[cfg(feature = "pipeline-sounding")]
     sounding: Option<Sounding<N>>,
     #[cfg(feature = "pipeline-column")]
     column_reference: Option<Reference>,
-    kalman: Option<VerticalKalman>,
+    estimator: EstimatorState<S::Kalman>,
     ground: GroundReference,
-    phases: FlightPhases,
+    phases: FlightPhases<S::Phases>,
     track: TrackState,
     /// Datum offset added to the model height, m, and its target (fixes slew to it).
     offset_m: f32,
@@ -492,53 +599,53 @@ pub struct Pipeline<const N: usize> {
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     last_temperature: Option<Temperature>,
     outliers: u32,
-    spikes: SpikeGate,
     hike_speed_mps: f32,
     /// Seconds covered by samples the spike gate held back since the phase tracker's
     /// last sample (it sees only the samples that are taken).
     held_back_s: f32,
     last_pressure_pa: f32,
-    last: Output,
+    last: Carried,
 }
 
-impl<const N: usize> Pipeline<N> {
-    /// A pipeline with `settings` (validated). Errors: [`Error::InvalidSetting`] and the
+impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
+    /// A pipeline with `settings` (validated): owned ([`Settings`]) or borrowed
+    /// (`&Settings`, see [`SettingsStore`]). Errors: [`Error::InvalidSetting`] and the
     /// nested settings' errors.
-    pub fn new(settings: Settings) -> Result<Self, Error> {
-        settings.validate()?;
-        let kalman = match settings.estimator {
-            Estimator::Off => None,
-            Estimator::Kalman(k) => Some(VerticalKalman::new(k)?),
+    pub fn new(settings: S) -> Result<Self, Error> {
+        let s = settings.settings();
+        s.validate()?;
+        let estimator = match settings.kalman() {
+            None => EstimatorState::Pointwise(SpikeGate::new()),
+            Some(k) => EstimatorState::Kalman(VerticalKalman::new(k)?),
         };
-        let (phases, track) = match settings.tracking {
-            Tracking::Flight {
-                phases,
-                totals_band_m,
-            } => (
-                FlightPhases::new(phases)?,
-                TrackState::Flight(AscentTotals::new(totals_band_m)?),
-            ),
+        let phases = FlightPhases::new(settings.phases())?;
+        let track = match s.tracking {
+            Tracking::Flight { totals_band_m, .. } => {
+                TrackState::Flight(AscentTotals::new(totals_band_m)?)
+            }
             #[cfg(feature = "pipeline-hike")]
-            Tracking::Hike { hike, phases } => (
-                FlightPhases::new(phases)?,
-                TrackState::Hike(HikeTracker::new(hike)?),
-            ),
+            Tracking::Hike { hike, .. } => TrackState::Hike(HikeTracker::new(hike)?),
         };
         // the latitude is checked in every build
-        let _gravity = settings.gravity()?;
+        let _gravity = s.gravity()?;
+        let ground = GroundReference::new(GroundReferenceConfig {
+            min_samples: s.ground_min_samples.max(2),
+            min_duration_s: 0.0,
+        })?;
+        let start_altitude_m = s.start_altitude_m;
+        let altimeter_setting = s.altimeter_setting;
         Ok(Self {
+            store: settings,
+            start_altitude_m,
+            altimeter_setting,
             #[cfg(feature = "pipeline-sounding")]
             gravity: _gravity,
-            run: RunSettings::of(&settings),
             #[cfg(feature = "pipeline-sounding")]
             sounding: None,
             #[cfg(feature = "pipeline-column")]
             column_reference: None,
-            kalman,
-            ground: GroundReference::new(GroundReferenceConfig {
-                min_samples: settings.ground_min_samples.max(2),
-                min_duration_s: 0.0,
-            })?,
+            estimator,
+            ground,
             phases,
             track,
             offset_m: 0.0,
@@ -548,52 +655,55 @@ impl<const N: usize> Pipeline<N> {
             #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
             last_temperature: None,
             outliers: 0,
-            spikes: SpikeGate::new(),
             hike_speed_mps: 0.0,
             held_back_s: 0.0,
             last_pressure_pa: 0.0,
-            last: Output::default(),
+            last: Carried::default(),
         })
     }
 
-    /// The settings in use.
+    /// The settings in use (with the run-time changes).
     pub fn settings(&self) -> Settings {
-        let r = &self.run;
-        let estimator = match &self.kalman {
-            Some(k) => Estimator::Kalman(*k.config()),
-            None => Estimator::Off,
-        };
-        let phases = *self.phases.settings();
-        let tracking = match &self.track {
-            TrackState::Flight(totals) => Tracking::Flight {
-                phases,
-                totals_band_m: totals.band_m(),
-            },
-            #[cfg(feature = "pipeline-hike")]
-            TrackState::Hike(hike) => Tracking::Hike {
-                hike: hike.config(),
-                phases,
-            },
-        };
-        Settings {
-            model: r.model,
-            estimator,
-            tracking,
-            start_altitude_m: r.start_altitude_m,
-            altimeter_setting: r.altimeter_setting,
-            latitude_deg: r.latitude_deg,
-            ground_min_samples: r.ground_min_samples,
-            pressure_range_pa: r.pressure_range_pa,
-            pressure_noise_pa: r.pressure_noise_pa,
-            temperature_uncertainty_k: r.temperature_uncertainty_k,
-            fix_time_constant_s: r.fix_time_constant_s,
-            spike_gate_m: r.spike_gate_m,
-        }
+        let mut s = *self.store.settings();
+        s.start_altitude_m = self.start_altitude_m;
+        s.altimeter_setting = self.altimeter_setting;
+        s
     }
 
-    /// The last output.
-    pub fn last_output(&self) -> &Output {
-        &self.last
+    /// The last output (of the last sample taken; a zeroed output before any).
+    pub fn last_output(&self) -> Output {
+        let mut out = self.carry(self.last_time_s.unwrap_or(0.0), self.last.flags);
+        if self.last.event {
+            out.event = self.phases.last_event();
+        }
+        out
+    }
+
+    /// The last output carried forward to `time_s` with `flags` (a rejected sample, or
+    /// an outlier the spike gate held back).
+    fn carry(&self, time_s: f64, flags: Flags) -> Output {
+        let (ascent_m, descent_m, tendency_hpa) = match &self.track {
+            TrackState::Flight(totals) => (totals.ascent_m(), totals.descent_m(), None),
+            #[cfg(feature = "pipeline-hike")]
+            TrackState::Hike(hike) => (
+                hike.totals().ascent_m(),
+                hike.totals().descent_m(),
+                hike.tendency().tendency_hpa(),
+            ),
+        };
+        Output {
+            time_s,
+            altitude_m: self.last.altitude_m,
+            raw_altitude_m: self.last.raw_altitude_m,
+            vertical_speed_mps: self.last.vertical_speed_mps,
+            altitude_sigma_m: self.last.altitude_sigma_m,
+            phase: self.phases.phase(),
+            event: None,
+            ascent_m,
+            descent_m,
+            tendency_hpa,
+            flags,
+        }
     }
 
     /// The sounding (balloon model), once started.
@@ -603,7 +713,7 @@ impl<const N: usize> Pipeline<N> {
     }
 
     /// The flight phase tracker.
-    pub fn phases(&self) -> &FlightPhases {
+    pub fn phases(&self) -> &FlightPhases<S::Phases> {
         &self.phases
     }
 
@@ -619,7 +729,7 @@ impl<const N: usize> Pipeline<N> {
         let mut s = self.settings();
         s.start_altitude_m = start_altitude_m;
         s.validate()?;
-        self.run = RunSettings::of(&s);
+        self.start_altitude_m = start_altitude_m;
         self.ground_frozen = false;
         self.ground.rezero();
         Ok(())
@@ -637,18 +747,18 @@ impl<const N: usize> Pipeline<N> {
         // Height difference the new setting makes at the last pressure; the datum
         // offset absorbs it now and slews back to its target.
         if let (HeightModel::Standard, Some(p)) = (
-            self.run.model,
+            self.store.settings().model,
             Pressure::from_pa(self.last_pressure_pa).ok(),
         ) {
-            let old = self.run.altimeter_setting.height(p)?;
+            let old = self.altimeter_setting.height(p)?;
             let new = setting.height(p)?;
             self.offset_m -= new.meters() - old.meters();
         }
-        if self.run.start_altitude_m.is_some() && !self.ground_frozen {
+        if self.start_altitude_m.is_some() && !self.ground_frozen {
             // the ground reference averaged heights of the old setting: take it anew
             self.ground.rezero();
         }
-        self.run = RunSettings::of(&s);
+        self.altimeter_setting = setting;
         Ok(())
     }
 
@@ -662,7 +772,7 @@ impl<const N: usize> Pipeline<N> {
     /// Flag a barometer disturbance (propeller wash, ground effect): the Kalman filter
     /// trusts the barometer less while set.
     pub fn set_baro_disturbed(&mut self, disturbed: bool) {
-        if let Some(k) = self.kalman.as_mut() {
+        if let EstimatorState::Kalman(k) = &mut self.estimator {
             k.set_baro_disturbed(disturbed);
         }
     }
@@ -671,9 +781,9 @@ impl<const N: usize> Pipeline<N> {
     /// acceleration with gravity removed, m/s^2). Errors, state unchanged: those of
     /// [`VerticalKalman::predict`]; `Ok` and ignored without a Kalman estimator.
     pub fn accelerometer(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
-        match self.kalman.as_mut() {
-            Some(k) => k.predict(time_s, accel_up_mps2),
-            None => Ok(()),
+        match &mut self.estimator {
+            EstimatorState::Kalman(k) => k.predict(time_s, accel_up_mps2),
+            EstimatorState::Pointwise(_) => Ok(()),
         }
     }
 
@@ -681,19 +791,10 @@ impl<const N: usize> Pipeline<N> {
     /// a rejected sample leaves the whole pipeline unchanged.
     pub fn process(&mut self, sample: &Sample) -> Output {
         let mut flags = Flags::default();
-        // The last output carried forward to this sample's time with `f` as its flags
-        // (a rejected sample, or an outlier the spike gate held back).
-        let carried = |f: Flags, last: &Output| {
-            let mut out = *last;
-            out.time_s = sample.time_s;
-            out.flags = f;
-            out.event = None;
-            out
-        };
         // 1. Validation of the required channels. The step from the last sample is
         //    formed once (one `f64` subtraction) and reused below.
         if !finite_time(sample.time_s) {
-            return carried(Flags::REJECTED_TIME, &self.last);
+            return self.carry(sample.time_s, Flags::REJECTED_TIME);
         }
         let step = self
             .last_time_s
@@ -701,12 +802,12 @@ impl<const N: usize> Pipeline<N> {
         let dt = match step {
             None => None,
             Some(Step::Later(dt)) => Some(dt),
-            Some(_) => return carried(Flags::REJECTED_TIME, &self.last),
+            Some(_) => return self.carry(sample.time_s, Flags::REJECTED_TIME),
         };
-        let (lo, hi) = self.run.pressure_range_pa;
+        let (lo, hi) = self.store.settings().pressure_range_pa;
         let pressure = match Pressure::from_pa(sample.pressure_pa) {
             Ok(p) if p.pa() >= lo && p.pa() <= hi => p,
-            _ => return carried(Flags::REJECTED_PRESSURE, &self.last),
+            _ => return self.carry(sample.time_s, Flags::REJECTED_PRESSURE),
         };
         // Optional channels: an invalid value is ignored and flagged.
         let temperature = match sample.temperature_c.map(Temperature::from_celsius) {
@@ -756,7 +857,7 @@ impl<const N: usize> Pipeline<N> {
             &mut model_change,
         );
         let Ok((model_m, column_t)) = model else {
-            return carried(Flags::REJECTED_MODEL, &self.last);
+            return self.carry(sample.time_s, Flags::REJECTED_MODEL);
         };
 
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
@@ -765,10 +866,10 @@ impl<const N: usize> Pipeline<N> {
         let mut ground_frozen = self.ground_frozen;
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
-        let averaging = self.run.start_altitude_m.is_some()
+        let averaging = self.start_altitude_m.is_some()
             && !ground_frozen
             && self.phases.phase() == Phase::Ground;
-        if let (Some(start), true) = (self.run.start_altitude_m, averaging) {
+        if let (Some(start), true) = (self.start_altitude_m, averaging) {
             if ground.sample_count() == 0 {
                 // provisional until samples at rest are averaged
                 offset_target = start - model_m;
@@ -777,7 +878,7 @@ impl<const N: usize> Pipeline<N> {
             if !ground.is_ready() {
                 flags.set(Flags::GROUND_AVERAGING);
             }
-        } else if self.run.start_altitude_m.is_some() && !ground_frozen {
+        } else if self.start_altitude_m.is_some() && !ground_frozen {
             // motion started: the reference is fixed from now on
             ground_frozen = true;
         }
@@ -796,13 +897,14 @@ impl<const N: usize> Pipeline<N> {
         }
         match dt {
             Some(dt) => {
-                offset += slew_gain(dt, self.run.fix_time_constant_s) * (offset_target - offset)
+                offset += slew_gain(dt, self.store.settings().fix_time_constant_s)
+                    * (offset_target - offset)
             }
             None => offset = offset_target,
         }
         let raw_m = model_m + offset;
         let Ok(raw) = Height::from_meters(raw_m) else {
-            return carried(Flags::REJECTED_MODEL, &self.last);
+            return self.carry(sample.time_s, Flags::REJECTED_MODEL);
         };
 
         // 4. Estimator (with its outlier gate), or the pointwise height behind a median
@@ -812,31 +914,36 @@ impl<const N: usize> Pipeline<N> {
         #[cfg(feature = "pipeline-hike")]
         if let TrackState::Hike(hike) = &self.track {
             if !hike.accepts(sample.time_s, raw) {
-                return carried(Flags::REJECTED_MODEL, &self.last);
+                return self.carry(sample.time_s, Flags::REJECTED_MODEL);
             }
         }
-        let mut spikes = self.spikes;
+        // the spike gate's new state, committed with the rest
+        let mut new_spikes = None;
         let known_step = self.last_time_s.zip(step);
-        let (height_m, speed_mps, sigma_m) = match self.kalman.as_mut() {
-            None => {
-                if let Some(gate) = self.run.spike_gate_m {
+        let (height_m, speed_mps, sigma_m) = match &mut self.estimator {
+            EstimatorState::Pointwise(gate_state) => {
+                if let Some(gate) = self.store.settings().spike_gate_m {
+                    let mut spikes = *gate_state;
                     if spikes.is_spike(sample.time_s, model_m, gate) {
                         // carried forward; the gate counts toward re-acquiring
-                        spikes.consecutive = spikes.consecutive.saturating_add(1);
-                        let out = carried(Flags(flags.0 | Flags::OUTLIER.0), &self.last);
-                        self.spikes = spikes;
+                        gate_state.consecutive = spikes.consecutive.saturating_add(1);
+                        let flags = Flags(flags.0 | Flags::OUTLIER.0);
+                        let out = self.carry(sample.time_s, flags);
                         self.outliers = self.outliers.saturating_add(1);
                         // taken (flagged), so its time counts as the last one
                         self.last_time_s = Some(sample.time_s);
                         self.held_back_s += dt.unwrap_or(0.0);
-                        self.last = out;
+                        self.last.flags = flags;
+                        self.last.event = false;
                         return out;
                     }
                     spikes.accept(sample.time_s, model_m);
+                    new_spikes = Some(spikes);
                 }
                 let speed = match dt {
                     Some(dt)
-                        if self.last.accepted() && !self.last.flags.contains(Flags::OUTLIER) =>
+                        if !self.last.flags.rejected()
+                            && !self.last.flags.contains(Flags::OUTLIER) =>
                     {
                         difference_speed(raw_m - self.last.raw_altitude_m, dt)
                             .unwrap_or(self.last.vertical_speed_mps)
@@ -846,12 +953,18 @@ impl<const N: usize> Pipeline<N> {
                 (
                     raw_m,
                     speed,
-                    model_sigma(&self.run, pressure, column_t, raw_m),
+                    model_sigma(
+                        self.store.settings(),
+                        self.start_altitude_m,
+                        pressure,
+                        column_t,
+                        raw_m,
+                    ),
                 )
             }
-            Some(k) => {
+            EstimatorState::Kalman(k) => {
                 // Height noise of this sample from the sensor's pressure noise.
-                let sigma = pressure_sigma_m(&self.run, pressure, column_t);
+                let sigma = pressure_sigma_m(self.store.settings(), pressure, column_t);
                 let sigma = if sigma > 1.0e-3 { sigma } else { 1.0e-3 };
                 // In place: the filter takes the accelerometer and barometer samples
                 // as one and changes nothing when it refuses the barometer sample, and
@@ -866,21 +979,27 @@ impl<const N: usize> Pipeline<N> {
                     Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
                     Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
                     Ok(_) => {}
-                    Err(_) => return carried(Flags::REJECTED_MODEL, &self.last),
+                    Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
                 }
                 match k.height_speed_variance() {
                     Some((h, v, var_h)) => (h, v, crate::math::sigma_from_variance(var_h)),
                     None => (
                         raw_m,
                         0.0,
-                        model_sigma(&self.run, pressure, column_t, raw_m),
+                        model_sigma(
+                            self.store.settings(),
+                            self.start_altitude_m,
+                            pressure,
+                            column_t,
+                            raw_m,
+                        ),
                     ),
                 }
             }
         };
         // The ground reference takes samples the estimator accepted, at rest only: a
         // spike or the first seconds of a climb must not move the zero.
-        if let (Some(start), true) = (self.run.start_altitude_m, averaging) {
+        if let (Some(start), true) = (self.start_altitude_m, averaging) {
             let at_rest = speed_mps.abs() < self.phases.settings().rest_mps;
             if at_rest && !flags.contains(Flags::OUTLIER) && !flags.contains(Flags::REACQUIRED) {
                 let _ = ground.push(sample.time_s, height_or_zero(model_m));
@@ -933,7 +1052,7 @@ impl<const N: usize> Pipeline<N> {
                         }
                         (h, r.ascent_m, r.descent_m, r.tendency_hpa)
                     }
-                    Err(_) => return carried(Flags::REJECTED_MODEL, &self.last),
+                    Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
                 }
             }
         };
@@ -979,7 +1098,11 @@ impl<const N: usize> Pipeline<N> {
         self.ground_frozen = ground_frozen;
         self.offset_m = offset;
         self.offset_target_m = offset_target;
-        self.spikes = spikes;
+        if let (Some(spikes), EstimatorState::Pointwise(gate_state)) =
+            (new_spikes, &mut self.estimator)
+        {
+            *gate_state = spikes;
+        }
         self.held_back_s = 0.0;
         self.last_time_s = Some(sample.time_s);
         #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
@@ -989,7 +1112,15 @@ impl<const N: usize> Pipeline<N> {
         if flags.contains(Flags::OUTLIER) {
             self.outliers = self.outliers.saturating_add(1);
         }
-        self.last = Output {
+        self.last = Carried {
+            altitude_m: out_height,
+            raw_altitude_m: raw_m,
+            vertical_speed_mps: speed_mps,
+            altitude_sigma_m: sigma_m,
+            flags,
+            event: event.is_some(),
+        };
+        Output {
             time_s: sample.time_s,
             altitude_m: out_height,
             raw_altitude_m: raw_m,
@@ -1001,8 +1132,7 @@ impl<const N: usize> Pipeline<N> {
             descent_m: descent,
             tendency_hpa: tendency,
             flags,
-        };
-        self.last
+        }
     }
 
     /// Height of the sample from the model (before the datum), m, and the column
@@ -1020,10 +1150,10 @@ impl<const N: usize> Pipeline<N> {
         change: &mut ModelChange<N>,
     ) -> Result<(f32, f32), Error> {
         let (std_height, t_std) = US_1976.pressure_altitude_with_temperature(p)?;
-        match self.run.model {
+        match self.store.settings().model {
             HeightModel::Standard => {
                 let t_std = t_std.kelvin();
-                let h = match self.run.altimeter_setting {
+                let h = match self.altimeter_setting {
                     AltimeterSetting::Standard => std_height,
                     setting => setting.height(p)?,
                 };
@@ -1042,7 +1172,7 @@ impl<const N: usize> Pipeline<N> {
                 let column_t = t.map_or(t_std.kelvin(), |t| t.kelvin());
                 match self.column_reference {
                     None => {
-                        let base = match self.run.start_altitude_m {
+                        let base = match self.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
@@ -1066,7 +1196,7 @@ impl<const N: usize> Pipeline<N> {
                 let t = self.temperature_or_held(t, t_std, flags);
                 match self.sounding.as_ref() {
                     None => {
-                        let base = match self.run.start_altitude_m {
+                        let base = match self.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
@@ -1133,17 +1263,17 @@ impl<const N: usize> Pipeline<N> {
     /// offset must not add it again: report its heights relative to zero.
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     fn start_offset(&self) -> f32 {
-        match self.run.model {
+        match self.store.settings().model {
             HeightModel::Standard => 0.0,
             // the sounding and the column models
-            _ => self.run.start_altitude_m.unwrap_or(0.0),
+            _ => self.start_altitude_m.unwrap_or(0.0),
         }
     }
 }
 
 /// 1-sigma height noise from the pressure noise: `(R T / (g0 p)) sigma_p`
 /// (hypsometric equation differentiated in `p`).
-fn pressure_sigma_m(run: &RunSettings, p: Pressure, column_t: f32) -> f32 {
+fn pressure_sigma_m(run: &Settings, p: Pressure, column_t: f32) -> f32 {
     US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * run.pressure_noise_pa / p.pa()
 }
 
@@ -1151,9 +1281,15 @@ fn pressure_sigma_m(run: &RunSettings, p: Pressure, column_t: f32) -> f32 {
 /// height, and the column temperature uncertainty scaling the height above the
 /// datum reference (hypsometric equation: dz = (R T / g) dp / p, and
 /// dz / z = dT / T). The two add in quadrature.
-fn model_sigma(run: &RunSettings, p: Pressure, column_t: f32, height_m: f32) -> f32 {
+fn model_sigma(
+    run: &Settings,
+    start_altitude_m: Option<f32>,
+    p: Pressure,
+    column_t: f32,
+    height_m: f32,
+) -> f32 {
     let from_pressure = pressure_sigma_m(run, p, column_t);
-    let reference = run.start_altitude_m.unwrap_or(0.0);
+    let reference = start_altitude_m.unwrap_or(0.0);
     let from_temperature = (height_m - reference).abs() * run.temperature_uncertainty_k / column_t;
     crate::math::sigma_from_variance(
         from_pressure * from_pressure + from_temperature * from_temperature,
@@ -1165,40 +1301,6 @@ fn model_sigma(run: &RunSettings, p: Pressure, column_t: f32, height_m: f32) -> 
 pub const MAX_PRESSURE_NOISE_PA: f32 = 1_000.0;
 /// Largest accepted [`Settings::temperature_uncertainty_k`], K.
 pub const MAX_TEMPERATURE_UNCERTAINTY_K: f32 = 100.0;
-
-/// The settings the pipeline reads per sample; the estimator's and the trackers' own
-/// settings live in those components only (not stored twice).
-#[derive(Debug, Clone, Copy, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-struct RunSettings {
-    model: HeightModel,
-    start_altitude_m: Option<f32>,
-    altimeter_setting: AltimeterSetting,
-    latitude_deg: Option<f32>,
-    ground_min_samples: u32,
-    pressure_range_pa: (f32, f32),
-    pressure_noise_pa: f32,
-    temperature_uncertainty_k: f32,
-    fix_time_constant_s: f32,
-    spike_gate_m: Option<f32>,
-}
-
-impl RunSettings {
-    fn of(s: &Settings) -> Self {
-        Self {
-            model: s.model,
-            start_altitude_m: s.start_altitude_m,
-            altimeter_setting: s.altimeter_setting,
-            latitude_deg: s.latitude_deg,
-            ground_min_samples: s.ground_min_samples,
-            pressure_range_pa: s.pressure_range_pa,
-            pressure_noise_pa: s.pressure_noise_pa,
-            temperature_uncertainty_k: s.temperature_uncertainty_k,
-            fix_time_constant_s: s.fix_time_constant_s,
-            spike_gate_m: s.spike_gate_m,
-        }
-    }
-}
 
 /// What a sample does to the height model's state, applied only when the sample is
 /// accepted.

@@ -927,7 +927,7 @@ fn cases() -> Vec<Case> {
             expected: "accepted, finite, totals 0, at_rest",
             run: || {
                 let mut p = warmed::<2>(Settings::hike(), 300.0, 10, 1.0);
-                let mut out = *p.last_output();
+                let mut out = p.last_output();
                 let mut all_ok = true;
                 for i in 10..21_600 {
                     out = p.process(&Sample::pressure(i as f64, p_at(300.0)));

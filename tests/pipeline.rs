@@ -13,8 +13,12 @@ fn pipeline_state_sizes() {
     use core::mem::size_of;
     let rows = [
         (
-            "Pipeline<2> (drone, hike presets)",
+            "Pipeline<2> (drone, hike presets; settings owned)",
             size_of::<Pipeline<2>>(),
+        ),
+        (
+            "Pipeline<2, &'static Settings> (drone, hike; settings in flash)",
+            size_of::<Pipeline<2, &'static Settings>>(),
         ),
         (
             "Pipeline<64> (balloon, 64 levels)",
@@ -51,6 +55,13 @@ fn pipeline_state_sizes() {
     for (name, size) in rows {
         println!("| {name} | {size} |");
     }
+    // Borrowed settings keep at least the settings and the Kalman and phase settings
+    // out of the state.
+    assert!(
+        size_of::<Pipeline<2, &'static Settings>>() + size_of::<Settings>()
+            - 3 * size_of::<usize>()
+            <= size_of::<Pipeline<2>>()
+    );
     // The balloon pipeline grows by 12 bytes per profile level.
     assert_eq!(
         size_of::<Pipeline<256>>() - size_of::<Pipeline<64>>(),
@@ -335,4 +346,90 @@ fn column_models_through_the_pipeline() {
         lapse_rate_k_per_m: 0.0,
     });
     assert_eq!(Pipeline::<2>::new(bad).err(), Some(Error::InvalidSetting));
+}
+
+/// Samples of a demo log (empty fields are absent channels).
+fn demo_samples(text: &str) -> Vec<Sample> {
+    let mut header: Vec<&str> = Vec::new();
+    let mut out = Vec::new();
+    for line in text.lines().map(str::trim) {
+        if line.is_empty() || line.starts_with('#') {
+            continue;
+        }
+        if header.is_empty() {
+            header = line.split(',').collect();
+            continue;
+        }
+        let mut s = Sample::default();
+        for (name, field) in header.iter().zip(line.split(',')) {
+            let v: Option<f64> = field.trim().parse().ok();
+            match (*name, v) {
+                ("time_s", Some(v)) => s.time_s = v,
+                ("pressure_pa", Some(v)) => s.pressure_pa = v as f32,
+                ("temperature_c", v) => s.temperature_c = v.map(|v| v as f32),
+                ("humidity_pct", v) => s.humidity_pct = v.map(|v| v as f32),
+                ("accel_up_mps2", v) => s.accel_up_mps2 = v.map(|v| v as f32),
+                ("known_altitude_m", v) => s.known_altitude_m = v.map(|v| v as f32),
+                _ => {}
+            }
+        }
+        out.push(s);
+    }
+    out
+}
+
+#[test]
+fn borrowed_settings_give_the_same_outputs() {
+    // The same generic code with the settings owned or borrowed from a `static`: every
+    // output of the three demo logs is identical, also across run-time changes (a new
+    // altimeter setting, a re-zero, a disturbance flag). Checked against the crate itself
+    // (the borrowed form is a storage choice, not new maths).
+    static PRESETS: std::sync::OnceLock<[Settings; 3]> = std::sync::OnceLock::new();
+    let presets =
+        PRESETS.get_or_init(|| [Settings::drone(), Settings::hike(), Settings::balloon()]);
+    let logs = [
+        include_str!("../examples/data/drone.csv"),
+        include_str!("../examples/data/hike.csv"),
+        include_str!("../examples/data/balloon.csv"),
+    ];
+    for (settings, log) in presets.iter().zip(logs) {
+        let samples = demo_samples(log);
+        assert!(samples.len() > 100);
+        let mut owned = Pipeline::<64>::new(*settings).unwrap();
+        let mut borrowed = Pipeline::<64, &Settings>::new(settings).unwrap();
+        assert_eq!(owned.settings(), borrowed.settings());
+        for (i, s) in samples.iter().enumerate() {
+            if i == samples.len() / 3 {
+                let qnh = isohypse::datum::AltimeterSetting::SeaLevel {
+                    qnh: Pressure::from_pa(100_500.0).unwrap(),
+                };
+                owned.set_altimeter_setting(qnh).unwrap();
+                borrowed.set_altimeter_setting(qnh).unwrap();
+                owned.set_baro_disturbed(true);
+                borrowed.set_baro_disturbed(true);
+            }
+            if i == samples.len() / 2 {
+                owned.rezero();
+                borrowed.rezero();
+                owned.set_baro_disturbed(false);
+                borrowed.set_baro_disturbed(false);
+            }
+            if s.pressure_pa == 0.0 {
+                // an accelerometer-only row (the drone log's 200 Hz channel)
+                let accel = s.accel_up_mps2.unwrap();
+                assert_eq!(
+                    owned.accelerometer(s.time_s, accel),
+                    borrowed.accelerometer(s.time_s, accel)
+                );
+                continue;
+            }
+            let a = owned.process(s);
+            let b = borrowed.process(s);
+            assert_eq!(a, b, "sample {i}");
+            assert!(a.accepted(), "sample {i}: {a:?}");
+            assert_eq!(owned.last_output(), a, "sample {i}");
+        }
+        assert_eq!(owned.settings(), borrowed.settings());
+        assert_eq!(owned.outlier_count(), borrowed.outlier_count());
+    }
 }

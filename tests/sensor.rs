@@ -199,7 +199,7 @@ fn non_physical_reading_is_a_flagged_rejected_sample_not_an_error() {
         (1, 1, 0)
     );
     assert!(outs[1].flags.contains(Flags::REJECTED_PRESSURE));
-    assert_eq!(driver.pipeline().last_output(), &outs[0]);
+    assert_eq!(driver.pipeline().last_output(), outs[0]);
     drop(driver);
     i2c.done();
 }

@@ -2,6 +2,7 @@
 
 use super::Step;
 use crate::{Error, Height, VerticalSpeed};
+use core::borrow::Borrow;
 
 /// Settings of a [`VerticalKalman`]. All fields are in SI units; [`Default`] gives
 /// values for a small multirotor with a MEMS barometer and accelerometer.
@@ -61,29 +62,34 @@ pub struct VerticalKalmanConfig {
 }
 
 impl Default for VerticalKalmanConfig {
+    /// [`VerticalKalmanConfig::DEFAULT`].
+    fn default() -> Self {
+        Self::DEFAULT
+    }
+}
+
+impl VerticalKalmanConfig {
     /// Barometer 0.15 m (about 1.8 Pa near sea level), accelerometer 0.005 m/s^2/sqrt(Hz)
     /// with a 0.001 m/s^2/sqrt(s) bias walk, 16 g limit, gate 10.83, re-acquire after
     /// 10 rejections, dropout beyond 0.5 s, heights -5 km to 86 km (the U.S. 1976
     /// range), disturbance factor 4 (choices of this crate).
-    fn default() -> Self {
-        Self {
-            baro_sigma_m: 0.15,
-            accel_noise_density: 0.005,
-            bias_random_walk: 0.001,
-            baro_only_accel_density: 0.5,
-            initial_speed_sigma_mps: 0.5,
-            initial_bias_sigma_mps2: 0.3,
-            gate_nis: 10.83,
-            reacquire_after: 10,
-            max_step_s: 0.5,
-            accel_timeout_s: 0.1,
-            baro_timeout_s: 1.0,
-            disturbed_sigma_scale: 4.0,
-            max_accel_mps2: 16.0 * crate::atmosphere::STANDARD_GRAVITY,
-            min_height_m: -5_000.0,
-            max_height_m: 86_000.0,
-        }
-    }
+    pub const DEFAULT: Self = Self {
+        baro_sigma_m: 0.15,
+        accel_noise_density: 0.005,
+        bias_random_walk: 0.001,
+        baro_only_accel_density: 0.5,
+        initial_speed_sigma_mps: 0.5,
+        initial_bias_sigma_mps2: 0.3,
+        gate_nis: 10.83,
+        reacquire_after: 10,
+        max_step_s: 0.5,
+        accel_timeout_s: 0.1,
+        baro_timeout_s: 1.0,
+        disturbed_sigma_scale: 4.0,
+        max_accel_mps2: 16.0 * crate::atmosphere::STANDARD_GRAVITY,
+        min_height_m: -5_000.0,
+        max_height_m: 86_000.0,
+    };
 }
 
 impl VerticalKalmanConfig {
@@ -273,8 +279,10 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct VerticalKalman {
-    config: VerticalKalmanConfig,
+pub struct VerticalKalman<C = VerticalKalmanConfig> {
+    /// The settings, owned or borrowed (`&'static VerticalKalmanConfig` keeps them out
+    /// of the state, in flash).
+    config: C,
     core: Core,
     /// Time of `core`, s, once initialised; before that, the time of the latest
     /// accelerometer sample (if `accel_age_s` is finite).
@@ -299,12 +307,14 @@ pub struct VerticalKalman {
     reacquisitions: u32,
 }
 
-impl VerticalKalman {
-    /// A filter waiting for its first barometer sample.
+impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
+    /// A filter waiting for its first barometer sample. `config` is owned
+    /// (`VerticalKalmanConfig`) or borrowed (`&VerticalKalmanConfig`, for example from a
+    /// `static`: the settings then stay out of the filter's state).
     ///
     /// Errors: [`Error::InvalidSetting`] (see [`VerticalKalmanConfig::validate`]).
-    pub fn new(config: VerticalKalmanConfig) -> Result<Self, Error> {
-        config.validate()?;
+    pub fn new(config: C) -> Result<Self, Error> {
+        config.borrow().validate()?;
         Ok(Self {
             config,
             core: Core {
@@ -336,8 +346,8 @@ impl VerticalKalman {
     }
 
     /// The settings in use.
-    pub const fn config(&self) -> &VerticalKalmanConfig {
-        &self.config
+    pub fn config(&self) -> &VerticalKalmanConfig {
+        self.config.borrow()
     }
 
     /// Prediction with an accelerometer sample: earth-frame vertical acceleration
@@ -368,7 +378,7 @@ impl VerticalKalman {
         if !accel_up_mps2.is_finite() {
             return Err(Error::NotFinite);
         }
-        if accel_up_mps2.abs() > self.config.max_accel_mps2 {
+        if accel_up_mps2.abs() > self.config().max_accel_mps2 {
             return Err(Error::SampleOutOfRange);
         }
         let dt = match step {
@@ -414,7 +424,7 @@ impl VerticalKalman {
     /// previous barometer sample, or before the latest accelerometer sample).
     pub fn correct(&mut self, time_s: f64, height: Height) -> Result<KalmanOutcome, Error> {
         let t = super::check_time(time_s)?;
-        let r = self.sample_variance(self.config.baro_sigma_m)?;
+        let r = self.sample_variance(self.config().baro_sigma_m)?;
         self.correct_with_variance(t, self.step_to(t), height, r)
     }
 
@@ -472,7 +482,7 @@ impl VerticalKalman {
             return Err(Error::InvalidSetting);
         }
         let sigma = if self.disturbed {
-            sigma_m * self.config.disturbed_sigma_scale
+            sigma_m * self.config().disturbed_sigma_scale
         } else {
             sigma_m
         };
@@ -482,10 +492,10 @@ impl VerticalKalman {
     /// Refusals of a barometer sample with height `z` at `step` from the filter's time,
     /// the same as [`Self::correct`] gives, checked before anything changes.
     fn check_correct(&self, step: Step, z: f32) -> Result<(), Error> {
-        if z < self.config.min_height_m {
+        if z < self.config().min_height_m {
             return Err(Error::BelowModelBottom);
         }
-        if z > self.config.max_height_m {
+        if z > self.config().max_height_m {
             return Err(Error::AboveModelTop);
         }
         let time_ok = match step {
@@ -576,7 +586,7 @@ impl VerticalKalman {
                 Step::Later(dt) => self.accel_age_s + dt,
                 _ => self.accel_age_s,
             };
-            let c = &self.config;
+            let c = self.config();
             self.core = Core {
                 h: z,
                 v: 0.0,
@@ -606,7 +616,7 @@ impl VerticalKalman {
             Step::Same | Step::Earlier => 0.0,
         };
         let accel_age = self.accel_age_s + dt;
-        let accel = (accel_age <= self.config.accel_timeout_s).then_some(self.accel_mps2);
+        let accel = (accel_age <= self.config().accel_timeout_s).then_some(self.accel_mps2);
         // A step of 0 (an accelerometer sample at this time was just applied) leaves
         // mean and covariance as they are.
         let (mut core, dropout) = if dt > 0.0 {
@@ -615,7 +625,7 @@ impl VerticalKalman {
             (self.core, false)
         };
         let accepted_age = self.accepted_age_s + dt;
-        let stale = accepted_age > self.config.baro_timeout_s;
+        let stale = accepted_age > self.config().baro_timeout_s;
         let mut reacquire = self.reacquire_pending || dropout || stale;
 
         let y = z - core.h;
@@ -625,12 +635,12 @@ impl VerticalKalman {
         let mut consecutive = self.consecutive_rejections;
         let mut rejected = self.rejected;
         // Written so that a NaN (impossible: S >= R > 0) would count as outside.
-        let inside_gate = nis <= self.config.gate_nis;
+        let inside_gate = nis <= self.config().gate_nis;
         if !reacquire && !inside_gate {
             rejected = rejected.saturating_add(1);
             consecutive = consecutive.saturating_add(1);
             outcome = KalmanOutcome::Rejected { nis };
-            if consecutive >= self.config.reacquire_after {
+            if consecutive >= self.config().reacquire_after {
                 reacquire = true;
             }
         }
@@ -639,7 +649,7 @@ impl VerticalKalman {
             core.p.hh = r;
             core.p.hv = 0.0;
             core.p.hb = 0.0;
-            let v0 = self.config.initial_speed_sigma_mps;
+            let v0 = self.config().initial_speed_sigma_mps;
             core.p.vv = core.p.vv.max(v0 * v0);
             outcome = KalmanOutcome::Reacquired;
         } else if let KalmanOutcome::Accepted { .. } = outcome {
@@ -681,7 +691,7 @@ impl VerticalKalman {
     /// 36-byte state lands at an odd offset and is copied byte by byte on Cortex-M,
     /// 400 instructions per call, measured.)
     fn propagate(&self, dt_full: f32, accel: Option<f32>) -> (Core, bool) {
-        let cfg = &self.config;
+        let cfg = self.config();
         let dropout = dt_full > cfg.max_step_s;
         // (a comparison, not `f32::min`: that is a library call on ARMv7E-M)
         let dt = if dropout { cfg.max_step_s } else { dt_full };

@@ -144,16 +144,21 @@ pub struct HikeConfig {
 
 impl Default for HikeConfig {
     fn default() -> Self {
-        Self {
-            smoothing_time_constant_s: 2.0,
-            hysteresis_band_m: 3.0,
-            fix_time_constant_s: 30.0,
-            min_pressure_pa: 25_000.0,
-            max_pressure_pa: 110_000.0,
-            rest: RestConfig::default(),
-            tendency: TendencyConfig::default(),
-        }
+        Self::DEFAULT
     }
+}
+
+impl HikeConfig {
+    /// The defaults (the same as [`Default::default`]).
+    pub const DEFAULT: Self = Self {
+        smoothing_time_constant_s: 2.0,
+        hysteresis_band_m: 3.0,
+        fix_time_constant_s: 30.0,
+        min_pressure_pa: 25_000.0,
+        max_pressure_pa: 110_000.0,
+        rest: RestConfig::DEFAULT,
+        tendency: TendencyConfig::DEFAULT,
+    };
 }
 
 impl HikeConfig {

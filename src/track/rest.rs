@@ -86,15 +86,20 @@ pub struct RestConfig {
 
 impl Default for RestConfig {
     fn default() -> Self {
-        Self {
-            entry_window_s: 60.0,
-            entry_band_m: 1.0,
-            exit_band_m: 2.0,
-            trend_time_constant_s: 300.0,
-            max_weather_rate_m_per_h: 20.0,
-            weather_rate_memory_s: 10_800.0,
-        }
+        Self::DEFAULT
     }
+}
+
+impl RestConfig {
+    /// The defaults (the same as [`Default::default`]).
+    pub const DEFAULT: Self = Self {
+        entry_window_s: 60.0,
+        entry_band_m: 1.0,
+        exit_band_m: 2.0,
+        trend_time_constant_s: 300.0,
+        max_weather_rate_m_per_h: 20.0,
+        weather_rate_memory_s: 10_800.0,
+    };
 }
 
 impl RestConfig {

@@ -77,10 +77,15 @@ pub struct TendencyConfig {
 
 impl Default for TendencyConfig {
     fn default() -> Self {
-        Self {
-            falling_alert_hpa: 3.0,
-        }
+        Self::DEFAULT
     }
+}
+
+impl TendencyConfig {
+    /// The defaults (the same as [`Default::default`]).
+    pub const DEFAULT: Self = Self {
+        falling_alert_hpa: 3.0,
+    };
 }
 
 impl TendencyConfig {

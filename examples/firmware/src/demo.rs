@@ -4,10 +4,10 @@
 //! Two invented demo flights (demo data only, made up for this firmware):
 //!
 //! - a drone hop: `DEMO_COUNT` samples at 50 Hz (4 s), pressure and vertical
-//!   acceleration, the drone preset (`Pipeline<2>`);
+//!   acceleration, the drone preset (`Pipeline<2, &'static Settings>`);
 //! - the first minutes of a balloon ascent: `DEMO_COUNT` samples at 1 Hz, pressure,
 //!   temperature and humidity, the balloon preset with a small stored profile
-//!   (`Pipeline<PROFILE_LEVELS>`), launch elevation and latitude set.
+//!   (`Pipeline<PROFILE_LEVELS, &'static Settings>`), launch elevation and latitude set.
 //!
 //! `build.rs` makes the samples (f64 maths on the host) and stores them as f32 bit
 //! patterns; both sides then build the same `Sample`s with the functions below and run
@@ -58,31 +58,42 @@ pub fn balloon_sample(i: usize, pressure_pa: f32, temperature_c: f32, humidity_p
     }
 }
 
+/// The pipelines keep their settings in flash: a `static` borrowed by the pipeline
+/// (`Pipeline<N, &'static Settings>`), so the state in RAM holds none of them.
+pub type FlashPipeline<const N: usize> = Pipeline<N, &'static Settings>;
+
 /// The drone preset as shipped (height above the ground reference taken at rest).
-pub fn drone_pipeline() -> Result<Pipeline<2>, Error> {
-    Pipeline::new(Settings::drone())
+pub static DRONE: Settings = Settings::drone();
+
+/// The drone pipeline.
+pub fn drone_pipeline() -> Result<FlashPipeline<2>, Error> {
+    Pipeline::new(&DRONE)
 }
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The balloon preset with the launch elevation and latitude set.
-pub fn balloon_settings() -> Settings {
+pub static BALLOON: Settings = {
     let mut s = Settings::balloon();
     s.start_altitude_m = Some(LAUNCH_ELEVATION_M);
     s.latitude_deg = Some(LAUNCH_LATITUDE_DEG);
     s
-}
+};
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The balloon preset with a `PROFILE_LEVELS`-level stored profile.
-pub fn balloon_pipeline() -> Result<Pipeline<PROFILE_LEVELS>, Error> {
-    Pipeline::new(balloon_settings())
+pub fn balloon_pipeline() -> Result<FlashPipeline<PROFILE_LEVELS>, Error> {
+    Pipeline::new(&BALLOON)
 }
+
+#[cfg(any(feature = "presets", not(target_os = "none")))]
+/// The hike preset.
+pub static HIKE: Settings = Settings::hike();
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The hike preset (measured only: instruction count, no reference outputs).
 #[cfg_attr(not(target_os = "none"), allow(dead_code))]
-pub fn hike_pipeline() -> Result<Pipeline<2>, Error> {
-    Pipeline::new(Settings::hike())
+pub fn hike_pipeline() -> Result<FlashPipeline<2>, Error> {
+    Pipeline::new(&HIKE)
 }
 
 /// What the host computed for one sample, as compared on the target.

@@ -22,7 +22,7 @@ mod with_library {
     use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
 
     use crate::Timing;
-    use crate::demo::{self, DEMO_COUNT, HostOutput, PROFILE_LEVELS};
+    use crate::demo::{self, DEMO_COUNT, FlashPipeline, HostOutput, PROFILE_LEVELS};
     use crate::samples::{
         BALLOON_HOST, BALLOON_HUMIDITY_PCT, BALLOON_PRESSURE_PA, BALLOON_TEMPERATURE_C,
         DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA,
@@ -36,13 +36,13 @@ mod with_library {
     /// code shows under a library symbol in the ELF (`elf_sizes.py --symbols`) and its
     /// calls can be profiled (`profile.py`).
     #[inline(never)]
-    fn lib_process_2(pipeline: &mut Pipeline<2>, sample: &Sample) -> Output {
+    fn lib_process_2(pipeline: &mut FlashPipeline<2>, sample: &Sample) -> Output {
         pipeline.process(sample)
     }
 
     /// `Pipeline::<PROFILE_LEVELS>::process`, never inlined (see [`lib_process_2`]).
     #[inline(never)]
-    fn lib_process_64(pipeline: &mut Pipeline<PROFILE_LEVELS>, sample: &Sample) -> Output {
+    fn lib_process_64(pipeline: &mut FlashPipeline<PROFILE_LEVELS>, sample: &Sample) -> Output {
         pipeline.process(sample)
     }
 

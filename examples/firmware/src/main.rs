@@ -303,11 +303,18 @@ fn sizes() {
     );
     hprintln!("| type | bytes |");
     hprintln!("| --- | ---: |");
-    let rows: [(&str, usize); 8] = [
-        ("Pipeline<2>", size_of::<pipeline::Pipeline<2>>()),
+    let rows: [(&str, usize); 9] = [
         (
-            "Pipeline<64>",
-            size_of::<pipeline::Pipeline<{ demo::PROFILE_LEVELS }>>(),
+            "Pipeline<2, &'static Settings>",
+            size_of::<demo::FlashPipeline<2>>(),
+        ),
+        (
+            "Pipeline<64, &'static Settings>",
+            size_of::<demo::FlashPipeline<{ demo::PROFILE_LEVELS }>>(),
+        ),
+        (
+            "Pipeline<2> (settings owned)",
+            size_of::<pipeline::Pipeline<2>>(),
         ),
         ("VerticalKalman", size_of::<filter::VerticalKalman>()),
         ("FlightPhases", size_of::<flight::FlightPhases>()),
