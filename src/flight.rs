@@ -173,8 +173,13 @@ pub struct FlightPhases<S = PhaseSettings> {
     /// has held). The hold is summed in `f32` steps so that a sample needs no `f64`
     /// arithmetic beyond forming its step.
     candidate: Option<(Phase, f64, f32, f32)>,
-    last_time_s: Option<f64>,
-    apex: Option<(f64, f32)>,
+    /// Time of the latest sample, s; minus infinity before the first (not an `Option`:
+    /// 8 bytes instead of 16; not NaN, so that states compare equal with `==`).
+    last_time_s: f64,
+    /// Time (s) and height (m) of the apex; the height is minus infinity before there is
+    /// one (sample heights are finite).
+    apex_time_s: f64,
+    apex_m: f32,
     last_event: Option<PhaseEvent>,
 }
 
@@ -188,8 +193,9 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
             settings,
             phase: Phase::Ground,
             candidate: None,
-            last_time_s: None,
-            apex: None,
+            last_time_s: f64::NEG_INFINITY,
+            apex_time_s: 0.0,
+            apex_m: f32::NEG_INFINITY,
             last_event: None,
         })
     }
@@ -213,7 +219,7 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
 
     /// Highest height seen since launch and its time, `(time_s, height_m)`.
     pub fn apex(&self) -> Option<(f64, f32)> {
-        self.apex
+        (self.apex_m > f32::NEG_INFINITY).then_some((self.apex_time_s, self.apex_m))
     }
 
     /// The most recent phase change.
@@ -231,12 +237,11 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         height_m: f32,
         speed_mps: f32,
     ) -> Result<Option<PhaseEvent>, Error> {
-        let dt = match self.last_time_s {
-            None => {
-                filter::check_time(time_s)?;
-                0.0
-            }
-            Some(last) => filter::step_s(last, time_s)?,
+        let dt = if self.last_time_s == f64::NEG_INFINITY {
+            filter::check_time(time_s)?;
+            0.0
+        } else {
+            filter::step_s(self.last_time_s, time_s)?
         };
         self.update_step(time_s, dt, height_m, speed_mps)
     }
@@ -253,7 +258,7 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         if !(height_m.is_finite() && speed_mps.is_finite()) {
             return Err(Error::NotFinite);
         }
-        self.last_time_s = Some(time_s);
+        self.last_time_s = time_s;
         let s = self.settings.borrow();
         if self.phase == Phase::Burst {
             self.phase = Phase::Descent;
@@ -314,10 +319,9 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
                 }
             }
         }
-        if matches!(self.phase, Phase::Ascent | Phase::Float)
-            && self.apex.is_none_or(|(_, h)| height_m > h)
-        {
-            self.apex = Some((time_s, height_m));
+        if matches!(self.phase, Phase::Ascent | Phase::Float) && height_m > self.apex_m {
+            self.apex_time_s = time_s;
+            self.apex_m = height_m;
         }
         Ok(event)
     }

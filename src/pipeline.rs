@@ -463,7 +463,8 @@ impl Settings {
 enum TrackState {
     Flight(AscentTotals),
     #[cfg(feature = "pipeline-hike")]
-    Hike(HikeTracker),
+    /// The tracker and the smoothed vertical speed of its height, m/s.
+    Hike(HikeTracker, f32),
 }
 
 /// The estimator's state: the two estimators are never used together, so their states
@@ -595,11 +596,11 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     offset_target_m: f32,
     /// Height (after datum) of the ground reference, once frozen.
     ground_frozen: bool,
-    last_time_s: Option<f64>,
+    /// Time of the last sample taken, s; minus infinity before the first (8 bytes, not
+    /// the 16 of an `Option`).
+    last_time_s: f64,
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     last_temperature: Option<Temperature>,
-    outliers: u32,
-    hike_speed_mps: f32,
     /// Seconds covered by samples the spike gate held back since the phase tracker's
     /// last sample (it sees only the samples that are taken).
     held_back_s: f32,
@@ -624,7 +625,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 TrackState::Flight(AscentTotals::new(totals_band_m)?)
             }
             #[cfg(feature = "pipeline-hike")]
-            Tracking::Hike { hike, .. } => TrackState::Hike(HikeTracker::new(hike)?),
+            Tracking::Hike { hike, .. } => TrackState::Hike(HikeTracker::new(hike)?, 0.0),
         };
         // the latitude is checked in every build
         let _gravity = s.gravity()?;
@@ -651,11 +652,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             offset_m: 0.0,
             offset_target_m: 0.0,
             ground_frozen: false,
-            last_time_s: None,
+            last_time_s: f64::NEG_INFINITY,
             #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
             last_temperature: None,
-            outliers: 0,
-            hike_speed_mps: 0.0,
             held_back_s: 0.0,
             last_pressure_pa: 0.0,
             last: Carried::default(),
@@ -672,11 +671,16 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
     /// The last output (of the last sample taken; a zeroed output before any).
     pub fn last_output(&self) -> Output {
-        let mut out = self.carry(self.last_time_s.unwrap_or(0.0), self.last.flags);
+        let mut out = self.carry(self.last_time().unwrap_or(0.0), self.last.flags);
         if self.last.event {
             out.event = self.phases.last_event();
         }
         out
+    }
+
+    /// Time of the last sample taken, s.
+    fn last_time(&self) -> Option<f64> {
+        (self.last_time_s > f64::NEG_INFINITY).then_some(self.last_time_s)
     }
 
     /// The last output carried forward to `time_s` with `flags` (a rejected sample, or
@@ -685,7 +689,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         let (ascent_m, descent_m, tendency_hpa) = match &self.track {
             TrackState::Flight(totals) => (totals.ascent_m(), totals.descent_m(), None),
             #[cfg(feature = "pipeline-hike")]
-            TrackState::Hike(hike) => (
+            TrackState::Hike(hike, _) => (
                 hike.totals().ascent_m(),
                 hike.totals().descent_m(),
                 hike.tendency().tendency_hpa(),
@@ -719,7 +723,10 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
     /// Number of barometer samples the estimator rejected as outliers.
     pub fn outlier_count(&self) -> u32 {
-        self.outliers
+        match &self.estimator {
+            EstimatorState::Pointwise(gate) => gate.outliers,
+            EstimatorState::Kalman(k) => k.rejected_count(),
+        }
     }
 
     /// Set a new sea-level-referenced start altitude at run time (the datum). The
@@ -797,7 +804,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             return self.carry(sample.time_s, Flags::REJECTED_TIME);
         }
         let step = self
-            .last_time_s
+            .last_time()
             .map(|last| step_between(last, sample.time_s));
         let dt = match step {
             None => None,
@@ -885,7 +892,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         if let Some(known) = fix {
             if !self.is_hike() {
                 // the estimate (not the single sample) is what the fix corrects
-                let current = if self.last_time_s.is_some() {
+                let current = if self.last_time().is_some() {
                     self.last.altitude_m - offset
                 } else {
                     model_m
@@ -912,14 +919,14 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // The hike tracker is the last step that can refuse the sample; ask it now,
         // before the estimator changes.
         #[cfg(feature = "pipeline-hike")]
-        if let TrackState::Hike(hike) = &self.track {
+        if let TrackState::Hike(hike, _) = &self.track {
             if !hike.accepts(sample.time_s, raw) {
                 return self.carry(sample.time_s, Flags::REJECTED_MODEL);
             }
         }
         // the spike gate's new state, committed with the rest
         let mut new_spikes = None;
-        let known_step = self.last_time_s.zip(step);
+        let known_step = self.last_time().zip(step);
         let (height_m, speed_mps, sigma_m) = match &mut self.estimator {
             EstimatorState::Pointwise(gate_state) => {
                 if let Some(gate) = self.store.settings().spike_gate_m {
@@ -927,11 +934,11 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     if spikes.is_spike(sample.time_s, model_m, gate) {
                         // carried forward; the gate counts toward re-acquiring
                         gate_state.consecutive = spikes.consecutive.saturating_add(1);
+                        gate_state.outliers = spikes.outliers.saturating_add(1);
                         let flags = Flags(flags.0 | Flags::OUTLIER.0);
                         let out = self.carry(sample.time_s, flags);
-                        self.outliers = self.outliers.saturating_add(1);
                         // taken (flagged), so its time counts as the last one
-                        self.last_time_s = Some(sample.time_s);
+                        self.last_time_s = sample.time_s;
                         self.held_back_s += dt.unwrap_or(0.0);
                         self.last.flags = flags;
                         self.last.event = false;
@@ -1013,25 +1020,31 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // 5. Trackers, updated in place: the hike tracker's update is the last step that
         //    can refuse the sample, and it leaves the tracker unchanged when it does;
         //    nothing after it can fail.
-        #[cfg_attr(not(feature = "pipeline-hike"), allow(unused_mut))]
-        let mut hike_speed = self.hike_speed_mps;
-        let (out_height, ascent, descent, tendency) = match &mut self.track {
+        #[cfg(feature = "pipeline-hike")]
+        let first_sample = self.last_time().is_none();
+        let (out_height, speed_mps, ascent, descent, tendency) = match &mut self.track {
             TrackState::Flight(totals) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
-                (height_m, totals.ascent_m(), totals.descent_m(), None)
+                (
+                    height_m,
+                    speed_mps,
+                    totals.ascent_m(),
+                    totals.descent_m(),
+                    None,
+                )
             }
             #[cfg(feature = "pipeline-hike")]
-            TrackState::Hike(hike) => {
+            TrackState::Hike(hike, hike_speed) => {
                 match hike.update_pressure_altitude(sample.time_s, raw) {
                     Ok(mut r) => {
                         if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
                             // the first fix of a walk applies at once, later ones slew
-                            let applied = if self.last_time_s.is_none() {
+                            let applied = if first_sample {
                                 hike.set_elevation(h)
                             } else {
                                 hike.fix_elevation(h)
                             };
-                            if applied.is_ok() && self.last_time_s.is_none() {
+                            if applied.is_ok() && first_sample {
                                 r.height = h;
                             }
                         }
@@ -1047,21 +1060,17 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                         if let Some(dt) = dt {
                             if let Some(v) = difference_speed(h - self.last.altitude_m, dt) {
                                 let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
-                                hike_speed += k * (v - hike_speed);
+                                // in place: nothing after this step can refuse the sample
+                                *hike_speed += k * (v - *hike_speed);
                             }
                         }
-                        (h, r.ascent_m, r.descent_m, r.tendency_hpa)
+                        (h, *hike_speed, r.ascent_m, r.descent_m, r.tendency_hpa)
                     }
                     Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
                 }
             }
         };
 
-        let speed_mps = if self.is_hike() {
-            hike_speed
-        } else {
-            speed_mps
-        };
         // Time is validated and heights are finite here, so this cannot fail; if it
         // did, the phase tracker would keep its state (it is atomic on error).
         let event = self
@@ -1076,7 +1085,6 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             .flatten();
 
         // 6. Commit.
-        self.hike_speed_mps = hike_speed;
         self.last_pressure_pa = pressure.pa();
         match model_change {
             ModelChange::Keep => {}
@@ -1104,13 +1112,10 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             *gate_state = spikes;
         }
         self.held_back_s = 0.0;
-        self.last_time_s = Some(sample.time_s);
+        self.last_time_s = sample.time_s;
         #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
         if temperature.is_some() {
             self.last_temperature = temperature;
-        }
-        if flags.contains(Flags::OUTLIER) {
-            self.outliers = self.outliers.saturating_add(1);
         }
         self.last = Carried {
             altitude_m: out_height,
@@ -1233,7 +1238,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         match self.track {
             TrackState::Flight(_) => false,
             #[cfg(feature = "pipeline-hike")]
-            TrackState::Hike(_) => true,
+            TrackState::Hike(..) => true,
         }
     }
 
@@ -1321,6 +1326,8 @@ enum ModelChange<const N: usize> {
 struct SpikeGate {
     window: crate::filter::Median<5>,
     consecutive: u8,
+    /// Outliers held back since start.
+    outliers: u32,
     last_accept_s: f64,
 }
 
@@ -1336,6 +1343,7 @@ impl SpikeGate {
         Self {
             window: crate::filter::Median::new(),
             consecutive: 0,
+            outliers: 0,
             last_accept_s: f64::NEG_INFINITY,
         }
     }

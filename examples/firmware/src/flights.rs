@@ -17,7 +17,7 @@ mod with_library {
     use cortex_m_semihosting::hprintln;
     use isohypse::filter::{VerticalKalman, VerticalKalmanConfig};
     use isohypse::geopotential::Gravity;
-    use isohypse::pipeline::{Output, Pipeline, Sample};
+    use isohypse::pipeline::{Output, Sample};
     use isohypse::sounding::Sounding;
     use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
 
