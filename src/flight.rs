@@ -173,9 +173,10 @@ pub struct FlightPhases<S = PhaseSettings> {
     /// has held). The hold is summed in `f32` steps so that a sample needs no `f64`
     /// arithmetic beyond forming its step.
     candidate: Option<(Phase, f64, f32, f32)>,
-    /// Time of the latest sample, s; minus infinity before the first (not an `Option`:
-    /// 8 bytes instead of 16; not NaN, so that states compare equal with `==`).
+    /// Time of the latest sample, s, if `has_time` (8 bytes and a flag, not the 16 of an
+    /// `Option`).
     last_time_s: f64,
+    has_time: bool,
     /// Time (s) and height (m) of the apex; the height is minus infinity before there is
     /// one (sample heights are finite).
     apex_time_s: f64,
@@ -193,7 +194,8 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
             settings,
             phase: Phase::Ground,
             candidate: None,
-            last_time_s: f64::NEG_INFINITY,
+            last_time_s: 0.0,
+            has_time: false,
             apex_time_s: 0.0,
             apex_m: f32::NEG_INFINITY,
             last_event: None,
@@ -237,7 +239,7 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         height_m: f32,
         speed_mps: f32,
     ) -> Result<Option<PhaseEvent>, Error> {
-        let dt = if self.last_time_s == f64::NEG_INFINITY {
+        let dt = if !self.has_time {
             filter::check_time(time_s)?;
             0.0
         } else {
@@ -259,6 +261,7 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
             return Err(Error::NotFinite);
         }
         self.last_time_s = time_s;
+        self.has_time = true;
         let s = self.settings.borrow();
         if self.phase == Phase::Burst {
             self.phase = Phase::Descent;

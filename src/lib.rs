@@ -22,6 +22,19 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 //!
+//! On a device, keep the settings in flash: the presets are `const`, and a pipeline
+//! that borrows a `static` holds only its run-time state in RAM (304 bytes for the drone
+//! on a Cortex-M4F built without the other presets, instead of 536 with the settings
+//! owned; see [`pipeline::SettingsStore`]).
+//!
+//! ```
+//! use isohypse::pipeline::{Pipeline, Sample, Settings};
+//! static DRONE: Settings = Settings::drone();
+//! let mut drone = Pipeline::<2, &'static Settings>::new(&DRONE)?;
+//! assert!(drone.process(&Sample::pressure(0.0, 97_700.0)).accepted());
+//! # Ok::<(), isohypse::Error>(())
+//! ```
+//!
 //! A balloon: layer-by-layer sounding from the launch elevation with the launch latitude's
 //! gravity, flight phases, descent on the profile stored on the way up (here 256 levels).
 //!
