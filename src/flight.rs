@@ -239,11 +239,11 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         height_m: f32,
         speed_mps: f32,
     ) -> Result<Option<PhaseEvent>, Error> {
-        let dt = if !self.has_time {
+        let dt = if self.has_time {
+            filter::step_s(self.last_time_s, time_s)?
+        } else {
             filter::check_time(time_s)?;
             0.0
-        } else {
-            filter::step_s(self.last_time_s, time_s)?
         };
         self.update_step(time_s, dt, height_m, speed_mps)
     }

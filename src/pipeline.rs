@@ -480,7 +480,7 @@ enum EstimatorState<K> {
 }
 
 /// Where a [`Pipeline`] keeps its [`Settings`]: in its own state ([`Settings`], the
-/// default, 156 bytes on a 64-bit host) or borrowed (`&Settings`, for example
+/// default; 216 bytes with every pipeline option on a 64-bit host) or borrowed (`&Settings`, for example
 /// `&'static Settings` from a `static` in flash: then only a reference and the run-time
 /// changes, the start altitude and the altimeter setting, are in the state, and the
 /// Kalman filter and the phase tracker borrow their settings from it too).
@@ -513,13 +513,11 @@ impl SettingsStore for Settings {
         self
     }
     fn kalman(&self) -> Option<VerticalKalmanConfig> {
-        match self.estimator {
-            Estimator::Kalman(k) => Some(k),
-            Estimator::Off => None,
-        }
+        // the borrowed store's answer, copied
+        SettingsStore::kalman(&self).copied()
     }
     fn phases(&self) -> PhaseSettings {
-        *self.tracking.phases()
+        *SettingsStore::phases(&self)
     }
 }
 
@@ -530,6 +528,9 @@ impl<'a> SettingsStore for &'a Settings {
         self
     }
     fn kalman(&self) -> Option<&'a VerticalKalmanConfig> {
+        // (a match here: the same match in a helper on `Estimator` made the compiler
+        // stop inlining the settings check into `Pipeline::new`, 796 more bytes of
+        // flash in the drone firmware, measured)
         let s: &'a Settings = self;
         match &s.estimator {
             Estimator::Kalman(k) => Some(k),
@@ -963,17 +964,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     }
                     _ => self.last.vertical_speed_mps,
                 };
-                (
-                    raw_m,
-                    speed,
-                    model_sigma(
-                        self.store.settings(),
-                        self.start_altitude_m,
-                        pressure,
-                        column_t,
-                        raw_m,
-                    ),
-                )
+                (raw_m, speed, self.model_sigma(pressure, column_t, raw_m))
             }
             EstimatorState::Kalman(k) => {
                 // Height noise of this sample from the sensor's pressure noise.
@@ -996,17 +987,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 }
                 match k.height_speed_variance() {
                     Some((h, v, var_h)) => (h, v, crate::math::sigma_from_variance(var_h)),
-                    None => (
-                        raw_m,
-                        0.0,
-                        model_sigma(
-                            self.store.settings(),
-                            self.start_altitude_m,
-                            pressure,
-                            column_t,
-                            raw_m,
-                        ),
-                    ),
+                    None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m)),
                 }
             }
         };
@@ -1238,6 +1219,17 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 }
             }
         }
+    }
+
+    /// [`model_sigma`] with this pipeline's settings and start altitude.
+    fn model_sigma(&self, p: Pressure, column_t: f32, height_m: f32) -> f32 {
+        model_sigma(
+            self.store.settings(),
+            self.start_altitude_m,
+            p,
+            column_t,
+            height_m,
+        )
     }
 
     /// Whether the hike tracker is in use.

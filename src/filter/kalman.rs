@@ -90,9 +90,7 @@ impl VerticalKalmanConfig {
         min_height_m: -5_000.0,
         max_height_m: 86_000.0,
     };
-}
 
-impl VerticalKalmanConfig {
     /// Checks every field against its documented range.
     ///
     /// Errors: [`Error::InvalidSetting`].

@@ -159,9 +159,7 @@ impl HikeConfig {
         rest: RestConfig::DEFAULT,
         tendency: TendencyConfig::DEFAULT,
     };
-}
 
-impl HikeConfig {
     /// Checks every field: finite; time constants 0..=1 day; band as
     /// [`AscentTotals::new`]; pressure limits within the U.S. 1976 model
     /// (0.3734 Pa..=177 687 Pa) and `min < max`.

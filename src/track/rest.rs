@@ -100,9 +100,7 @@ impl RestConfig {
         max_weather_rate_m_per_h: 20.0,
         weather_rate_memory_s: 10_800.0,
     };
-}
 
-impl RestConfig {
     /// Checks every field is finite and inside its range (all > 0; windows and time
     /// constants <= 1 day; bands <= 100 m; weather rate <= 1000 m/h).
     ///

@@ -86,9 +86,7 @@ impl TendencyConfig {
     pub const DEFAULT: Self = Self {
         falling_alert_hpa: 3.0,
     };
-}
 
-impl TendencyConfig {
     /// Checks the threshold is finite and in 0 < x <= 100 hPa.
     ///
     /// Errors: [`Error::NotFinite`], [`Error::InvalidSetting`].
