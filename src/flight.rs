@@ -65,13 +65,14 @@ impl Phase {
     }
 }
 
-/// A phase change with the time and height of the sample that confirmed it.
+/// A phase change, with the time and height where its condition started to hold.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct PhaseEvent {
     /// Phase entered.
     pub phase: Phase,
-    /// Time the condition started to hold (the debounce start), s.
+    /// Time the condition started to hold (the debounce start), s: the confirming
+    /// sample's time minus the summed steps since then.
     pub time_s: f64,
     /// Height at that time, m.
     pub height_m: f32,
@@ -161,27 +162,36 @@ impl PhaseSettings {
     }
 }
 
-/// The phase state machine. State: 96 bytes (`size_of`, printed by the pipeline's
-/// size test). O(1) per sample.
+/// The phase state machine. State: 48 bytes with borrowed settings, 80 owned, on 32-bit
+/// Arm (`size_of`, printed by the pipeline's size test). O(1) per sample.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct FlightPhases<S = PhaseSettings> {
     /// The settings, owned or borrowed (`&'static PhaseSettings` keeps them in flash).
     settings: S,
-    phase: Phase,
-    /// The phase the samples argue for: (phase, start time, start height, seconds it
-    /// has held). The hold is summed in `f32` steps so that a sample needs no `f64`
-    /// arithmetic beyond forming its step.
-    candidate: Option<(Phase, f64, f32, f32)>,
     /// Time of the latest sample, s, if `has_time` (8 bytes and a flag, not the 16 of an
     /// `Option`).
     last_time_s: f64,
-    has_time: bool,
     /// Time (s) and height (m) of the apex; the height is minus infinity before there is
     /// one (sample heights are finite).
     apex_time_s: f64,
     apex_m: f32,
-    last_event: Option<PhaseEvent>,
+    /// The phase the samples argue for, the height where they started to, and how long
+    /// (s) they have held. The hold is summed in `f32` steps so that a sample needs no
+    /// `f64` arithmetic beyond forming its step; the start time is the latest sample's
+    /// time minus the hold, so it is not kept (the state is kept as flat fields rather
+    /// than an `Option` of a tuple: 48 bytes instead of 72 with borrowed settings on
+    /// 32-bit Arm).
+    candidate: Option<Phase>,
+    candidate_m: f32,
+    held_s: f32,
+    /// The most recent phase change: phase, start time (s) and height (m).
+    event_phase: Option<Phase>,
+    event_time_s: f64,
+    event_m: f32,
+    /// Current phase.
+    phase: Phase,
+    has_time: bool,
 }
 
 impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
@@ -192,13 +202,17 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         settings.borrow().validate()?;
         Ok(Self {
             settings,
-            phase: Phase::Ground,
-            candidate: None,
             last_time_s: 0.0,
-            has_time: false,
             apex_time_s: 0.0,
             apex_m: f32::NEG_INFINITY,
-            last_event: None,
+            candidate: None,
+            candidate_m: 0.0,
+            held_s: 0.0,
+            event_phase: None,
+            event_time_s: 0.0,
+            event_m: 0.0,
+            phase: Phase::Ground,
+            has_time: false,
         })
     }
 
@@ -226,7 +240,11 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
 
     /// The most recent phase change.
     pub fn last_event(&self) -> Option<PhaseEvent> {
-        self.last_event
+        self.event_phase.map(|phase| PhaseEvent {
+            phase,
+            time_s: self.event_time_s,
+            height_m: self.event_m,
+        })
     }
 
     /// Feed one sample: time (s, strictly increasing), height (m) and vertical speed
@@ -296,29 +314,36 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         };
         let mut event = None;
         match wanted {
-            None => self.candidate = None,
+            None => self.clear_candidate(),
             Some((next, hold)) => {
-                let (start_t, start_h, held) = match self.candidate {
+                let held = match self.candidate {
                     // a burst candidate also counts toward a plain descent and back
-                    Some((c, t0, h0, held))
+                    Some(c)
                         if c == next
                             || (matches!(c, Phase::Burst | Phase::Descent)
                                 && matches!(next, Phase::Burst | Phase::Descent)) =>
                     {
-                        (t0, h0, held + dt)
+                        self.held_s + dt
                     }
-                    _ => (time_s, height_m, 0.0),
+                    _ => {
+                        self.candidate_m = height_m;
+                        0.0
+                    }
                 };
-                self.candidate = Some((next, start_t, start_h, held));
+                self.candidate = Some(next);
+                self.held_s = held;
                 if held >= hold {
-                    self.phase = next;
-                    self.candidate = None;
-                    event = Some(PhaseEvent {
+                    let e = PhaseEvent {
                         phase: next,
-                        time_s: start_t,
-                        height_m: start_h,
-                    });
-                    self.last_event = event;
+                        time_s: time_s - f64::from(held),
+                        height_m: self.candidate_m,
+                    };
+                    self.phase = next;
+                    self.clear_candidate();
+                    self.event_phase = Some(next);
+                    self.event_time_s = e.time_s;
+                    self.event_m = e.height_m;
+                    event = Some(e);
                 }
             }
         }
@@ -327,6 +352,14 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
             self.apex_m = height_m;
         }
         Ok(event)
+    }
+
+    /// No candidate (its height and hold zeroed, so that equal histories give equal
+    /// states).
+    fn clear_candidate(&mut self) {
+        self.candidate = None;
+        self.candidate_m = 0.0;
+        self.held_s = 0.0;
     }
 }
 

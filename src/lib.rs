@@ -125,6 +125,7 @@
 )]
 
 pub mod atmosphere;
+mod bits;
 pub mod datum;
 pub mod error;
 pub mod filter;

@@ -25,6 +25,7 @@
 
 use crate::Error;
 use crate::atmosphere::{STANDARD_GRAVITY, US_1976, US_1976_GAS_CONSTANT};
+use crate::bits::Bits;
 use crate::datum::AltimeterSetting;
 use crate::filter::{
     GroundReference, GroundReferenceConfig, KalmanOutcome, Step, VerticalKalman,
@@ -554,6 +555,11 @@ impl Tracking {
     }
 }
 
+/// Masks of [`Pipeline`]'s yes/no state.
+const GROUND_FROZEN: u8 = 1;
+const HAS_TIME: u8 = 2;
+const LAST_EVENT: u8 = 4;
+
 /// What [`Pipeline`] keeps of its last output to carry it forward (the phase, totals
 /// and tendency are read from the trackers).
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -564,8 +570,6 @@ struct Carried {
     vertical_speed_mps: f32,
     altitude_sigma_m: f32,
     flags: Flags,
-    /// The last sample confirmed the phase tracker's last event.
-    event: bool,
 }
 
 /// The composed per-sample pipeline; `N` is the capacity of the balloon's stored
@@ -595,12 +599,9 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     /// Datum offset added to the model height, m, and its target (fixes slew to it).
     offset_m: f32,
     offset_target_m: f32,
-    /// Height (after datum) of the ground reference, once frozen.
-    ground_frozen: bool,
-    /// Time of the last sample taken, s, if `has_time` (8 bytes and a flag that fits
-    /// beside the others, not the 16 of an `Option`).
+    /// Time of the last sample taken, s, if `HAS_TIME` is set (8 bytes and a bit, not
+    /// the 16 of an `Option`).
     last_time_s: f64,
-    has_time: bool,
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     last_temperature: Option<Temperature>,
     /// Seconds covered by samples the spike gate held back since the phase tracker's
@@ -608,6 +609,10 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     held_back_s: f32,
     last_pressure_pa: f32,
     last: Carried,
+    /// Yes/no state: `GROUND_FROZEN` (the height of the ground reference is fixed),
+    /// `HAS_TIME`, `LAST_EVENT` (the last sample confirmed the phase tracker's last
+    /// event). One byte for the three.
+    bits: Bits,
 }
 
 impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
@@ -653,14 +658,13 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             track,
             offset_m: 0.0,
             offset_target_m: 0.0,
-            ground_frozen: false,
             last_time_s: 0.0,
-            has_time: false,
             #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
             last_temperature: None,
             held_back_s: 0.0,
             last_pressure_pa: 0.0,
             last: Carried::default(),
+            bits: Bits::NONE,
         })
     }
 
@@ -675,7 +679,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// The last output (of the last sample taken; a zeroed output before any).
     pub fn last_output(&self) -> Output {
         let mut out = self.carry(self.last_time().unwrap_or(0.0), self.last.flags);
-        if self.last.event {
+        if self.bits.get(LAST_EVENT) {
             out.event = self.phases.last_event();
         }
         out
@@ -686,7 +690,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // A flag, not a test of the time against a sentinel: the compiler turns a bit
         // test against an infinity into an `f64` comparison, a library call on the
         // Cortex-M4F (56 instructions a call, measured).
-        self.has_time.then_some(self.last_time_s)
+        self.bits.get(HAS_TIME).then_some(self.last_time_s)
     }
 
     /// The last output carried forward to `time_s` with `flags` (a rejected sample, or
@@ -743,7 +747,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         s.start_altitude_m = start_altitude_m;
         s.validate()?;
         self.start_altitude_m = start_altitude_m;
-        self.ground_frozen = false;
+        self.bits.set(GROUND_FROZEN, false);
         self.ground.rezero();
         Ok(())
     }
@@ -767,7 +771,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             let new = setting.height(p)?;
             self.offset_m -= new.meters() - old.meters();
         }
-        if self.start_altitude_m.is_some() && !self.ground_frozen {
+        if self.start_altitude_m.is_some() && !self.bits.get(GROUND_FROZEN) {
             // the ground reference averaged heights of the old setting: take it anew
             self.ground.rezero();
         }
@@ -779,7 +783,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// re-arming).
     pub fn rezero(&mut self) {
         self.ground.rezero();
-        self.ground_frozen = false;
+        self.bits.set(GROUND_FROZEN, false);
     }
 
     /// Flag a barometer disturbance (propeller wash, ground effect): the Kalman filter
@@ -876,7 +880,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
         //    once the estimator has accepted it and the vehicle is at rest), then fixes.
         let mut ground = self.ground;
-        let mut ground_frozen = self.ground_frozen;
+        let mut ground_frozen = self.bits.get(GROUND_FROZEN);
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
         let averaging = self.start_altitude_m.is_some()
@@ -945,10 +949,10 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                         let out = self.carry(sample.time_s, flags);
                         // taken (flagged), so its time counts as the last one
                         self.last_time_s = sample.time_s;
-                        self.has_time = true;
+                        self.bits.set(HAS_TIME, true);
                         self.held_back_s += dt.unwrap_or(0.0);
                         self.last.flags = flags;
-                        self.last.event = false;
+                        self.bits.set(LAST_EVENT, false);
                         return out;
                     }
                     spikes.accept(sample.time_s, model_m);
@@ -1090,7 +1094,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             }
         }
         self.ground = ground;
-        self.ground_frozen = ground_frozen;
+        self.bits.set(GROUND_FROZEN, ground_frozen);
         self.offset_m = offset;
         self.offset_target_m = offset_target;
         if let (Some(spikes), EstimatorState::Pointwise(gate_state)) =
@@ -1100,7 +1104,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         }
         self.held_back_s = 0.0;
         self.last_time_s = sample.time_s;
-        self.has_time = true;
+        self.bits.set(HAS_TIME, true);
         #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
         if temperature.is_some() {
             self.last_temperature = temperature;
@@ -1111,8 +1115,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             vertical_speed_mps: speed_mps,
             altitude_sigma_m: sigma_m,
             flags,
-            event: event.is_some(),
         };
+        self.bits.set(LAST_EVENT, event.is_some());
         Output {
             time_s: sample.time_s,
             altitude_m: out_height,

@@ -616,10 +616,10 @@ fn state_sizes() {
         assert_eq!(size_of::<Median<5>>(), 8 * 5 + 16);
         assert_eq!(size_of::<OnePole>(), 24);
         assert_eq!(size_of::<AlphaBeta>(), 32);
-        assert_eq!(size_of::<GroundReference>(), 48);
+        assert_eq!(size_of::<GroundReference>(), 40);
         assert_eq!(size_of::<MovingAverage<8>>(), 72);
         assert_eq!(size_of::<MovingAverage<5>>(), 56);
-        assert_eq!(size_of::<VerticalKalman>(), 136);
+        assert_eq!(size_of::<VerticalKalman>(), 128);
     }
 }
 

@@ -129,7 +129,7 @@ for backend in $BACKENDS; do
             -semihosting-config enable=on,target=native \
             -icount shift=0 \
             -kernel "$out/$name-size-drone.elf" >"$out/$name-drone.run.txt" 2>&1 || rc=$?
-        grep -E "^check |^\| Pipeline<2" "$out/$name-drone.run.txt" || true
+        grep -E "^check |^\| Pipeline<2|^goal: pipeline state" "$out/$name-drone.run.txt" || true
         if [ "$rc" != 0 ]; then
             cat "$out/$name-drone.run.txt" >&2
             echo "FAIL: $name-size-drone exited with status $rc (124 = timeout)" >&2

@@ -39,7 +39,7 @@ impl Default for GroundReferenceConfig {
 /// (Neumaier 1974) so that a long wait does not lose precision.
 ///
 /// * Time per sample: O(1).
-/// * State: 48 bytes on a 64-bit host (two `f64` times, five `f32`, a count, flags).
+/// * State: 40 bytes (an `f64` time, five `f32`, a count, a flag).
 ///
 /// ```
 /// use isohypse::{filter::{GroundReference, GroundReferenceConfig}, Height};
@@ -56,14 +56,20 @@ impl Default for GroundReferenceConfig {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct GroundReference {
     config: GroundReferenceConfig,
-    first_time_s: f64,
+    /// Time of the latest sample, s.
     last_time_s: f64,
+    /// Time from the first sample to the latest, s, summed in `f32` steps (no `f64`
+    /// time kept for it, no `f64` comparison per sample).
+    span_s: f32,
+    /// The mean is `anchor_m + (sum + comp) / count`; once armed, `anchor_m` is the
+    /// fixed reference and `sum` and `comp` are zero (so the mean stays the same, and
+    /// the reference needs no field of its own: 40 bytes, not 48).
     anchor_m: f32,
     sum: f32,
     comp: f32,
     count: u32,
-    /// Fixed reference after [`Self::arm`].
-    armed_m: Option<f32>,
+    /// Fixed by [`Self::arm`].
+    armed: bool,
 }
 
 impl GroundReference {
@@ -85,13 +91,13 @@ impl GroundReference {
     const fn empty(config: GroundReferenceConfig) -> Self {
         Self {
             config,
-            first_time_s: 0.0,
             last_time_s: 0.0,
+            span_s: 0.0,
             anchor_m: 0.0,
             sum: 0.0,
             comp: 0.0,
             count: 0,
-            armed_m: None,
+            armed: false,
         }
     }
 
@@ -102,16 +108,16 @@ impl GroundReference {
     /// unchanged.
     pub fn push(&mut self, time_s: f64, height: Height) -> Result<bool, Error> {
         let z = height.meters();
-        if self.count == 0 {
+        let dt = if self.count == 0 {
             super::check_time(time_s)?;
+            0.0
         } else {
-            step_s(self.last_time_s, time_s)?;
-        }
-        if self.armed_m.is_some() {
+            step_s(self.last_time_s, time_s)?
+        };
+        if self.armed {
             return Ok(false);
         }
         if self.count == 0 {
-            self.first_time_s = time_s;
             self.anchor_m = z;
         }
         let d = z - self.anchor_m;
@@ -124,15 +130,14 @@ impl GroundReference {
         self.sum = t;
         self.comp += c;
         self.count = self.count.saturating_add(1);
+        self.span_s += dt;
         self.last_time_s = time_s;
         Ok(true)
     }
 
     /// Whether enough samples over a long enough span have been averaged.
     pub fn is_ready(&self) -> bool {
-        self.count >= self.config.min_samples
-            && (self.config.min_duration_s <= 0.0
-                || self.last_time_s - self.first_time_s >= f64::from(self.config.min_duration_s))
+        self.count >= self.config.min_samples && self.span_s >= self.config.min_duration_s
     }
 
     /// Mean of the samples averaged so far.
@@ -160,22 +165,29 @@ impl GroundReference {
     /// Errors: [`Error::NotEnoughData`] until [`Self::is_ready`]; the state is
     /// unchanged.
     pub fn arm(&mut self) -> Result<Height, Error> {
-        if let Some(r) = self.armed_m {
-            return Height::from_meters(r);
+        if self.armed {
+            return Height::from_meters(self.anchor_m);
         }
         let r = self.mean()?;
-        self.armed_m = Some(r.meters());
+        self.anchor_m = r.meters();
+        self.sum = 0.0;
+        self.comp = 0.0;
+        self.armed = true;
         Ok(r)
     }
 
     /// The fixed reference, `None` until armed.
     pub fn reference(&self) -> Option<Height> {
-        self.armed_m.and_then(|r| Height::from_meters(r).ok())
+        if self.armed {
+            Height::from_meters(self.anchor_m).ok()
+        } else {
+            None
+        }
     }
 
     /// Whether the reference is fixed.
     pub const fn is_armed(&self) -> bool {
-        self.armed_m.is_some()
+        self.armed
     }
 
     /// Number of samples averaged.
@@ -188,9 +200,10 @@ impl GroundReference {
     ///
     /// Errors: [`Error::NotEnoughData`] before the reference is ready.
     pub fn height_above(&self, height: Height) -> Result<Height, Error> {
-        let r = match self.armed_m {
-            Some(r) => r,
-            None => self.mean()?.meters(),
+        let r = if self.armed {
+            self.anchor_m
+        } else {
+            self.mean()?.meters()
         };
         Height::from_meters(height.meters() - r)
     }

@@ -1,8 +1,16 @@
 //! Kalman filter over height, vertical speed and accelerometer bias.
 
 use super::Step;
+use crate::bits::Bits;
 use crate::{Error, Height, VerticalSpeed};
 use core::borrow::Borrow;
+
+/// Masks of [`VerticalKalman`]'s yes/no state.
+const BARO_AT_CORE: u8 = 1;
+const ACCEL_AT_CORE: u8 = 2;
+const INITIALIZED: u8 = 4;
+const DISTURBED: u8 = 8;
+const REACQUIRE_PENDING: u8 = 16;
 
 /// Settings of a [`VerticalKalman`]. All fields are in SI units; [`Default`] gives
 /// values for a small multirotor with a MEMS barometer and accelerometer.
@@ -257,7 +265,7 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 /// # Cost
 ///
 /// O(1) per sample, no `exp` or `sqrt` (only in [`Self::estimate`]). State: see
-/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 136 bytes on a 64-bit
+/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 128 bytes on a 64-bit
 /// host, of which 60 are the configuration).
 ///
 /// ```
@@ -292,14 +300,12 @@ pub struct VerticalKalman<C = VerticalKalmanConfig> {
     accel_age_s: f32,
     /// Age of the latest accepted barometer sample at `time_s`, s.
     accepted_age_s: f32,
-    /// The latest barometer sample (accepted or not) is at `time_s`.
-    baro_at_core: bool,
-    /// The latest accelerometer sample is at `time_s`. (Not `accel_age_s == 0`: a step
-    /// below the smallest `f32`, 1.4e-45 s, is later but adds 0 to the age.)
-    accel_at_core: bool,
-    initialized: bool,
-    disturbed: bool,
-    reacquire_pending: bool,
+    /// Yes/no state, one bit each (see the `*_AT_CORE`, `INITIALIZED`, ... masks): the
+    /// latest barometer / accelerometer sample is at `time_s`, initialised, barometer
+    /// disturbed, re-acquisition pending. (Whether the accelerometer sample is at
+    /// `time_s` is a flag, not `accel_age_s == 0`: a step below the smallest `f32`,
+    /// 1.4e-45 s, is later but adds 0 to the age.)
+    bits: Bits,
     consecutive_rejections: u16,
     rejected: u32,
     reacquisitions: u32,
@@ -332,11 +338,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             accel_mps2: 0.0,
             accel_age_s: f32::INFINITY,
             accepted_age_s: 0.0,
-            baro_at_core: false,
-            accel_at_core: false,
-            initialized: false,
-            disturbed: false,
-            reacquire_pending: false,
+            bits: Bits::NONE,
             consecutive_rejections: 0,
             rejected: 0,
             reacquisitions: 0,
@@ -383,15 +385,15 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             _ if !self.has_time() => 0.0,
             Step::Later(dt) => dt,
             // equal times of the two streams are fine, not two accelerometer samples
-            Step::Same if !self.accel_at_core => 0.0,
+            Step::Same if !self.bits.get(ACCEL_AT_CORE) => 0.0,
             Step::Same | Step::Earlier => return Err(Error::NotIncreasing),
         };
-        if !self.initialized {
+        if !self.bits.get(INITIALIZED) {
             // before the first barometer sample the accelerometer is only remembered
             self.time_s = t;
             self.accel_mps2 = accel_up_mps2;
             self.accel_age_s = 0.0;
-            self.accel_at_core = true;
+            self.bits.set(ACCEL_AT_CORE, true);
             return Ok(());
         }
         let (core, dropout) = self.propagate(dt, Some(accel_up_mps2));
@@ -399,14 +401,16 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             return Err(Error::NotFinite);
         }
         self.core = core;
-        self.reacquire_pending |= dropout;
+        if dropout {
+            self.bits.set(REACQUIRE_PENDING, true);
+        }
         self.time_s = t;
         self.accel_mps2 = accel_up_mps2;
         self.accel_age_s = 0.0;
-        self.accel_at_core = true;
+        self.bits.set(ACCEL_AT_CORE, true);
         self.accepted_age_s += dt;
         if matches!(step, Step::Later(_)) {
-            self.baro_at_core = false;
+            self.bits.set(BARO_AT_CORE, false);
         }
         Ok(())
     }
@@ -429,7 +433,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// The filter has a time: it is initialised, or has remembered an accelerometer
     /// sample.
     fn has_time(&self) -> bool {
-        self.initialized || self.accel_age_s.is_finite()
+        self.bits.get(INITIALIZED) || self.accel_age_s.is_finite()
     }
 
     /// The step from the filter's time to `t` (`Later(0)` before it has a time).
@@ -479,7 +483,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         if !(sigma_m.is_finite() && sigma_m > 0.0) {
             return Err(Error::InvalidSetting);
         }
-        let sigma = if self.disturbed {
+        let sigma = if self.bits.get(DISTURBED) {
             sigma_m * self.config().disturbed_sigma_scale
         } else {
             sigma_m
@@ -498,9 +502,9 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         }
         let time_ok = match step {
             // before the first barometer sample only an accelerometer sample orders it
-            Step::Earlier => !self.initialized && !self.accel_age_s.is_finite(),
+            Step::Earlier => !self.bits.get(INITIALIZED) && !self.accel_age_s.is_finite(),
             Step::Later(_) => true,
-            Step::Same => !self.initialized || !self.baro_at_core,
+            Step::Same => !self.bits.get(INITIALIZED) || !self.bits.get(BARO_AT_CORE),
         };
         if time_ok {
             Ok(())
@@ -550,7 +554,9 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// `known.0` to `t`) when the filter's time is that time.
     pub(crate) fn step_reusing(&self, t: f64, known: Option<(f64, Step)>) -> Step {
         match known {
-            Some((from, step)) if self.initialized && from.to_bits() == self.time_s.to_bits() => {
+            Some((from, step))
+                if self.bits.get(INITIALIZED) && from.to_bits() == self.time_s.to_bits() =>
+            {
                 step
             }
             _ => self.step_to(t),
@@ -578,7 +584,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         z: f32,
         r: f32,
     ) -> Result<KalmanOutcome, Error> {
-        if !self.initialized {
+        if !self.bits.get(INITIALIZED) {
             // ordered by `check_correct`; the accelerometer sample's age moves on
             let age = match step {
                 Step::Later(dt) => self.accel_age_s + dt,
@@ -600,12 +606,12 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             };
             self.time_s = t;
             self.accel_age_s = age;
-            self.baro_at_core = true;
+            self.bits.set(BARO_AT_CORE, true);
             if matches!(step, Step::Later(_)) {
-                self.accel_at_core = false;
+                self.bits.set(ACCEL_AT_CORE, false);
             }
             self.accepted_age_s = 0.0;
-            self.initialized = true;
+            self.bits.set(INITIALIZED, true);
             return Ok(KalmanOutcome::Initialized);
         }
         let dt = match step {
@@ -624,7 +630,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         };
         let accepted_age = self.accepted_age_s + dt;
         let stale = accepted_age > self.config().baro_timeout_s;
-        let mut reacquire = self.reacquire_pending || dropout || stale;
+        let mut reacquire = self.bits.get(REACQUIRE_PENDING) || dropout || stale;
 
         let y = z - core.h;
         let s = core.p.hh + r;
@@ -659,9 +665,9 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         // Commit.
         self.core = core;
         self.time_s = t;
-        self.baro_at_core = true;
+        self.bits.set(BARO_AT_CORE, true);
         if matches!(step, Step::Later(_)) {
-            self.accel_at_core = false;
+            self.bits.set(ACCEL_AT_CORE, false);
         }
         self.accel_age_s = accel_age;
         self.rejected = rejected;
@@ -672,7 +678,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             }
             KalmanOutcome::Reacquired => {
                 self.consecutive_rejections = 0;
-                self.reacquire_pending = false;
+                self.bits.set(REACQUIRE_PENDING, false);
                 self.reacquisitions = self.reacquisitions.saturating_add(1);
                 self.accepted_age_s = 0.0;
             }
@@ -801,17 +807,17 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// `disturbed_sigma_scale` times larger, so the filter leans on the accelerometer
     /// and gates less.
     pub fn set_baro_disturbed(&mut self, disturbed: bool) {
-        self.disturbed = disturbed;
+        self.bits.set(DISTURBED, disturbed);
     }
 
     /// Whether a barometer disturbance is flagged.
     pub const fn is_baro_disturbed(&self) -> bool {
-        self.disturbed
+        self.bits.get(DISTURBED)
     }
 
     /// The estimate at the latest sample, `None` before the first barometer sample.
     pub fn estimate(&self) -> Option<VerticalEstimate> {
-        if !self.initialized {
+        if !self.bits.get(INITIALIZED) {
             return None;
         }
         let c = &self.core;
@@ -829,7 +835,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// `None` before the first barometer sample: [`Self::estimate`] without its two
     /// square roots.
     pub(crate) fn height_speed_variance(&self) -> Option<(f32, f32, f32)> {
-        self.initialized
+        self.bits
+            .get(INITIALIZED)
             .then_some((self.core.h, self.core.v, self.core.p.hh))
     }
 
@@ -851,11 +858,11 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// Forgets the estimate (keeps the settings and the disturbance flag); the next
     /// barometer sample initialises again.
     pub fn reset(&mut self) {
-        let disturbed = self.disturbed;
+        let disturbed = self.bits.get(DISTURBED);
         if let Ok(fresh) = Self::new(self.config) {
             *self = fresh;
         }
-        self.disturbed = disturbed;
+        self.bits.set(DISTURBED, disturbed);
     }
 }
 
