@@ -23,8 +23,8 @@
 //! ```
 //!
 //! On a device, keep the settings in flash: the presets are `const`, and a pipeline
-//! that borrows a `static` holds only its run-time state in RAM (304 bytes for the drone
-//! on a Cortex-M4F built without the other presets, instead of 536 with the settings
+//! that borrows a `static` holds only its run-time state in RAM (256 bytes for the drone
+//! on a Cortex-M4F built without the other presets, instead of 504 with the settings
 //! owned; see [`pipeline::SettingsStore`]).
 //!
 //! ```

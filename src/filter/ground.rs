@@ -39,7 +39,7 @@ impl Default for GroundReferenceConfig {
 /// (Neumaier 1974) so that a long wait does not lose precision.
 ///
 /// * Time per sample: O(1).
-/// * State: 40 bytes (an `f64` time, five `f32`, a count, a flag).
+/// * State: 40 bytes (an `f64` time, five `f32`, two counts, a flag).
 ///
 /// ```
 /// use isohypse::{filter::{GroundReference, GroundReferenceConfig}, Height};
