@@ -70,6 +70,14 @@ build() {
     cp "$CARGO_TARGET_DIR/$target/release/isohypse-firmware" "$out/$name.elf"
 }
 
+# build_probe TARGET NAME CARGO-FEATURE-ARGS...: the flash probe (src/bin/probe.rs)
+build_probe() {
+    local target="$1" name="$2"
+    shift 2
+    cargo build --quiet --release --target "$target" --bin probe "$@"
+    cp "$CARGO_TARGET_DIR/$target/release/probe" "$out/$name.elf"
+}
+
 features_for() { # backend -> cargo args
     if [ "$1" = micromath ]; then echo "--features micromath"; fi
 }
@@ -93,6 +101,11 @@ for backend in $BACKENDS; do
             $(features_for "$backend")
         # shellcheck disable=SC2046
         build "$target" "$name-size-baseline" --no-default-features --features baseline-only \
+            $(features_for "$backend")
+        # shellcheck disable=SC2046
+        build_probe "$target" "$name-probe" --no-default-features $(features_for "$backend")
+        # shellcheck disable=SC2046
+        build_probe "$target" "$name-probe-empty" --no-default-features --features probe-empty \
             $(features_for "$backend")
 
         say "run $name on QEMU ($(core_name "$target"))"
@@ -134,6 +147,22 @@ for backend in $BACKENDS; do
             cat "$out/$name-drone.run.txt" >&2
             echo "FAIL: $name-size-drone exited with status $rc (124 = timeout)" >&2
             status=1
+        fi
+
+        # The flash probe runs its eight samples through the pipeline and exits.
+        rc=0
+        # shellcheck disable=SC2046
+        timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$target") \
+            -nographic -monitor none -serial none \
+            -semihosting-config enable=on,target=native \
+            -icount shift=0 \
+            -kernel "$out/$name-probe.elf" >"$out/$name-probe.run.txt" 2>&1 || rc=$?
+        if [ "$rc" != 0 ]; then
+            cat "$out/$name-probe.run.txt" >&2
+            echo "FAIL: $name-probe exited with status $rc (124 = timeout)" >&2
+            status=1
+        else
+            echo "flash probe ($name): ran, exit status 0"
         fi
     done
 done
@@ -215,6 +244,7 @@ for backend in $BACKENDS; do
     for target in $TARGETS; do
         pairs+=("$(core_name "$target") $target $backend, all rows (Pipeline<2> + Pipeline<64>, settings in flash)=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
         pairs+=("$(core_name "$target") $target $backend, drone pipeline only (Pipeline<2, &'static Settings>)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
+        pairs+=("$(core_name "$target") $target $backend, flash probe: drone pipeline alone minus an empty loop (src/bin/probe.rs)=$out/$target-$backend-probe.elf:$out/$target-$backend-probe-empty.elf")
     done
 done
 python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"

@@ -69,36 +69,46 @@ impl<const N: usize> Median<N> {
         }
         let mut len = self.len;
         if len == N {
-            // Remove the oldest sample (the one about to be overwritten) from `sorted`.
+            // Remove the oldest sample (the one about to be overwritten) from `sorted`:
+            // find it and shift the values after it down by one.
             let old = self.window.get(self.head).copied().unwrap_or(f32::NAN);
-            let pos = self
+            let mut i = self
                 .sorted
                 .iter()
                 .take(len)
                 .position(|&v| v == old)
                 .unwrap_or(len - 1);
-            if let Some(tail) = self.sorted.get_mut(pos..len) {
-                // guarded so the no-panic check can see `rotate_left` cannot assert
-                if !tail.is_empty() {
-                    tail.rotate_left(1);
+            while i + 1 < len {
+                let Some(&next) = self.sorted.get(i + 1) else {
+                    break;
+                };
+                if let Some(slot) = self.sorted.get_mut(i) {
+                    *slot = next;
                 }
+                i += 1;
             }
             len -= 1;
         }
-        // Insert the new sample in order: write it after the sorted part, rotate it in.
-        let pos = self
-            .sorted
-            .iter()
-            .take(len)
-            .take_while(|&&v| v <= x)
-            .count();
-        if let Some(slot) = self.sorted.get_mut(len) {
-            *slot = x;
-        }
-        if let Some(tail) = self.sorted.get_mut(pos..=len) {
-            if !tail.is_empty() {
-                tail.rotate_right(1);
+        // Insert the new sample in order, after equal values: shift the larger values
+        // up by one from the end of the sorted part. (Element by element with checked
+        // access rather than `rotate_right`: at opt-level "s" on Cortex-M the compiler
+        // kept a panic path in the rotation, and with it 1.8 KB of panic formatting in
+        // the firmware, seen in the flash probe.)
+        let mut i = len;
+        while i > 0 {
+            let Some(&prev) = self.sorted.get(i - 1) else {
+                break;
+            };
+            if prev <= x {
+                break;
             }
+            if let Some(slot) = self.sorted.get_mut(i) {
+                *slot = prev;
+            }
+            i -= 1;
+        }
+        if let Some(slot) = self.sorted.get_mut(i) {
+            *slot = x;
         }
         self.len = len + 1;
         if let Some(slot) = self.window.get_mut(self.head) {
@@ -229,5 +239,39 @@ mod tests {
         assert_eq!(m.value(), Some(5.0));
         m.clear();
         assert!(m.is_empty());
+    }
+
+    /// The median of the last `N` values by sorting a copy of them (the definition).
+    fn brute_median<const N: usize>(history: &[f32]) -> f32 {
+        let start = history.len().saturating_sub(N);
+        let mut w: heapless::Vec<f32, N> = heapless::Vec::new();
+        for &x in &history[start..] {
+            w.push(x).unwrap();
+        }
+        w.sort_unstable_by(|a, b| a.partial_cmp(b).unwrap());
+        let n = w.len();
+        if n % 2 == 1 {
+            w[n / 2]
+        } else {
+            w[n / 2 - 1] + 0.5 * (w[n / 2] - w[n / 2 - 1])
+        }
+    }
+
+    #[test]
+    fn equals_the_sorted_window_with_repeats() {
+        // small integers so that repeated values (the removal's search) are frequent
+        let mut x: u32 = 12345;
+        let mut history: heapless::Vec<f32, 512> = heapless::Vec::new();
+        let mut m5 = Median::<5>::new();
+        let mut m4 = Median::<4>::new();
+        let mut m1 = Median::<1>::new();
+        for _ in 0..500 {
+            x = x.wrapping_mul(1_103_515_245).wrapping_add(12_345); // LCG (ANSI C example)
+            let v = ((x >> 16) % 7) as f32 - 3.0;
+            history.push(v).unwrap();
+            assert_eq!(m5.push(v).unwrap(), brute_median::<5>(&history));
+            assert_eq!(m4.push(v).unwrap(), brute_median::<4>(&history));
+            assert_eq!(m1.push(v).unwrap(), v);
+        }
     }
 }
