@@ -76,30 +76,29 @@ pub(crate) fn step_between(last: f64, now: f64) -> Step {
     if now.to_bits() == last.to_bits() {
         return Step::Same;
     }
-    if let Some(dt) = same_binade_step(last, now) {
-        return Step::Later(if dt.to_bits() > MAX_STEP_S.to_bits() {
-            MAX_STEP_S
-        } else {
-            dt
-        });
-    }
-    let d = now - last;
-    if d.is_sign_negative() {
-        // also -0.0: `now` is then `-0.0` and `last` `+0.0`, the same time
-        return if d.to_bits() << 1 == 0 {
-            Step::Same
-        } else {
-            Step::Earlier
-        };
-    }
-    if d.to_bits() == 0 {
-        return Step::Same;
-    }
-    // A positive step below the smallest `f32` (1.4e-45 s) narrows to 0: still later.
+    let dt = match same_binade_step(last, now) {
+        Some(dt) => dt,
+        None => {
+            let d = now - last;
+            if d.is_sign_negative() {
+                // also -0.0: `now` is then `-0.0` and `last` `+0.0`, the same time
+                return if d.to_bits() << 1 == 0 {
+                    Step::Same
+                } else {
+                    Step::Earlier
+                };
+            }
+            if d.to_bits() == 0 {
+                return Step::Same;
+            }
+            // A positive step below the smallest `f32` (1.4e-45 s) narrows to 0: still
+            // later.
+            d as f32
+        }
+    };
     // Capped by comparing the bits (positive floats order as their bit patterns): an
     // `f32` comparison here would be folded by the compiler into an `f64` one, a
     // library call on a single-precision FPU, and `f32::min` is one on ARMv7E-M.
-    let dt = d as f32;
     Step::Later(if dt.to_bits() > MAX_STEP_S.to_bits() {
         MAX_STEP_S
     } else {

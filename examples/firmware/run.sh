@@ -78,6 +78,18 @@ build_probe() {
     cp "$CARGO_TARGET_DIR/$target/release/probe" "$out/$name.elf"
 }
 
+# run_elf TARGET ELF LOG: runs ELF on the target's QEMU board with the instruction count
+# on, output to LOG; sets rc to QEMU's exit status (124 = timeout).
+run_elf() {
+    rc=0
+    # shellcheck disable=SC2046
+    timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$1") \
+        -nographic -monitor none -serial none \
+        -semihosting-config enable=on,target=native \
+        -icount shift=0 \
+        -kernel "$2" >"$3" 2>&1 || rc=$?
+}
+
 features_for() { # backend -> cargo args
     if [ "$1" = micromath ]; then echo "--features micromath"; fi
 }
@@ -110,13 +122,7 @@ for backend in $BACKENDS; do
 
         say "run $name on QEMU ($(core_name "$target"))"
         for attempt in 1 2; do
-            rc=0
-            # shellcheck disable=SC2046
-            timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$target") \
-                -nographic -monitor none -serial none \
-                -semihosting-config enable=on,target=native \
-                -icount shift=0 \
-                -kernel "$out/$name.elf" >"$out/$name.run$attempt.txt" 2>&1 || rc=$?
+            run_elf "$target" "$out/$name.elf" "$out/$name.run$attempt.txt"
             if [ "$rc" != 0 ]; then break; fi
         done
         cat "$out/$name.run1.txt"
@@ -135,13 +141,7 @@ for backend in $BACKENDS; do
         # The drone-only build leaves the library's pipeline options out; its drone
         # pipeline must still agree bit for bit with the host (which has them all on).
         say "run $name-size-drone on QEMU (drone pipeline only, pipeline options left out)"
-        rc=0
-        # shellcheck disable=SC2046
-        timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$target") \
-            -nographic -monitor none -serial none \
-            -semihosting-config enable=on,target=native \
-            -icount shift=0 \
-            -kernel "$out/$name-size-drone.elf" >"$out/$name-drone.run.txt" 2>&1 || rc=$?
+        run_elf "$target" "$out/$name-size-drone.elf" "$out/$name-drone.run.txt"
         grep -E "^check |^\| Pipeline<2|^goal: pipeline state" "$out/$name-drone.run.txt" || true
         if [ "$rc" != 0 ]; then
             cat "$out/$name-drone.run.txt" >&2
@@ -150,13 +150,7 @@ for backend in $BACKENDS; do
         fi
 
         # The flash probe runs its eight samples through the pipeline and exits.
-        rc=0
-        # shellcheck disable=SC2046
-        timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$target") \
-            -nographic -monitor none -serial none \
-            -semihosting-config enable=on,target=native \
-            -icount shift=0 \
-            -kernel "$out/$name-probe.elf" >"$out/$name-probe.run.txt" 2>&1 || rc=$?
+        run_elf "$target" "$out/$name-probe.elf" "$out/$name-probe.run.txt"
         if [ "$rc" != 0 ]; then
             cat "$out/$name-probe.run.txt" >&2
             echo "FAIL: $name-probe exited with status $rc (124 = timeout)" >&2
