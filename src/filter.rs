@@ -121,8 +121,8 @@ const F64_FRACTION: u64 = (1 << 52) - 1;
 /// cancel), an integer below `2^52` times a power of two, which `f64` holds exactly
 /// (Sterbenz's lemma: `y/2 <= x <= 2y` gives an exact `x - y`; Sterbenz 1974,
 /// *Floating-Point Computation*, from memory). Narrowing that exact difference to `f32`
-/// rounds once, to nearest with ties to even (IEEE 754-2019, sec. 4.3.1), which is what
-/// is done here on the integer; results that would be subnormal or out of `f32` range
+/// rounds once, to nearest with ties to even (IEEE 754-2019, sec. 4.3.1, from memory),
+/// which is what is done here on the integer; results that would be subnormal or out of `f32` range
 /// go back to the caller. Written here because no crate offers the narrowed difference
 /// without the `f64` arithmetic.
 #[inline]
