@@ -122,9 +122,9 @@ const F64_FRACTION: u64 = (1 << 52) - 1;
 /// (Sterbenz's lemma: `y/2 <= x <= 2y` gives an exact `x - y`; Sterbenz 1974,
 /// *Floating-Point Computation*, from memory). Narrowing that exact difference to `f32`
 /// rounds once, to nearest with ties to even (IEEE 754-2019, sec. 4.3.1, from memory),
-/// which is what is done here on the integer; results that would be subnormal or out of `f32` range
-/// go back to the caller. Written here because no crate offers the narrowed difference
-/// without the `f64` arithmetic.
+/// which is what is done here on the integer; results that would be subnormal or out of
+/// `f32` range go back to the caller. Written here because no crate offers the narrowed
+/// difference without the `f64` arithmetic.
 #[inline]
 fn same_binade_step(last: f64, now: f64) -> Option<f32> {
     let (a, b) = (now.to_bits(), last.to_bits());
