@@ -335,7 +335,7 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
                 if held >= hold {
                     let e = PhaseEvent {
                         phase: next,
-                        time_s: time_s - f64::from(held),
+                        time_s: crate::timebits::minus_step(time_s, held),
                         height_m: self.candidate_m,
                     };
                     self.phase = next;

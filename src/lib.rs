@@ -141,6 +141,7 @@ pub mod sensor;
 #[cfg(feature = "embedded-hal-async")]
 pub mod sensor_async;
 pub mod sounding;
+mod timebits;
 pub mod track;
 pub mod units;
 

@@ -941,10 +941,10 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             EstimatorState::Pointwise(gate_state) => {
                 if let Some(gate) = self.store.settings().spike_gate_m {
                     let mut spikes = *gate_state;
-                    if spikes.is_spike(sample.time_s, model_m, gate) {
+                    let gap = dt.unwrap_or(0.0);
+                    if spikes.is_spike(gap, model_m, gate) {
                         // carried forward; the gate counts toward re-acquiring
-                        gate_state.consecutive = spikes.consecutive.saturating_add(1);
-                        gate_state.outliers = spikes.outliers.saturating_add(1);
+                        gate_state.hold(gap);
                         let flags = Flags(flags.0 | Flags::OUTLIER.0);
                         let out = self.carry(sample.time_s, flags);
                         // taken (flagged), so its time counts as the last one
@@ -955,7 +955,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                         self.bits.set(LAST_EVENT, false);
                         return out;
                     }
-                    spikes.accept(sample.time_s, model_m);
+                    spikes.accept(gap, model_m);
                     new_spikes = Some(spikes);
                 }
                 let speed = match dt {
@@ -1331,12 +1331,14 @@ struct SpikeGate {
     consecutive: u8,
     /// Outliers held back since start.
     outliers: u32,
-    last_accept_s: f64,
+    /// Seconds since the last accepted sample, summed from the pipeline's `f32` steps
+    /// (infinite before the first): no `f64` time arithmetic per sample.
+    age_s: f32,
 }
 
 /// After this long without an accepted sample (s) the spike window is stale: the next
 /// sample is taken and starts it anew (after a gap the device may be anywhere).
-const SPIKE_STALE_S: f64 = 120.0;
+const SPIKE_STALE_S: f32 = 120.0;
 
 /// Outliers in a row after which the spike gate takes the next sample.
 const SPIKE_REACQUIRE: u8 = 5;
@@ -1347,26 +1349,36 @@ impl SpikeGate {
             window: crate::filter::Median::new(),
             consecutive: 0,
             outliers: 0,
-            last_accept_s: f64::NEG_INFINITY,
+            age_s: f32::INFINITY,
         }
     }
 
-    fn is_spike(&self, time_s: f64, h: f32, gate: f32) -> bool {
+    /// Whether a sample `dt` seconds after the last one taken, at height `h`, is a
+    /// spike.
+    fn is_spike(&self, dt: f32, h: f32, gate: f32) -> bool {
         self.consecutive < SPIKE_REACQUIRE
-            && time_s - self.last_accept_s <= SPIKE_STALE_S
+            && self.age_s + dt <= SPIKE_STALE_S
             && self
                 .window
                 .value()
                 .is_some_and(|median| (h - median).abs() > gate)
     }
 
-    fn accept(&mut self, time_s: f64, h: f32) {
-        if self.consecutive >= SPIKE_REACQUIRE || time_s - self.last_accept_s > SPIKE_STALE_S {
+    /// A spike held back `dt` seconds after the last sample taken.
+    fn hold(&mut self, dt: f32) {
+        self.consecutive = self.consecutive.saturating_add(1);
+        self.outliers = self.outliers.saturating_add(1);
+        self.age_s += dt;
+    }
+
+    /// A sample taken `dt` seconds after the last one, at height `h`.
+    fn accept(&mut self, dt: f32, h: f32) {
+        if self.consecutive >= SPIKE_REACQUIRE || self.age_s + dt > SPIKE_STALE_S {
             // a real step, or a long gap: start the window anew at the new level
             self.window.clear();
         }
         self.consecutive = 0;
-        self.last_accept_s = time_s;
+        self.age_s = 0.0;
         let _ = self.window.push(h);
     }
 }
