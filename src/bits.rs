@@ -1,31 +1,44 @@
 //! Yes/no state packed into one byte.
 //!
-//! Written here rather than taken from a crate: the state types need five or fewer
+//! Written here rather than taken from a crate: the state types need seven or fewer
 //! flags each, `const` reads, `PartialEq` and `defmt::Format`, and the gain is the
 //! bytes a `bool` per flag costs in padding (a `bool` takes a byte, and the padding
 //! that rounds a struct up to its 8-byte alignment often takes more).
 
-/// Up to eight flags in one byte; each flag is a mask with one bit set.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+use core::num::NonZeroU8;
+
+/// The highest bit, always set: the byte is never zero, so an enum holding the state
+/// can keep its variant tag in that value (a "niche") instead of in extra bytes. The
+/// pipeline's estimator state (a Kalman filter or a spike gate) needed 8 more bytes
+/// without it once the Kalman settings took no room (measured, `size_of`).
+const ALWAYS: u8 = 0x80;
+
+/// Up to seven flags in one byte; each flag is a mask with one bit set, below 0x80.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub(crate) struct Bits(u8);
+pub(crate) struct Bits(NonZeroU8);
 
 impl Bits {
     /// All flags clear.
-    pub(crate) const NONE: Self = Self(0);
+    pub(crate) const NONE: Self = Self(NonZeroU8::MIN.saturating_add(ALWAYS - 1));
 
     /// Whether the flag `mask` is set.
     pub(crate) const fn get(self, mask: u8) -> bool {
-        self.0 & mask != 0
+        self.0.get() & mask & !ALWAYS != 0
     }
 
     /// Sets the flag `mask` to `on`.
     pub(crate) fn set(&mut self, mask: u8, on: bool) {
-        if on {
-            self.0 |= mask;
-        } else {
-            self.0 &= !mask;
-        }
+        let v = self.0.get();
+        let v = if on { v | mask } else { v & !mask };
+        // the sentinel bit keeps the value nonzero
+        self.0 = NonZeroU8::MIN.saturating_add((v | ALWAYS) - 1);
+    }
+}
+
+impl Default for Bits {
+    fn default() -> Self {
+        Self::NONE
     }
 }
 
@@ -41,6 +54,16 @@ mod tests {
         assert!(b.get(1) && !b.get(2) && b.get(4));
         b.set(1, false);
         assert!(!b.get(1) && b.get(4));
-        assert_eq!(b, Bits(4));
+        let mut c = Bits::NONE;
+        c.set(4, true);
+        assert_eq!(b, c);
+        b.set(4, false);
+        assert_eq!(b, Bits::NONE);
+        assert!(!b.get(0x80));
+    }
+
+    #[test]
+    fn an_enum_keeps_its_tag_in_the_byte() {
+        assert_eq!(size_of::<Option<Bits>>(), 1);
     }
 }

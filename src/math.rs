@@ -245,6 +245,21 @@ fn small_exp(x: f32) -> f32 {
     p * scale
 }
 
+/// `x.min(cap)` for a `cap` that is not NaN (a NaN `x` gives `cap`, as `f32::min` does),
+/// as a comparison: on ARMv7E-M `f32::min` is a call to `fminf` (the firmware carried
+/// `fminf` and `fmaxf` for the Kalman filter's covariance limits, 72 bytes, measured).
+#[inline]
+pub(crate) fn at_most(x: f32, cap: f32) -> f32 {
+    if x <= cap { x } else { cap }
+}
+
+/// `x.max(floor)` for a `floor` that is not NaN (a NaN `x` gives `floor`), as a
+/// comparison; see [`at_most`].
+#[inline]
+pub(crate) fn at_least(x: f32, floor: f32) -> f32 {
+    if x >= floor { x } else { floor }
+}
+
 /// e^y - 1 for |y| <= 0.35 by its Taylor series to y^8 (truncation below 3e-10 relative,
 /// Abramowitz & Stegun 4.2.1), and as `e^y - 1` beyond ([`large_exp_m1`]). The layer
 /// closed forms of the standard atmospheres need only |y| <= 0.3 (`R L / g0` times
@@ -307,6 +322,28 @@ mod tests {
             }
         }
         assert!(worst <= 4.0);
+    }
+
+    #[test]
+    fn at_most_and_at_least_are_min_and_max() {
+        let values = [
+            f32::NAN,
+            f32::NEG_INFINITY,
+            -3.0,
+            -0.0,
+            0.0,
+            1.0e-40,
+            2.5,
+            1.0e30,
+            f32::INFINITY,
+        ];
+        for x in values {
+            for bound in values.iter().copied().filter(|b| !b.is_nan()) {
+                // zeros of either sign compare equal; f32::min may return either one
+                assert!(at_most(x, bound) == x.min(bound), "{x} {bound}");
+                assert!(at_least(x, bound) == x.max(bound), "{x} {bound}");
+            }
+        }
     }
 
     #[test]

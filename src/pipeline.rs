@@ -544,6 +544,108 @@ impl<'a> SettingsStore for &'a Settings {
     }
 }
 
+/// Settings fixed at compile time, for the [`Fixed`] store.
+pub trait FixedSettings {
+    /// The settings (validated by [`Pipeline::new`] like any others).
+    const SETTINGS: Settings;
+}
+
+/// A [`SettingsStore`] for settings fixed at compile time ([`FixedSettings`]). It takes
+/// no RAM (the Kalman filter and the phase tracker hold the same empty handle), and the
+/// compiler, which sees the settings as constants, leaves out the code of the options
+/// they do not use: with the drone preset, the spike gate of the pointwise path, the
+/// altimeter-free branches and the hike tracker's hooks (measured in the firmware's
+/// flash probe, README). The settings cannot change at run time; the run-time changes
+/// (start altitude, altimeter setting, fixes) work as with any store.
+///
+/// ```
+/// use isohypse::pipeline::{Fixed, FixedSettings, Pipeline, Sample, Settings};
+/// struct Drone;
+/// impl FixedSettings for Drone {
+///     const SETTINGS: Settings = Settings::drone();
+/// }
+/// let mut pipe = Pipeline::<2, Fixed<Drone>>::new(Fixed::new())?;
+/// let out = pipe.process(&Sample::pressure(0.0, 98_000.0));
+/// assert!(out.accepted());
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+pub struct Fixed<T>(core::marker::PhantomData<T>);
+
+impl<T> Fixed<T> {
+    /// The store (it holds nothing).
+    pub const fn new() -> Self {
+        Self(core::marker::PhantomData)
+    }
+}
+
+// Written out rather than derived: derives would require `T` itself to be `Clone`,
+// `Debug`, ... although nothing of `T` is stored.
+impl<T> Default for Fixed<T> {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+impl<T> Clone for Fixed<T> {
+    fn clone(&self) -> Self {
+        *self
+    }
+}
+impl<T> Copy for Fixed<T> {}
+impl<T> PartialEq for Fixed<T> {
+    fn eq(&self, _: &Self) -> bool {
+        true
+    }
+}
+impl<T> core::fmt::Debug for Fixed<T> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.write_str("Fixed")
+    }
+}
+#[cfg(feature = "defmt")]
+impl<T> defmt::Format for Fixed<T> {
+    fn format(&self, f: defmt::Formatter<'_>) {
+        defmt::write!(f, "Fixed")
+    }
+}
+
+impl<T: FixedSettings> Fixed<T> {
+    /// The settings, as a constant of the program.
+    const fn fixed() -> &'static Settings {
+        const { &T::SETTINGS }
+    }
+}
+
+impl<T: FixedSettings> SettingsStore for Fixed<T> {
+    type Kalman = Self;
+    type Phases = Self;
+    fn settings(&self) -> &Settings {
+        Self::fixed()
+    }
+    fn kalman(&self) -> Option<Self> {
+        matches!(Self::fixed().estimator, Estimator::Kalman(_)).then_some(*self)
+    }
+    fn phases(&self) -> Self {
+        *self
+    }
+}
+
+impl<T: FixedSettings> Borrow<VerticalKalmanConfig> for Fixed<T> {
+    /// The Kalman settings ([`VerticalKalmanConfig::DEFAULT`] when the estimator is
+    /// off: then no filter asks).
+    fn borrow(&self) -> &VerticalKalmanConfig {
+        match &Self::fixed().estimator {
+            Estimator::Kalman(k) => k,
+            Estimator::Off => const { &VerticalKalmanConfig::DEFAULT },
+        }
+    }
+}
+
+impl<T: FixedSettings> Borrow<PhaseSettings> for Fixed<T> {
+    fn borrow(&self) -> &PhaseSettings {
+        Self::fixed().tracking.phases()
+    }
+}
+
 impl Tracking {
     /// The phase thresholds.
     pub const fn phases(&self) -> &PhaseSettings {

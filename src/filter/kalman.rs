@@ -2,6 +2,7 @@
 
 use super::Step;
 use crate::bits::Bits;
+use crate::math;
 use crate::{Error, Height, VerticalSpeed};
 use core::borrow::Borrow;
 
@@ -654,7 +655,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             core.p.hv = 0.0;
             core.p.hb = 0.0;
             let v0 = self.config().initial_speed_sigma_mps;
-            core.p.vv = core.p.vv.max(v0 * v0);
+            core.p.vv = math::at_least(core.p.vv, v0 * v0);
             outcome = KalmanOutcome::Reacquired;
         } else if let KalmanOutcome::Accepted { .. } = outcome {
             core = Self::update(core, y, r);
@@ -757,12 +758,12 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         {
             // Only after extremely long gaps: keep a valid diagonal covariance.
             core.p = Covariance {
-                hh: core.p.hh.min(MAX_VAR_HEIGHT),
+                hh: math::at_most(core.p.hh, MAX_VAR_HEIGHT),
                 hv: 0.0,
                 hb: 0.0,
-                vv: core.p.vv.min(MAX_VAR_SPEED),
+                vv: math::at_most(core.p.vv, MAX_VAR_SPEED),
                 vb: 0.0,
-                bb: core.p.bb.min(MAX_VAR_BIAS),
+                bb: math::at_most(core.p.bb, MAX_VAR_BIAS),
             };
             saturated = true;
         }
@@ -826,8 +827,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             height: Height::from_meters(c.h).ok()?,
             vertical_speed: VerticalSpeed::from_mps(c.v).ok()?,
             accel_bias_mps2: c.b,
-            height_sigma_m: crate::math::sqrt(c.p.hh.max(0.0)),
-            speed_sigma_mps: crate::math::sqrt(c.p.vv.max(0.0)),
+            height_sigma_m: crate::math::sqrt(math::at_least(c.p.hh, 0.0)),
+            speed_sigma_mps: crate::math::sqrt(math::at_least(c.p.vv, 0.0)),
         })
     }
 

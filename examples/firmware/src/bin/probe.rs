@@ -23,11 +23,15 @@ use panic_semihosting as _;
 
 use isohypse::pipeline::Sample;
 #[cfg(not(feature = "probe-empty"))]
-use isohypse::pipeline::{Pipeline, Settings};
+use isohypse::pipeline::{Fixed, FixedSettings, Pipeline, Settings};
 
-/// The drone preset, kept in flash and borrowed by the pipeline.
+/// The drone preset, fixed at compile time.
 #[cfg(not(feature = "probe-empty"))]
-static DRONE: Settings = Settings::drone();
+struct Drone;
+#[cfg(not(feature = "probe-empty"))]
+impl FixedSettings for Drone {
+    const SETTINGS: Settings = Settings::drone();
+}
 
 const N: usize = 8;
 /// Time stamps, s (50 Hz).
@@ -44,7 +48,7 @@ static ACCEL_MPS2: [f32; N] = [0.02, -0.01, 0.03, 0.6, 1.2, 1.4, 1.3, 1.1];
 #[cfg(not(feature = "probe-empty"))]
 #[inline(never)]
 fn lib_process_probe(
-    pipeline: &mut Pipeline<2, &'static Settings>,
+    pipeline: &mut Pipeline<2, Fixed<Drone>>,
     sample: &Sample,
 ) -> isohypse::pipeline::Output {
     pipeline.process(sample)
@@ -53,7 +57,7 @@ fn lib_process_probe(
 #[entry]
 fn main() -> ! {
     #[cfg(not(feature = "probe-empty"))]
-    let Ok(mut pipeline) = Pipeline::<2, &'static Settings>::new(&DRONE) else {
+    let Ok(mut pipeline) = Pipeline::<2, Fixed<Drone>>::new(Fixed::new()) else {
         debug::exit(debug::EXIT_FAILURE);
         #[allow(clippy::empty_loop)]
         loop {}
