@@ -481,10 +481,12 @@ enum EstimatorState<K> {
 }
 
 /// Where a [`Pipeline`] keeps its [`Settings`]: in its own state ([`Settings`], the
-/// default; 216 bytes with every pipeline option on a 64-bit host) or borrowed (`&Settings`, for example
-/// `&'static Settings` from a `static` in flash: then only a reference and the run-time
-/// changes, the start altitude and the altimeter setting, are in the state, and the
-/// Kalman filter and the phase tracker borrow their settings from it too).
+/// default; 216 bytes with every pipeline option on a 64-bit host), borrowed
+/// (`&Settings`, for example `&'static Settings` from a `static` in flash: then only a
+/// reference and the run-time changes, the start altitude and the altimeter setting,
+/// are in the state, and the Kalman filter and the phase tracker borrow their settings
+/// from it too), or fixed at compile time ([`Fixed`]: nothing in the state, and the
+/// code of unused options left out).
 ///
 /// ```
 /// use isohypse::pipeline::{Pipeline, Sample, Settings};

@@ -3,7 +3,9 @@
 
 use isohypse::atmosphere;
 use isohypse::flight::Phase;
-use isohypse::pipeline::{Estimator, Flags, HeightModel, Pipeline, Sample, Settings};
+use isohypse::pipeline::{
+    Estimator, Fixed, FixedSettings, Flags, HeightModel, Pipeline, Sample, Settings,
+};
 use isohypse::{Error, Pressure};
 mod common;
 use common::p_at;
@@ -19,6 +21,10 @@ fn pipeline_state_sizes() {
         (
             "Pipeline<2, &'static Settings> (drone, hike; settings in flash)",
             size_of::<Pipeline<2, &'static Settings>>(),
+        ),
+        (
+            "Pipeline<2, Fixed<P>> (drone, hike; settings fixed at compile time)",
+            size_of::<Pipeline<2, Fixed<DroneFixed>>>(),
         ),
         (
             "Pipeline<64> (balloon, 64 levels)",
@@ -61,6 +67,11 @@ fn pipeline_state_sizes() {
         size_of::<Pipeline<2, &'static Settings>>() + size_of::<Settings>()
             - 3 * size_of::<usize>()
             <= size_of::<Pipeline<2>>()
+    );
+    // Settings fixed at compile time take no room at all, not even a reference.
+    assert!(
+        size_of::<Pipeline<2, Fixed<DroneFixed>>>() + size_of::<usize>()
+            <= size_of::<Pipeline<2, &'static Settings>>()
     );
     // The balloon pipeline grows by 12 bytes per profile level.
     assert_eq!(
@@ -432,4 +443,67 @@ fn borrowed_settings_give_the_same_outputs() {
         assert_eq!(owned.settings(), borrowed.settings());
         assert_eq!(owned.outlier_count(), borrowed.outlier_count());
     }
+}
+
+struct DroneFixed;
+impl FixedSettings for DroneFixed {
+    const SETTINGS: Settings = Settings::drone();
+}
+struct HikeFixed;
+impl FixedSettings for HikeFixed {
+    const SETTINGS: Settings = Settings::hike();
+}
+struct BalloonFixed;
+impl FixedSettings for BalloonFixed {
+    const SETTINGS: Settings = Settings::balloon();
+}
+
+/// The same samples through a pipeline with owned settings and one with the same settings
+/// fixed at compile time: the outputs agree bit for bit (the store changes where the
+/// settings live, not what is computed).
+fn same_outputs<const N: usize, T: FixedSettings>(samples: &[Sample]) {
+    let mut owned = Pipeline::<N>::new(T::SETTINGS).unwrap();
+    let mut fixed = Pipeline::<N, Fixed<T>>::new(Fixed::new()).unwrap();
+    assert_eq!(fixed.settings(), T::SETTINGS);
+    for s in samples {
+        let (a, b) = (owned.process(s), fixed.process(s));
+        assert_eq!(a.altitude_m.to_bits(), b.altitude_m.to_bits());
+        assert_eq!(
+            a.vertical_speed_mps.to_bits(),
+            b.vertical_speed_mps.to_bits()
+        );
+        assert_eq!(a.altitude_sigma_m.to_bits(), b.altitude_sigma_m.to_bits());
+        assert_eq!(a, b);
+    }
+    // run-time changes work as with any store
+    fixed.set_start_altitude(Some(250.0)).unwrap();
+    owned.set_start_altitude(Some(250.0)).unwrap();
+    let last = samples.last().unwrap();
+    let next = Sample::pressure(last.time_s + 1.0, last.pressure_pa);
+    assert_eq!(owned.process(&next), fixed.process(&next));
+}
+
+#[test]
+fn fixed_settings_give_the_same_outputs() {
+    // invented samples: a climb of about 40 m with a spike and an accelerometer channel
+    let samples: Vec<Sample> = (0..300)
+        .map(|i| {
+            let t = f64::from(i) * 0.1;
+            let h = if i < 100 {
+                0.0
+            } else {
+                (f64::from(i) - 100.0) * 0.2
+            };
+            let mut s = Sample::pressure(t, p_at(h as f32));
+            if i == 150 {
+                s.pressure_pa -= 400.0;
+            }
+            s.accel_up_mps2 = Some(if (95..105).contains(&i) { 0.5 } else { 0.0 });
+            s.temperature_c = Some(18.0);
+            s
+        })
+        .collect();
+    same_outputs::<2, DroneFixed>(&samples);
+    same_outputs::<2, HikeFixed>(&samples);
+    same_outputs::<64, BalloonFixed>(&samples);
 }

@@ -10,7 +10,7 @@ With `-singlestep -d exec,nochain` QEMU logs every guest instruction it executes
 ("Trace ...: [flags/PC/...]"). This script maps each PC to the function symbol that holds
 it (from the ELF symbol table, no binutils needed) and counts instructions while the
 program is inside WINDOW: from an instruction in a function whose name contains WINDOW
-(e.g. `lib_process_2`, the firmware's never-inlined wrapper around `Pipeline::process`)
+(e.g. `lib_process_drone`, the firmware's never-inlined wrapper around `Pipeline::process`)
 until an instruction in any other firmware function (the caller). Everything the window
 calls (library, maths, soft-float, memcpy) is counted under its own function. Counts are
 divided by CALLS (how many times the firmware calls the window function) to give

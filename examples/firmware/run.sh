@@ -119,6 +119,9 @@ for backend in $BACKENDS; do
         # shellcheck disable=SC2046
         build_probe "$target" "$name-probe-empty" --no-default-features --features probe-empty \
             $(features_for "$backend")
+        # shellcheck disable=SC2046
+        build_probe "$target" "$name-probe-borrowed" --no-default-features --features probe-borrowed \
+            $(features_for "$backend")
 
         say "run $name on QEMU ($(core_name "$target"))"
         for attempt in 1 2; do
@@ -237,8 +240,9 @@ pairs=()
 for backend in $BACKENDS; do
     for target in $TARGETS; do
         pairs+=("$(core_name "$target") $target $backend, all rows (Pipeline<2> + Pipeline<64>, settings in flash)=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
-        pairs+=("$(core_name "$target") $target $backend, drone pipeline only (Pipeline<2, &'static Settings>)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
+        pairs+=("$(core_name "$target") $target $backend, drone pipeline only (Pipeline<2, Fixed<DronePreset>>)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
         pairs+=("$(core_name "$target") $target $backend, flash probe: drone pipeline alone minus an empty loop (src/bin/probe.rs)=$out/$target-$backend-probe.elf:$out/$target-$backend-probe-empty.elf")
+        pairs+=("$(core_name "$target") $target $backend, flash probe, settings borrowed at run time (feature probe-borrowed)=$out/$target-$backend-probe-borrowed.elf:$out/$target-$backend-probe-empty.elf")
     done
 done
 python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
@@ -251,7 +255,7 @@ python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
 if [ "${PROFILE:-0}" = 1 ]; then
     for backend in $BACKENDS; do
         for target in $TARGETS; do
-            for spec in "size-drone lib_process_2 200" "elf lib_process_64 400"; do
+            for spec in "size-drone lib_process_drone 200" "elf lib_process_balloon 400"; do
                 read -r variant window calls <<<"$spec"
                 elf="$out/$target-$backend.elf"
                 [ "$variant" = elf ] || elf="$out/$target-$backend-$variant.elf"

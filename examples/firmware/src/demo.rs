@@ -4,10 +4,11 @@
 //! Two invented demo flights (demo data only, made up for this firmware):
 //!
 //! - a drone hop: `DEMO_COUNT` samples at 50 Hz (4 s), pressure and vertical
-//!   acceleration, the drone preset (`Pipeline<2, &'static Settings>`);
+//!   acceleration, the drone preset (`Pipeline<2, Fixed<DronePreset>>`);
 //! - the first minutes of a balloon ascent: `DEMO_COUNT` samples at 1 Hz, pressure,
 //!   temperature and humidity, the balloon preset with a small stored profile
-//!   (`Pipeline<PROFILE_LEVELS, &'static Settings>`), launch elevation and latitude set.
+//!   (`Pipeline<PROFILE_LEVELS, Fixed<BalloonPreset>>`), launch elevation and latitude
+//!   set.
 //!
 //! `build.rs` makes the samples (f64 maths on the host) and stores them as f32 bit
 //! patterns; both sides then build the same `Sample`s with the functions below and run
@@ -15,7 +16,7 @@
 
 use isohypse::Error;
 use isohypse::flight::Phase;
-use isohypse::pipeline::{Output, Pipeline, Sample, Settings};
+use isohypse::pipeline::{Fixed, FixedSettings, Output, Pipeline, Sample, Settings};
 
 /// Samples in each demo flight.
 pub const DEMO_COUNT: usize = 200;
@@ -58,42 +59,66 @@ pub fn balloon_sample(i: usize, pressure_pa: f32, temperature_c: f32, humidity_p
     }
 }
 
-/// The pipelines keep their settings in flash: a `static` borrowed by the pipeline
-/// (`Pipeline<N, &'static Settings>`), so the state in RAM holds none of them.
-pub type FlashPipeline<const N: usize> = Pipeline<N, &'static Settings>;
+/// The pipelines' settings are fixed at compile time (`Pipeline<N, Fixed<P>>`): they
+/// take no RAM, and the compiler drops the code of the options a preset leaves unused.
+/// A preset as a type: its settings as a constant.
+pub struct DronePreset;
 
-/// The drone preset as shipped (height above the ground reference taken at rest).
-pub static DRONE: Settings = Settings::drone();
+impl FixedSettings for DronePreset {
+    /// The drone preset as shipped (height above the ground reference taken at rest).
+    const SETTINGS: Settings = Settings::drone();
+}
+
+/// The drone pipeline's type.
+pub type DronePipeline = Pipeline<2, Fixed<DronePreset>>;
 
 /// The drone pipeline.
-pub fn drone_pipeline() -> Result<FlashPipeline<2>, Error> {
-    Pipeline::new(&DRONE)
+pub fn drone_pipeline() -> Result<DronePipeline, Error> {
+    Pipeline::new(Fixed::new())
 }
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The balloon preset with the launch elevation and latitude set.
-pub static BALLOON: Settings = {
-    let mut s = Settings::balloon();
-    s.start_altitude_m = Some(LAUNCH_ELEVATION_M);
-    s.latitude_deg = Some(LAUNCH_LATITUDE_DEG);
-    s
-};
+pub struct BalloonPreset;
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The balloon preset with a `PROFILE_LEVELS`-level stored profile.
-pub fn balloon_pipeline() -> Result<FlashPipeline<PROFILE_LEVELS>, Error> {
-    Pipeline::new(&BALLOON)
+impl FixedSettings for BalloonPreset {
+    const SETTINGS: Settings = {
+        let mut s = Settings::balloon();
+        s.start_altitude_m = Some(LAUNCH_ELEVATION_M);
+        s.latitude_deg = Some(LAUNCH_LATITUDE_DEG);
+        s
+    };
+}
+
+#[cfg(any(feature = "presets", not(target_os = "none")))]
+/// The balloon pipeline's type, with a `PROFILE_LEVELS`-level stored profile.
+pub type BalloonPipeline = Pipeline<PROFILE_LEVELS, Fixed<BalloonPreset>>;
+
+#[cfg(any(feature = "presets", not(target_os = "none")))]
+/// The balloon pipeline.
+pub fn balloon_pipeline() -> Result<BalloonPipeline, Error> {
+    Pipeline::new(Fixed::new())
 }
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
 /// The hike preset.
-pub static HIKE: Settings = Settings::hike();
+pub struct HikePreset;
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The hike preset (measured only: instruction count, no reference outputs).
+impl FixedSettings for HikePreset {
+    const SETTINGS: Settings = Settings::hike();
+}
+
+#[cfg(any(feature = "presets", not(target_os = "none")))]
+/// The hike pipeline's type.
+pub type HikePipeline = Pipeline<2, Fixed<HikePreset>>;
+
+#[cfg(any(feature = "presets", not(target_os = "none")))]
+/// The hike pipeline (measured only: instruction count, no reference outputs).
 #[cfg_attr(not(target_os = "none"), allow(dead_code))]
-pub fn hike_pipeline() -> Result<FlashPipeline<2>, Error> {
-    Pipeline::new(&HIKE)
+pub fn hike_pipeline() -> Result<HikePipeline, Error> {
+    Pipeline::new(Fixed::new())
 }
 
 /// What the host computed for one sample, as compared on the target.

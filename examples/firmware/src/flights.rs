@@ -22,7 +22,9 @@ mod with_library {
     use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
 
     use crate::Timing;
-    use crate::demo::{self, DEMO_COUNT, FlashPipeline, HostOutput, PROFILE_LEVELS};
+    use crate::demo::{self, DEMO_COUNT, DronePipeline, HostOutput};
+    #[cfg(not(feature = "drone-only"))]
+    use crate::demo::{BalloonPipeline, HikePipeline};
     use crate::samples::{
         BALLOON_HOST, BALLOON_HUMIDITY_PCT, BALLOON_PRESSURE_PA, BALLOON_TEMPERATURE_C,
         DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA,
@@ -32,17 +34,26 @@ mod with_library {
     /// pressure noise times `R T / (g p)`, about 0.085 m/Pa near the demo field.
     const KALMAN_ROW_SIGMA_M: f32 = 0.125;
 
-    /// `Pipeline::<2>::process`, never inlined into the harness, so that the pipeline's
-    /// code shows under a library symbol in the ELF (`elf_sizes.py --symbols`) and its
-    /// calls can be profiled (`profile.py`).
+    /// `Pipeline::process` of the drone preset, never inlined into the harness, so that
+    /// the pipeline's code shows under a library symbol in the ELF (`elf_sizes.py
+    /// --symbols`) and its calls can be profiled (`profile.py`).
     #[inline(never)]
-    fn lib_process_2(pipeline: &mut FlashPipeline<2>, sample: &Sample) -> Output {
+    fn lib_process_drone(pipeline: &mut DronePipeline, sample: &Sample) -> Output {
         pipeline.process(sample)
     }
 
-    /// `Pipeline::<PROFILE_LEVELS>::process`, never inlined (see [`lib_process_2`]).
+    /// The balloon preset's `Pipeline::process`, never inlined (see
+    /// [`lib_process_drone`]).
+    #[cfg(not(feature = "drone-only"))]
     #[inline(never)]
-    fn lib_process_64(pipeline: &mut FlashPipeline<PROFILE_LEVELS>, sample: &Sample) -> Output {
+    fn lib_process_balloon(pipeline: &mut BalloonPipeline, sample: &Sample) -> Output {
+        pipeline.process(sample)
+    }
+
+    /// The hike preset's `Pipeline::process`, never inlined (see [`lib_process_drone`]).
+    #[cfg(not(feature = "drone-only"))]
+    #[inline(never)]
+    fn lib_process_hike(pipeline: &mut HikePipeline, sample: &Sample) -> Output {
         pipeline.process(sample)
     }
 
@@ -150,7 +161,7 @@ mod with_library {
             Ok(mut p) => compare(
                 "drone pipeline (Pipeline<2>, 50 Hz hop)",
                 &DRONE_HOST,
-                |i| lib_process_2(&mut p, &drone_sample(i)),
+                |i| lib_process_drone(&mut p, &drone_sample(i)),
             ),
             Err(_) => false,
         };
@@ -159,7 +170,7 @@ mod with_library {
             Ok(mut p) => compare(
                 "balloon pipeline (Pipeline<64>, 1 Hz ascent)",
                 &BALLOON_HOST,
-                |i| lib_process_64(&mut p, &balloon_sample(i)),
+                |i| lib_process_balloon(&mut p, &balloon_sample(i)),
             ),
             Err(_) => false,
         };
@@ -210,7 +221,7 @@ mod with_library {
         };
         let first = balloon_sample(0);
         let Ok(mut sounding) = (|| {
-            Sounding::<PROFILE_LEVELS>::new(
+            Sounding::<{ demo::PROFILE_LEVELS }>::new(
                 Height::from_meters(demo::LAUNCH_ELEVATION_M)?,
                 Gravity::at_latitude(demo::LAUNCH_LATITUDE_DEG)?,
                 Pressure::from_pa(first.pressure_pa)?,
@@ -258,18 +269,18 @@ mod with_library {
             })();
             step.map_or(f32::NAN, |s| s.geometric.meters())
         };
-        let mut drone_step = |i: usize| lib_process_2(&mut drone, &drone_sample(i)).altitude_m;
+        let mut drone_step = |i: usize| lib_process_drone(&mut drone, &drone_sample(i)).altitude_m;
         let mut drone_no_accel_step = |i: usize| {
             let mut s = drone_sample(i);
             s.accel_up_mps2 = None;
-            lib_process_2(&mut drone_no_accel, &s).altitude_m
+            lib_process_drone(&mut drone_no_accel, &s).altitude_m
         };
         let mut balloon_step =
-            |i: usize| lib_process_64(&mut balloon, &balloon_sample(i)).altitude_m;
+            |i: usize| lib_process_balloon(&mut balloon, &balloon_sample(i)).altitude_m;
         // hike: the drone hop's pressures at 1 Hz (a walker stepping up a 3 m bank)
         let mut hike_step = |i: usize| {
             let s = Sample::pressure(demo::balloon_time_s(i), at(&DRONE_PRESSURE_PA, i));
-            lib_process_2(&mut hike, &s).altitude_m
+            lib_process_hike(&mut hike, &s).altitude_m
         };
 
         let rows: [FlightRow; 7] = [

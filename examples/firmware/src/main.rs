@@ -303,14 +303,20 @@ fn sizes() {
     );
     hprintln!("| type | bytes |");
     hprintln!("| --- | ---: |");
-    let rows: [(&str, usize); 9] = [
+    let rows: [(&str, usize); 10] = [
         (
-            "Pipeline<2, &'static Settings>",
-            size_of::<demo::FlashPipeline<2>>(),
+            "Pipeline<2, Fixed<P>> (drone, hike; settings fixed at compile time)",
+            size_of::<demo::DronePipeline>(),
         ),
         (
-            "Pipeline<64, &'static Settings>",
-            size_of::<demo::FlashPipeline<{ demo::PROFILE_LEVELS }>>(),
+            "Pipeline<2, &'static Settings>",
+            size_of::<pipeline::Pipeline<2, &'static pipeline::Settings>>(),
+        ),
+        (
+            "Pipeline<64, Fixed<P>> (balloon)",
+            size_of::<
+                pipeline::Pipeline<{ demo::PROFILE_LEVELS }, pipeline::Fixed<demo::DronePreset>>,
+            >(),
         ),
         (
             "Pipeline<2> (settings owned)",
@@ -329,9 +335,9 @@ fn sizes() {
     for (name, bytes) in rows {
         hprintln!("| {} | {} |", name, bytes);
     }
-    let drone = size_of::<demo::FlashPipeline<2>>();
+    let drone = size_of::<demo::DronePipeline>();
     hprintln!(
-        "goal: pipeline state <= 256 bytes (design notes): Pipeline<2, &'static Settings> {} bytes in this build, {}",
+        "goal: pipeline state <= 256 bytes (design notes): Pipeline<2, Fixed<P>> {} bytes in this build, {}",
         drone,
         if drone <= 256 { "met" } else { "not met" }
     );

@@ -8,6 +8,11 @@
 //! soft-float routines it pulls in. `run.sh` builds both and prints the difference
 //! (`elf_sizes.py`). The run only exits with success (it checks nothing).
 //!
+//! The drone preset's settings are fixed at compile time (`Pipeline<2, Fixed<Drone>>`,
+//! the way the measuring firmware builds it); with feature `probe-borrowed` they are a
+//! `static` borrowed at run time (`Pipeline<2, &'static Settings>`), for which the
+//! compiler must keep the code of every option, since it cannot see which are used.
+//!
 //! The samples are a 50 Hz drone hop at an invented field (pressure falling about 12 Pa
 //! per metre), as in the measuring firmware; they only need to be plausible.
 
@@ -23,15 +28,27 @@ use panic_semihosting as _;
 
 use isohypse::pipeline::Sample;
 #[cfg(not(feature = "probe-empty"))]
-use isohypse::pipeline::{Fixed, FixedSettings, Pipeline, Settings};
+use isohypse::pipeline::{Pipeline, Settings};
 
 /// The drone preset, fixed at compile time.
-#[cfg(not(feature = "probe-empty"))]
+#[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
 struct Drone;
-#[cfg(not(feature = "probe-empty"))]
-impl FixedSettings for Drone {
+#[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
+impl isohypse::pipeline::FixedSettings for Drone {
     const SETTINGS: Settings = Settings::drone();
 }
+#[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
+type Store = isohypse::pipeline::Fixed<Drone>;
+#[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
+const STORE: Store = isohypse::pipeline::Fixed::new();
+
+/// The drone preset in flash, borrowed at run time.
+#[cfg(all(feature = "probe-borrowed", not(feature = "probe-empty")))]
+static DRONE: Settings = Settings::drone();
+#[cfg(all(feature = "probe-borrowed", not(feature = "probe-empty")))]
+type Store = &'static Settings;
+#[cfg(all(feature = "probe-borrowed", not(feature = "probe-empty")))]
+const STORE: Store = &DRONE;
 
 const N: usize = 8;
 /// Time stamps, s (50 Hz).
@@ -48,7 +65,7 @@ static ACCEL_MPS2: [f32; N] = [0.02, -0.01, 0.03, 0.6, 1.2, 1.4, 1.3, 1.1];
 #[cfg(not(feature = "probe-empty"))]
 #[inline(never)]
 fn lib_process_probe(
-    pipeline: &mut Pipeline<2, Fixed<Drone>>,
+    pipeline: &mut Pipeline<2, Store>,
     sample: &Sample,
 ) -> isohypse::pipeline::Output {
     pipeline.process(sample)
@@ -57,7 +74,7 @@ fn lib_process_probe(
 #[entry]
 fn main() -> ! {
     #[cfg(not(feature = "probe-empty"))]
-    let Ok(mut pipeline) = Pipeline::<2, Fixed<Drone>>::new(Fixed::new()) else {
+    let Ok(mut pipeline) = Pipeline::<2, Store>::new(STORE) else {
         debug::exit(debug::EXIT_FAILURE);
         #[allow(clippy::empty_loop)]
         loop {}
