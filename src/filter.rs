@@ -15,13 +15,13 @@
 //! # Time stamps
 //!
 //! Filters that need a time step take the sample time as `f64` seconds since any epoch
-//! the caller likes (boot, GPS time, ...). The step `dt` is formed in `f64` and only then
-//! narrowed to `f32`, so time resolution does not decay over long runs: an `f64` holds
-//! a time of one year (3.2e7 s) to about 4 ns, whereas an `f32` clock would step in
-//! 2 s units by then (choice of this crate). On a single-precision FPU `f64` arithmetic
-//! is done in software, so each call does one `f64` subtraction and narrows the step to
-//! `f32`; comparisons and ages are `f32`. Times must be finite and strictly increasing per input
-//! stream ([`crate::Error::NotFinite`], [`crate::Error::NotIncreasing`]).
+//! the caller likes (boot, GPS time, ...). The step `dt` is the exact difference of the
+//! two `f64` times rounded once to `f32`, so time resolution does not decay over long
+//! runs: an `f64` holds a time of one year (3.2e7 s) to about 4 ns, whereas an `f32`
+//! clock would step in 2 s units by then (choice of this crate). A single-precision FPU
+//! has no `f64` arithmetic, so the step is formed on the integers of the two bit
+//! patterns, once per call; comparisons and ages are `f32`. Times must be finite and
+//! strictly increasing per input stream ([`crate::Error::NotFinite`], [`crate::Error::NotIncreasing`]).
 //!
 //! # Bad samples
 //!
@@ -55,7 +55,7 @@ pub(crate) enum Step {
     /// The same time.
     Same,
     /// After it, by this many seconds (capped at 1e30 s so that an absurd gap cannot
-    /// become an infinite `f32`; 0 for steps below the smallest `f32`, 1.4e-45 s).
+    /// become an infinite `f32`; 0 for steps below the smallest normal `f32`, 1.2e-38 s).
     Later(f32),
 }
 

@@ -913,7 +913,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     pub fn process(&mut self, sample: &Sample) -> Output {
         let mut flags = Flags::default();
         // 1. Validation of the required channels. The step from the last sample is
-        //    formed once (one `f64` subtraction) and reused below.
+        //    formed once and reused below.
         if !finite_time(sample.time_s) {
             return self.carry(sample.time_s, Flags::REJECTED_TIME);
         }

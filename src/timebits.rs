@@ -6,10 +6,12 @@
 //! (subtraction, narrowing, widening, comparison: 1.7 KB of flash on the Cortex-M4F,
 //! measured with the firmware's flash probe), for three small jobs: the step between two
 //! time stamps, the order of two time stamps, and a time minus a step. They are done
-//! here with integer arithmetic, with the results IEEE 754 arithmetic gives, bit for bit:
-//! `(now - last) as f32` and `t - f64::from(dt)` rounded to nearest, ties to even
-//! (IEEE 754-2019, sec. 4.3.1 and 5.4.2, from memory). The tests compare them with the
-//! host's hardware `f64` arithmetic on a million pairs of every size and sign.
+//! here with integer arithmetic, rounded to nearest, ties to even (IEEE 754-2019, sec.
+//! 4.3.1, from memory): `t - f64::from(dt)` bit for bit as `f64` arithmetic gives it, and
+//! the step as the exact difference rounded once to `f32` (the `f64` subtraction
+//! narrowed to `f32` rounds twice and can differ in the last bit; steps below the
+//! smallest normal `f32` read as 0). The tests compare them with the host's hardware
+//! arithmetic on about a million pairs of every size and sign.
 //!
 //! Written here, not taken from a crate: the crates that do floating point in software
 //! (and `compiler_builtins`, which the compiler calls) implement the whole of `f64`
@@ -17,7 +19,7 @@
 //! finite values.
 
 /// Fraction bits of an `f64`.
-pub(crate) const F64_FRACTION: u64 = (1 << 52) - 1;
+const F64_FRACTION: u64 = (1 << 52) - 1;
 /// Every bit of an `f64` but the sign.
 const MAGNITUDE: u64 = !(1 << 63);
 /// Headroom of the larger significand in [`difference`]: 53 + 10 bits fill a `u64` but
@@ -42,7 +44,7 @@ pub(crate) struct Difference {
 /// integers: the magnitude bits order positive values, and their negation orders the
 /// negative ones.
 #[inline]
-pub(crate) const fn order_key(bits: u64) -> i64 {
+const fn order_key(bits: u64) -> i64 {
     let magnitude = (bits & MAGNITUDE) as i64;
     if bits >> 63 == 0 {
         magnitude

@@ -297,15 +297,15 @@ pub struct VerticalKalman<C = VerticalKalmanConfig> {
     /// Latest accelerometer sample, m/s^2.
     accel_mps2: f32,
     /// Age of the latest accelerometer sample at `time_s`, s; infinite before the first.
-    /// Ages are `f32` so that only one `f64` subtraction is done per call.
+    /// Ages are `f32` so that only one step between `f64` times is formed per call.
     accel_age_s: f32,
     /// Age of the latest accepted barometer sample at `time_s`, s.
     accepted_age_s: f32,
     /// Yes/no state, one bit each (see the `*_AT_CORE`, `INITIALIZED`, ... masks): the
     /// latest barometer / accelerometer sample is at `time_s`, initialised, barometer
     /// disturbed, re-acquisition pending. (Whether the accelerometer sample is at
-    /// `time_s` is a flag, not `accel_age_s == 0`: a step below the smallest `f32`,
-    /// 1.4e-45 s, is later but adds 0 to the age.)
+    /// `time_s` is a flag, not `accel_age_s == 0`: a step below the smallest normal
+    /// `f32`, 1.2e-38 s, is later but adds 0 to the age.)
     bits: Bits,
     consecutive_rejections: u16,
     rejected: u32,
@@ -368,7 +368,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
 
     /// [`Self::predict`] with the step from the filter's time to `t` already formed
     /// (`step_between(self.time_s, t)`; anything when the filter has no time yet), so
-    /// that a caller which has it does not pay for a second `f64` subtraction. `t` is
+    /// that a caller which has it does not form the step a second time. `t` is
     /// finite.
     pub(crate) fn predict_step(
         &mut self,

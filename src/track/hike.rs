@@ -84,7 +84,7 @@
 //! # Time and precision
 //!
 //! Time is `f64` seconds from any origin: at 1e9 s (32 years) its resolution is still
-//! 0.1 microsecond. Per sample only one `f64` subtraction and a few comparisons are done;
+//! 0.1 microsecond. Per sample only one step between two `f64` times is formed;
 //! intervals are then `f32`. Heights are `f32` metres (resolution 0.5 mm at 5 km); totals
 //! are integer centimetres and cannot drift.
 //!
