@@ -31,10 +31,11 @@
 //! [`pipeline::SettingsStore`].
 //!
 //! ```
-//! use isohypse::pipeline::{Fixed, FixedSettings, Pipeline, Sample, Settings};
+//! use isohypse::pipeline::{parts, Fixed, FixedSettings, Pipeline, Sample, Settings};
 //! struct Drone;
 //! impl FixedSettings for Drone {
 //!     const SETTINGS: Settings = Settings::drone();
+//!     type Parts = parts::Drone;
 //! }
 //! let mut drone = Pipeline::<2, Fixed<Drone>>::new(Fixed::new())?;
 //! assert!(drone.process(&Sample::pressure(0.0, 97_700.0)).accepted());

@@ -44,6 +44,10 @@ use crate::track::AscentTotals;
 use crate::track::{HikeConfig, HikeTracker};
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
 use core::borrow::Borrow;
+use core::marker::PhantomData;
+
+pub mod parts;
+use parts::{Parts, Presence};
 
 /// One reading. Only time and pressure are required; every other channel is optional.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -461,11 +465,22 @@ impl Settings {
 #[derive(Debug, Clone, PartialEq)]
 #[allow(clippy::large_enum_variant)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-enum TrackState {
-    Flight(AscentTotals),
+enum TrackState<H: Presence> {
+    /// The totals (and the layout's hike presence, which names the other variant's
+    /// slot; a marker, so that builds without the hike tracker use it too).
+    Flight(AscentTotals, PhantomData<H>),
     #[cfg(feature = "pipeline-hike")]
-    /// The tracker and the smoothed vertical speed of its height, m/s.
-    Hike(HikeTracker, f32),
+    /// The hike tracker (in its slot: a layout without it has no such variant).
+    Hike(H::Slot<HikePart>),
+}
+
+/// The hike tracker and the smoothed vertical speed of its height, m/s.
+#[cfg(feature = "pipeline-hike")]
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct HikePart {
+    tracker: HikeTracker,
+    speed_mps: f32,
 }
 
 /// The estimator's state: the two estimators are never used together, so their states
@@ -473,11 +488,11 @@ enum TrackState {
 #[derive(Debug, Clone, PartialEq)]
 #[allow(clippy::large_enum_variant)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-enum EstimatorState<K> {
+enum EstimatorState<P: Presence, K: parts::Holdable> {
     /// Pointwise heights behind the median spike gate.
     Pointwise(SpikeGate),
-    /// The Kalman filter.
-    Kalman(VerticalKalman<K>),
+    /// The Kalman filter (in its slot: a layout without it has no such variant).
+    Kalman(P::Slot<VerticalKalman<K>>),
 }
 
 /// Where a [`Pipeline`] keeps its [`Settings`]: in its own state ([`Settings`], the
@@ -498,9 +513,12 @@ enum EstimatorState<K> {
 /// ```
 pub trait SettingsStore {
     /// How the Kalman filter holds its settings (owned or borrowed).
-    type Kalman: Borrow<VerticalKalmanConfig> + Copy;
+    type Kalman: Borrow<VerticalKalmanConfig> + Copy + parts::Holdable;
     /// How the phase tracker holds its settings (owned or borrowed).
     type Phases: Borrow<PhaseSettings>;
+    /// The optional parts the pipeline holds ([`parts::Every`] unless the settings
+    /// are fixed at compile time).
+    type Parts: Parts;
     /// The settings.
     fn settings(&self) -> &Settings;
     /// The Kalman filter's settings, if the estimator is [`Estimator::Kalman`].
@@ -512,6 +530,7 @@ pub trait SettingsStore {
 impl SettingsStore for Settings {
     type Kalman = VerticalKalmanConfig;
     type Phases = PhaseSettings;
+    type Parts = parts::Every;
     fn settings(&self) -> &Settings {
         self
     }
@@ -527,6 +546,7 @@ impl SettingsStore for Settings {
 impl<'a> SettingsStore for &'a Settings {
     type Kalman = &'a VerticalKalmanConfig;
     type Phases = &'a PhaseSettings;
+    type Parts = parts::Every;
     fn settings(&self) -> &Settings {
         self
     }
@@ -550,6 +570,10 @@ impl<'a> SettingsStore for &'a Settings {
 pub trait FixedSettings {
     /// The settings (validated by [`Pipeline::new`] like any others).
     const SETTINGS: Settings;
+    /// The parts the pipeline holds ([`parts`]): [`parts::Every`], a preset's layout
+    /// ([`parts::Drone`], [`parts::Balloon`], [`parts::Hike`]) or one's own. An omitted
+    /// part takes no RAM; settings that need it are refused.
+    type Parts: Parts;
 }
 
 /// A [`SettingsStore`] for settings fixed at compile time ([`FixedSettings`]). It takes
@@ -561,10 +585,12 @@ pub trait FixedSettings {
 /// (start altitude, altimeter setting, fixes) work as with any store.
 ///
 /// ```
-/// use isohypse::pipeline::{Fixed, FixedSettings, Pipeline, Sample, Settings};
+/// use isohypse::pipeline::{parts, Fixed, FixedSettings, Pipeline, Sample, Settings};
 /// struct Drone;
 /// impl FixedSettings for Drone {
 ///     const SETTINGS: Settings = Settings::drone();
+///     // only the parts the drone needs: no hike tracker, no sounding in RAM
+///     type Parts = parts::Drone;
 /// }
 /// let mut pipe = Pipeline::<2, Fixed<Drone>>::new(Fixed::new())?;
 /// let out = pipe.process(&Sample::pressure(0.0, 98_000.0));
@@ -620,6 +646,7 @@ impl<T: FixedSettings> Fixed<T> {
 impl<T: FixedSettings> SettingsStore for Fixed<T> {
     type Kalman = Self;
     type Phases = Self;
+    type Parts = T::Parts;
     fn settings(&self) -> &Settings {
         Self::fixed()
     }
@@ -659,6 +686,17 @@ impl Tracking {
     }
 }
 
+/// The presence of each optional part in a store's layout.
+type KalmanOf<S> = <<S as SettingsStore>::Parts as Parts>::Kalman;
+type GroundOf<S> = <<S as SettingsStore>::Parts as Parts>::Ground;
+#[cfg_attr(
+    not(any(feature = "pipeline-sounding", feature = "pipeline-column")),
+    allow(dead_code)
+)]
+type ModelOf<S> = <<S as SettingsStore>::Parts as Parts>::Model;
+#[cfg(feature = "pipeline-hike")]
+type HikeOf<S> = <<S as SettingsStore>::Parts as Parts>::Hike;
+
 /// Masks of [`Pipeline`]'s yes/no state.
 const GROUND_FROZEN: u8 = 1;
 const HAS_TIME: u8 = 2;
@@ -691,15 +729,14 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     start_altitude_m: Option<f32>,
     altimeter_setting: AltimeterSetting,
     #[cfg(feature = "pipeline-sounding")]
-    gravity: Gravity,
-    #[cfg(feature = "pipeline-sounding")]
-    sounding: Option<Sounding<N>>,
+    sounding: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Sounding<N>>>,
     #[cfg(feature = "pipeline-column")]
-    column_reference: Option<Reference>,
-    estimator: EstimatorState<S::Kalman>,
-    ground: GroundReference,
+    column_reference: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Reference>>,
+    estimator: EstimatorState<<S::Parts as Parts>::Kalman, S::Kalman>,
+    /// The ground reference (`()` in a layout without it).
+    ground: <<S::Parts as Parts>::Ground as Presence>::Field<GroundReference>,
     phases: FlightPhases<S::Phases>,
-    track: TrackState,
+    track: TrackState<<S::Parts as Parts>::Hike>,
     /// Datum offset added to the model height, m, and its target (fixes slew to it).
     offset_m: f32,
     offset_target_m: f32,
@@ -707,7 +744,7 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     /// the 16 of an `Option`).
     last_time_s: f64,
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
-    last_temperature: Option<Temperature>,
+    last_temperature: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Temperature>>,
     /// Seconds covered by samples the spike gate held back since the phase tracker's
     /// last sample (it sees only the samples that are taken).
     held_back_s: f32,
@@ -728,30 +765,42 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         s.validate()?;
         let estimator = match settings.kalman() {
             None => EstimatorState::Pointwise(SpikeGate::new()),
-            Some(k) => EstimatorState::Kalman(VerticalKalman::new(k)?),
+            Some(k) => EstimatorState::Kalman(
+                KalmanOf::<S>::hold(VerticalKalman::new(k)?).ok_or(Error::InvalidSetting)?,
+            ),
         };
         let phases = FlightPhases::new(settings.phases())?;
         let track = match s.tracking {
             Tracking::Flight { totals_band_m, .. } => {
-                TrackState::Flight(AscentTotals::new(totals_band_m)?)
+                TrackState::Flight(AscentTotals::new(totals_band_m)?, PhantomData)
             }
             #[cfg(feature = "pipeline-hike")]
-            Tracking::Hike { hike, .. } => TrackState::Hike(HikeTracker::new(hike)?, 0.0),
+            Tracking::Hike { hike, .. } => TrackState::Hike(
+                HikeOf::<S>::hold(HikePart {
+                    tracker: HikeTracker::new(hike)?,
+                    speed_mps: 0.0,
+                })
+                .ok_or(Error::InvalidSetting)?,
+            ),
         };
         // the latitude is checked in every build
-        let _gravity = s.gravity()?;
-        let ground = GroundReference::new(GroundReferenceConfig {
+        s.gravity()?;
+        let ground = GroundOf::<S>::field(GroundReference::new(GroundReferenceConfig {
             min_samples: s.ground_min_samples.max(2),
             min_duration_s: 0.0,
-        })?;
+        })?);
+        // the parts these settings need must be in the layout
+        if (s.start_altitude_m.is_some() && !GroundOf::<S>::HELD)
+            || (!ModelOf::<S>::HELD && !matches!(s.model, HeightModel::Standard))
+        {
+            return Err(Error::InvalidSetting);
+        }
         let start_altitude_m = s.start_altitude_m;
         let altimeter_setting = s.altimeter_setting;
         Ok(Self {
             store: settings,
             start_altitude_m,
             altimeter_setting,
-            #[cfg(feature = "pipeline-sounding")]
-            gravity: _gravity,
             #[cfg(feature = "pipeline-sounding")]
             sounding: None,
             #[cfg(feature = "pipeline-column")]
@@ -801,13 +850,16 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// an outlier the spike gate held back).
     fn carry(&self, time_s: f64, flags: Flags) -> Output {
         let (ascent_m, descent_m, tendency_hpa) = match &self.track {
-            TrackState::Flight(totals) => (totals.ascent_m(), totals.descent_m(), None),
+            TrackState::Flight(totals, _) => (totals.ascent_m(), totals.descent_m(), None),
             #[cfg(feature = "pipeline-hike")]
-            TrackState::Hike(hike, _) => (
-                hike.totals().ascent_m(),
-                hike.totals().descent_m(),
-                hike.tendency().tendency_hpa(),
-            ),
+            TrackState::Hike(part) => {
+                let hike = &HikeOf::<S>::get(part).tracker;
+                (
+                    hike.totals().ascent_m(),
+                    hike.totals().descent_m(),
+                    hike.tendency().tendency_hpa(),
+                )
+            }
         };
         Output {
             time_s,
@@ -827,7 +879,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// The sounding (balloon model), once started.
     #[cfg(feature = "pipeline-sounding")]
     pub fn sounding(&self) -> Option<&Sounding<N>> {
-        self.sounding.as_ref()
+        self.sounding.as_ref().map(ModelOf::<S>::get)
     }
 
     /// The flight phase tracker.
@@ -839,7 +891,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     pub fn outlier_count(&self) -> u32 {
         match &self.estimator {
             EstimatorState::Pointwise(gate) => gate.outliers,
-            EstimatorState::Kalman(k) => k.rejected_count(),
+            EstimatorState::Kalman(k) => KalmanOf::<S>::get(k).rejected_count(),
         }
     }
 
@@ -850,9 +902,15 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         let mut s = self.settings();
         s.start_altitude_m = start_altitude_m;
         s.validate()?;
+        if start_altitude_m.is_some() && !GroundOf::<S>::HELD {
+            // a layout without the ground reference (parts::Hike)
+            return Err(Error::InvalidSetting);
+        }
         self.start_altitude_m = start_altitude_m;
         self.bits.set(GROUND_FROZEN, false);
-        self.ground.rezero();
+        if let Some(g) = GroundOf::<S>::field_mut(&mut self.ground) {
+            g.rezero();
+        }
         Ok(())
     }
 
@@ -877,7 +935,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         }
         if self.start_altitude_m.is_some() && !self.bits.get(GROUND_FROZEN) {
             // the ground reference averaged heights of the old setting: take it anew
-            self.ground.rezero();
+            if let Some(g) = GroundOf::<S>::field_mut(&mut self.ground) {
+                g.rezero();
+            }
         }
         self.altimeter_setting = setting;
         Ok(())
@@ -886,7 +946,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// Re-zero: the next samples at rest become the new ground reference (drone
     /// re-arming).
     pub fn rezero(&mut self) {
-        self.ground.rezero();
+        if let Some(g) = GroundOf::<S>::field_mut(&mut self.ground) {
+            g.rezero();
+        }
         self.bits.set(GROUND_FROZEN, false);
     }
 
@@ -894,7 +956,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// trusts the barometer less while set.
     pub fn set_baro_disturbed(&mut self, disturbed: bool) {
         if let EstimatorState::Kalman(k) = &mut self.estimator {
-            k.set_baro_disturbed(disturbed);
+            KalmanOf::<S>::get_mut(k).set_baro_disturbed(disturbed);
         }
     }
 
@@ -903,7 +965,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// [`VerticalKalman::predict`]; `Ok` and ignored without a Kalman estimator.
     pub fn accelerometer(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
         match &mut self.estimator {
-            EstimatorState::Kalman(k) => k.predict(time_s, accel_up_mps2),
+            EstimatorState::Kalman(k) => KalmanOf::<S>::get_mut(k).predict(time_s, accel_up_mps2),
             EstimatorState::Pointwise(_) => Ok(()),
         }
     }
@@ -983,14 +1045,19 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
         //    once the estimator has accepted it and the vehicle is at rest), then fixes.
-        let mut ground = self.ground;
+        // (a copy, committed with the rest; `None` in a layout without it)
+        let mut ground = self.ground.clone();
         let mut ground_frozen = self.bits.get(GROUND_FROZEN);
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
         let averaging = self.start_altitude_m.is_some()
             && !ground_frozen
             && self.phases.phase() == Phase::Ground;
-        if let (Some(start), true) = (self.start_altitude_m, averaging) {
+        if let (Some(start), true, Some(ground)) = (
+            self.start_altitude_m,
+            averaging,
+            GroundOf::<S>::field_ref(&ground),
+        ) {
             if ground.sample_count() == 0 {
                 // provisional until samples at rest are averaged
                 offset_target = start - model_m;
@@ -1033,8 +1100,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // The hike tracker is the last step that can refuse the sample; ask it now,
         // before the estimator changes.
         #[cfg(feature = "pipeline-hike")]
-        if let TrackState::Hike(hike, _) = &self.track {
-            if !hike.accepts(sample.time_s, raw) {
+        if let TrackState::Hike(part) = &self.track {
+            if !HikeOf::<S>::get(part).tracker.accepts(sample.time_s, raw) {
                 return self.carry(sample.time_s, Flags::REJECTED_MODEL);
             }
         }
@@ -1075,6 +1142,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 (raw_m, speed, self.model_sigma(pressure, column_t, raw_m))
             }
             EstimatorState::Kalman(k) => {
+                let k = KalmanOf::<S>::get_mut(k);
                 // Height noise of this sample from the sensor's pressure noise.
                 let sigma = pressure_sigma_m(self.store.settings(), pressure, column_t);
                 let sigma = if sigma > 1.0e-3 { sigma } else { 1.0e-3 };
@@ -1101,7 +1169,11 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         };
         // The ground reference takes samples the estimator accepted, at rest only: a
         // spike or the first seconds of a climb must not move the zero.
-        if let (Some(start), true) = (self.start_altitude_m, averaging) {
+        if let (Some(start), true, Some(ground)) = (
+            self.start_altitude_m,
+            averaging,
+            GroundOf::<S>::field_mut(&mut ground),
+        ) {
             let at_rest = speed_mps.abs() < self.phases.settings().rest_mps;
             if at_rest && !flags.contains(Flags::OUTLIER) && !flags.contains(Flags::REACQUIRED) {
                 let _ = ground.push(sample.time_s, height_or_zero(model_m));
@@ -1118,7 +1190,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         #[cfg(feature = "pipeline-hike")]
         let first_sample = self.last_time().is_none();
         let (out_height, speed_mps, ascent, descent, tendency) = match &mut self.track {
-            TrackState::Flight(totals) => {
+            TrackState::Flight(totals, _) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
                 (
                     height_m,
@@ -1129,7 +1201,11 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 )
             }
             #[cfg(feature = "pipeline-hike")]
-            TrackState::Hike(hike, hike_speed) => {
+            TrackState::Hike(part) => {
+                let HikePart {
+                    tracker: hike,
+                    speed_mps: hike_speed,
+                } = HikeOf::<S>::get_mut(part);
                 match hike.update_pressure_altitude(sample.time_s, raw) {
                     Ok(mut r) => {
                         if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
@@ -1184,12 +1260,14 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         match model_change {
             ModelChange::Keep => {}
             #[cfg(feature = "pipeline-column")]
-            ModelChange::ColumnStart(reference) => self.column_reference = Some(reference),
+            ModelChange::ColumnStart(reference) => {
+                self.column_reference = ModelOf::<S>::hold(reference)
+            }
             #[cfg(feature = "pipeline-sounding")]
-            ModelChange::SoundingStart(s) => self.sounding = Some(s),
+            ModelChange::SoundingStart(s) => self.sounding = ModelOf::<S>::hold(s),
             #[cfg(feature = "pipeline-sounding")]
             ModelChange::SoundingStep(pending, descending) => {
-                if let Some(s) = self.sounding.as_mut() {
+                if let Some(s) = self.sounding.as_mut().map(ModelOf::<S>::get_mut) {
                     if descending {
                         s.set_recording(false);
                     }
@@ -1210,8 +1288,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         self.last_time_s = sample.time_s;
         self.bits.set(HAS_TIME, true);
         #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
-        if temperature.is_some() {
-            self.last_temperature = temperature;
+        if let Some(t) = temperature {
+            self.last_temperature = ModelOf::<S>::hold(t);
         }
         self.last = Carried {
             altitude_m: out_height,
@@ -1271,7 +1349,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     },
                 };
                 let column_t = t.map_or(t_std.kelvin(), |t| t.kelvin());
-                match self.column_reference {
+                match self.column_reference.as_ref().map(ModelOf::<S>::get) {
                     None => {
                         let base = match self.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
@@ -1287,7 +1365,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                         Ok((base.meters() - self.start_offset(), column_t))
                     }
                     Some(reference) => {
-                        let h = model.height(&reference, p, &air)?;
+                        let h = model.height(reference, p, &air)?;
                         Ok((h.meters() - self.start_offset(), column_t))
                     }
                 }
@@ -1295,13 +1373,14 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             #[cfg(feature = "pipeline-sounding")]
             HeightModel::Sounding { descent_on_profile } => {
                 let t = self.temperature_or_held(t, t_std, flags);
-                match self.sounding.as_ref() {
+                match self.sounding.as_ref().map(ModelOf::<S>::get) {
                     None => {
                         let base = match self.start_altitude_m {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
-                        let start = Sounding::new(base, self.gravity, p, t, rh)?;
+                        let start =
+                            Sounding::new(base, self.store.settings().gravity()?, p, t, rh)?;
                         // the datum offset is applied later: report model height
                         // relative to the start altitude's frame
                         *change = ModelChange::SoundingStart(start);
@@ -1343,7 +1422,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// Whether the hike tracker is in use.
     fn is_hike(&self) -> bool {
         match self.track {
-            TrackState::Flight(_) => false,
+            TrackState::Flight(..) => false,
             #[cfg(feature = "pipeline-hike")]
             TrackState::Hike(..) => true,
         }
@@ -1358,11 +1437,11 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         standard: Temperature,
         flags: &mut Flags,
     ) -> Temperature {
-        match (t, self.last_temperature) {
+        match (t, self.last_temperature.as_ref().map(ModelOf::<S>::get)) {
             (Some(t), _) => t,
             (None, Some(held)) => {
                 flags.set(Flags::TEMPERATURE_HELD);
-                held
+                *held
             }
             (None, None) => {
                 flags.set(Flags::TEMPERATURE_ASSUMED);

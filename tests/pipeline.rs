@@ -3,6 +3,7 @@
 
 use isohypse::atmosphere;
 use isohypse::flight::Phase;
+use isohypse::pipeline::parts::{self, Parts, Presence};
 use isohypse::pipeline::{
     Estimator, Fixed, FixedSettings, Flags, HeightModel, Pipeline, Sample, Settings,
 };
@@ -448,14 +449,17 @@ fn borrowed_settings_give_the_same_outputs() {
 struct DroneFixed;
 impl FixedSettings for DroneFixed {
     const SETTINGS: Settings = Settings::drone();
+    type Parts = parts::Drone;
 }
 struct HikeFixed;
 impl FixedSettings for HikeFixed {
     const SETTINGS: Settings = Settings::hike();
+    type Parts = parts::Hike;
 }
 struct BalloonFixed;
 impl FixedSettings for BalloonFixed {
     const SETTINGS: Settings = Settings::balloon();
+    type Parts = parts::Balloon;
 }
 
 /// The same samples through a pipeline with owned settings and one with the same settings
@@ -475,9 +479,19 @@ fn same_outputs<const N: usize, T: FixedSettings>(samples: &[Sample]) {
         assert_eq!(a.altitude_sigma_m.to_bits(), b.altitude_sigma_m.to_bits());
         assert_eq!(a, b);
     }
-    // run-time changes work as with any store
-    fixed.set_start_altitude(Some(250.0)).unwrap();
-    owned.set_start_altitude(Some(250.0)).unwrap();
+    // run-time changes work as with any store, except a start altitude in a layout
+    // without the ground reference: refused, nothing changed
+    if <<T::Parts as Parts>::Ground as Presence>::HELD {
+        owned.set_start_altitude(Some(250.0)).unwrap();
+        fixed.set_start_altitude(Some(250.0)).unwrap();
+    } else {
+        let before = fixed.clone();
+        assert_eq!(
+            fixed.set_start_altitude(Some(250.0)),
+            Err(Error::InvalidSetting)
+        );
+        assert_eq!(fixed, before);
+    }
     let last = samples.last().unwrap();
     let next = Sample::pressure(last.time_s + 1.0, last.pressure_pa);
     assert_eq!(owned.process(&next), fixed.process(&next));
@@ -506,4 +520,108 @@ fn fixed_settings_give_the_same_outputs() {
     same_outputs::<2, DroneFixed>(&samples);
     same_outputs::<2, HikeFixed>(&samples);
     same_outputs::<64, BalloonFixed>(&samples);
+}
+
+/// Settings whose needs a layout omits.
+struct DroneInHikeParts;
+impl FixedSettings for DroneInHikeParts {
+    const SETTINGS: Settings = Settings::drone();
+    type Parts = parts::Hike;
+}
+struct HikeInDroneParts;
+impl FixedSettings for HikeInDroneParts {
+    const SETTINGS: Settings = Settings::hike();
+    type Parts = parts::Drone;
+}
+struct BalloonInDroneParts;
+impl FixedSettings for BalloonInDroneParts {
+    const SETTINGS: Settings = Settings::balloon();
+    type Parts = parts::Drone;
+}
+struct HikeWithStart;
+impl FixedSettings for HikeWithStart {
+    const SETTINGS: Settings = {
+        let mut s = Settings::hike();
+        s.start_altitude_m = Some(800.0);
+        s
+    };
+    type Parts = parts::Hike;
+}
+struct HikeInEvery;
+impl FixedSettings for HikeInEvery {
+    const SETTINGS: Settings = HikeWithStart::SETTINGS;
+    type Parts = parts::Every;
+}
+
+#[test]
+fn layouts_refuse_settings_that_need_an_omitted_part() {
+    // the Kalman filter, the hike tracker, the sounding, the ground reference
+    assert_eq!(
+        Pipeline::<2, Fixed<DroneInHikeParts>>::new(Fixed::new()).err(),
+        Some(Error::InvalidSetting)
+    );
+    assert_eq!(
+        Pipeline::<2, Fixed<HikeInDroneParts>>::new(Fixed::new()).err(),
+        Some(Error::InvalidSetting)
+    );
+    assert_eq!(
+        Pipeline::<2, Fixed<BalloonInDroneParts>>::new(Fixed::new()).err(),
+        Some(Error::InvalidSetting)
+    );
+    assert_eq!(
+        Pipeline::<2, Fixed<HikeWithStart>>::new(Fixed::new()).err(),
+        Some(Error::InvalidSetting)
+    );
+    // the same settings in a layout with every part are taken
+    assert!(Pipeline::<2, Fixed<HikeInEvery>>::new(Fixed::new()).is_ok());
+}
+
+#[test]
+fn lean_layouts_are_smaller_and_compute_the_same() {
+    use core::mem::size_of;
+    struct DroneEvery;
+    impl FixedSettings for DroneEvery {
+        const SETTINGS: Settings = Settings::drone();
+        type Parts = parts::Every;
+    }
+    struct HikeEvery;
+    impl FixedSettings for HikeEvery {
+        const SETTINGS: Settings = Settings::hike();
+        type Parts = parts::Every;
+    }
+    let drone = size_of::<Pipeline<2, Fixed<DroneFixed>>>();
+    let hike = size_of::<Pipeline<2, Fixed<HikeFixed>>>();
+    let every = size_of::<Pipeline<2, Fixed<DroneEvery>>>();
+    println!(
+        "Pipeline<2, Fixed<P>>: drone parts {drone} B, hike parts {hike} B, every part {every} B (host)"
+    );
+    // an omitted part takes no room: the hike layout holds neither the Kalman filter
+    // nor the ground reference nor the sounding
+    assert!(
+        hike + size_of::<isohypse::filter::GroundReference>()
+            + size_of::<isohypse::sounding::Sounding<2>>()
+            <= every
+    );
+    assert!(drone + size_of::<isohypse::track::HikeTracker>() <= every);
+    // and the outputs are those of the layout with every part, bit for bit
+    let samples: Vec<Sample> = (0..400)
+        .map(|i| {
+            let t = f64::from(i);
+            let h = 300.0 + if i < 200 { f64::from(i) * 0.3 } else { 60.0 };
+            let mut s = Sample::pressure(t, p_at(h as f32));
+            if i == 250 {
+                s.known_altitude_m = Some(371.0);
+            }
+            s
+        })
+        .collect();
+    let mut lean = Pipeline::<2, Fixed<HikeFixed>>::new(Fixed::new()).unwrap();
+    let mut full = Pipeline::<2, Fixed<HikeEvery>>::new(Fixed::new()).unwrap();
+    let mut lean_drone = Pipeline::<2, Fixed<DroneFixed>>::new(Fixed::new()).unwrap();
+    let mut full_drone = Pipeline::<2, Fixed<DroneEvery>>::new(Fixed::new()).unwrap();
+    for s in &samples {
+        assert_eq!(lean.process(s), full.process(s));
+        assert_eq!(lean_drone.process(s), full_drone.process(s));
+    }
+    assert_eq!(lean.last_output(), full.last_output());
 }

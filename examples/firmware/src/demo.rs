@@ -16,7 +16,7 @@
 
 use isohypse::Error;
 use isohypse::flight::Phase;
-use isohypse::pipeline::{Fixed, FixedSettings, Output, Pipeline, Sample, Settings};
+use isohypse::pipeline::{Fixed, FixedSettings, Output, Pipeline, Sample, Settings, parts};
 
 /// Samples in each demo flight.
 pub const DEMO_COUNT: usize = 200;
@@ -67,6 +67,7 @@ pub struct DronePreset;
 impl FixedSettings for DronePreset {
     /// The drone preset as shipped (height above the ground reference taken at rest).
     const SETTINGS: Settings = Settings::drone();
+    type Parts = parts::Drone;
 }
 
 /// The drone pipeline's type.
@@ -89,6 +90,7 @@ impl FixedSettings for BalloonPreset {
         s.latitude_deg = Some(LAUNCH_LATITUDE_DEG);
         s
     };
+    type Parts = parts::Balloon;
 }
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]
@@ -108,6 +110,7 @@ pub struct HikePreset;
 #[cfg(any(feature = "presets", not(target_os = "none")))]
 impl FixedSettings for HikePreset {
     const SETTINGS: Settings = Settings::hike();
+    type Parts = parts::Hike;
 }
 
 #[cfg(any(feature = "presets", not(target_os = "none")))]

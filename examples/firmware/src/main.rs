@@ -303,44 +303,49 @@ fn sizes() {
     );
     hprintln!("| type | bytes |");
     hprintln!("| --- | ---: |");
-    let rows: [(&str, usize); 10] = [
-        (
-            "Pipeline<2, Fixed<P>> (drone, hike; settings fixed at compile time)",
-            size_of::<demo::DronePipeline>(),
-        ),
-        (
-            "Pipeline<2, &'static Settings>",
-            size_of::<pipeline::Pipeline<2, &'static pipeline::Settings>>(),
-        ),
-        (
-            "Pipeline<64, Fixed<P>> (balloon)",
-            size_of::<
-                pipeline::Pipeline<{ demo::PROFILE_LEVELS }, pipeline::Fixed<demo::DronePreset>>,
-            >(),
-        ),
-        (
-            "Pipeline<2> (settings owned)",
-            size_of::<pipeline::Pipeline<2>>(),
-        ),
-        ("VerticalKalman", size_of::<filter::VerticalKalman>()),
-        ("FlightPhases", size_of::<flight::FlightPhases>()),
-        ("HikeTracker", size_of::<track::HikeTracker>()),
-        (
-            "Sounding<64>",
-            size_of::<sounding::Sounding<{ demo::PROFILE_LEVELS }>>(),
-        ),
-        ("Settings", size_of::<pipeline::Settings>()),
-        ("Output", size_of::<pipeline::Output>()),
-    ];
-    for (name, bytes) in rows {
-        hprintln!("| {} | {} |", name, bytes);
-    }
-    let drone = size_of::<demo::DronePipeline>();
-    hprintln!(
-        "goal: pipeline state <= 256 bytes (design notes): Pipeline<2, Fixed<P>> {} bytes in this build, {}",
-        drone,
-        if drone <= 256 { "met" } else { "not met" }
+    let row = |name: &str, bytes: usize| hprintln!("| {} | {} |", name, bytes);
+    row(
+        "Pipeline<2, Fixed<P>>, drone (parts::Drone; settings fixed at compile time)",
+        size_of::<demo::DronePipeline>(),
     );
+    #[cfg(feature = "presets")]
+    row(
+        "Pipeline<2, Fixed<P>>, hike (parts::Hike)",
+        size_of::<demo::HikePipeline>(),
+    );
+    #[cfg(feature = "presets")]
+    row(
+        "Pipeline<64, Fixed<P>>, balloon (parts::Balloon, 64 stored levels)",
+        size_of::<demo::BalloonPipeline>(),
+    );
+    row(
+        "Pipeline<2, &'static Settings> (every part)",
+        size_of::<pipeline::Pipeline<2, &'static pipeline::Settings>>(),
+    );
+    row(
+        "Pipeline<2> (settings owned, every part)",
+        size_of::<pipeline::Pipeline<2>>(),
+    );
+    row("VerticalKalman", size_of::<filter::VerticalKalman>());
+    row("FlightPhases", size_of::<flight::FlightPhases>());
+    row("HikeTracker", size_of::<track::HikeTracker>());
+    row(
+        "Sounding<64>",
+        size_of::<sounding::Sounding<{ demo::PROFILE_LEVELS }>>(),
+    );
+    row("Settings", size_of::<pipeline::Settings>());
+    row("Output", size_of::<pipeline::Output>());
+    let goal = |name: &str, bytes: usize| {
+        hprintln!(
+            "goal: pipeline state <= 256 bytes (design notes): {} pipeline {} bytes in this build, {}",
+            name,
+            bytes,
+            if bytes <= 256 { "met" } else { "not met" }
+        )
+    };
+    goal("drone", size_of::<demo::DronePipeline>());
+    #[cfg(feature = "presets")]
+    goal("hike", size_of::<demo::HikePipeline>());
 }
 
 /// Runs every row, prints instructions per call and the ratio to its reference row.

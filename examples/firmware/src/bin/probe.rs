@@ -36,6 +36,7 @@ struct Drone;
 #[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
 impl isohypse::pipeline::FixedSettings for Drone {
     const SETTINGS: Settings = Settings::drone();
+    type Parts = isohypse::pipeline::parts::Drone;
 }
 #[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
 type Store = isohypse::pipeline::Fixed<Drone>;
