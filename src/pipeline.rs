@@ -1507,10 +1507,21 @@ enum ModelChange<const N: usize> {
 }
 
 /// Median spike gate of the pointwise path: the last five accepted model heights.
+///
+/// Its own ring of five rather than [`crate::filter::Median`]: the general filter keeps
+/// a sorted copy beside its ring (48 bytes on Cortex-M for five samples) to answer in
+/// O(N) for any `N`; for five values, sorting a copy when asked costs nine
+/// compare-exchanges and the gate needs 20 bytes (measured in the hike pipeline's state,
+/// README).
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct SpikeGate {
-    window: crate::filter::Median<5>,
+    /// The last accepted model heights, m: the first `len` entries (a ring written at
+    /// `next` once full; the order does not matter for a median). Entries beyond `len`
+    /// are zero, so equal gates compare equal.
+    recent: [f32; 5],
+    next: u8,
+    len: u8,
     consecutive: u8,
     /// Outliers held back since start.
     outliers: u32,
@@ -1526,13 +1537,49 @@ const SPIKE_STALE_S: f32 = 120.0;
 /// Outliers in a row after which the spike gate takes the next sample.
 const SPIKE_REACQUIRE: u8 = 5;
 
+/// `(low, high)` of two values.
+fn ordered(a: f32, b: f32) -> (f32, f32) {
+    if b < a { (b, a) } else { (a, b) }
+}
+
 impl SpikeGate {
     fn new() -> Self {
         Self {
-            window: crate::filter::Median::new(),
+            recent: [0.0; 5],
+            next: 0,
+            len: 0,
             consecutive: 0,
             outliers: 0,
             age_s: f32::INFINITY,
+        }
+    }
+
+    /// Median of the heights held (the mean of the middle two for an even count), or
+    /// `None` before any.
+    fn median(&self) -> Option<f32> {
+        // The unused entries become +inf and sort above the held ones; then a
+        // five-input sorting network (nine compare-exchanges, Knuth, TAOCP vol. 3,
+        // 5.3.4, from memory) orders all five without indexing.
+        let held = |k: u8, v: f32| if k < self.len { v } else { f32::INFINITY };
+        let [a, b, c, d, e] = self.recent;
+        let (a, b, c, d, e) = (held(0, a), held(1, b), held(2, c), held(3, d), held(4, e));
+        let (a, b) = ordered(a, b);
+        let (d, e) = ordered(d, e);
+        let (c, e) = ordered(c, e);
+        let (c, d) = ordered(c, d);
+        let (a, d) = ordered(a, d);
+        let (a, c) = ordered(a, c);
+        let (b, _) = ordered(b, e);
+        let (b, _) = ordered(b, d);
+        let (b, c) = ordered(b, c);
+        let mid = |lower: f32, upper: f32| lower + 0.5 * (upper - lower);
+        match self.len {
+            0 => None,
+            1 => Some(a),
+            2 => Some(mid(a, b)),
+            3 => Some(b),
+            4 => Some(mid(b, c)),
+            _ => Some(c),
         }
     }
 
@@ -1542,8 +1589,7 @@ impl SpikeGate {
         self.consecutive < SPIKE_REACQUIRE
             && self.age_s + dt <= SPIKE_STALE_S
             && self
-                .window
-                .value()
+                .median()
                 .is_some_and(|median| (h - median).abs() > gate)
     }
 
@@ -1558,11 +1604,20 @@ impl SpikeGate {
     fn accept(&mut self, dt: f32, h: f32) {
         if self.consecutive >= SPIKE_REACQUIRE || self.age_s + dt > SPIKE_STALE_S {
             // a real step, or a long gap: start the window anew at the new level
-            self.window.clear();
+            self.recent = [0.0; 5];
+            self.next = 0;
+            self.len = 0;
         }
         self.consecutive = 0;
         self.age_s = 0.0;
-        let _ = self.window.push(h);
+        if !h.is_finite() {
+            return;
+        }
+        if let Some(slot) = self.recent.get_mut(usize::from(self.next)) {
+            *slot = h;
+        }
+        self.next = if self.next >= 4 { 0 } else { self.next + 1 };
+        self.len = if self.len >= 5 { 5 } else { self.len + 1 };
     }
 }
 
@@ -1603,4 +1658,79 @@ const HIKE_SPEED_TIME_CONSTANT_S: f32 = 30.0;
 
 fn height_or_zero(m: f32) -> Height {
     Height::from_meters(m).unwrap_or(Height::ZERO)
+}
+
+#[cfg(test)]
+mod tests {
+    extern crate std;
+    use super::*;
+    use std::vec::Vec;
+
+    /// Median by sorting a copy (the reference; mean of the middle two for an even
+    /// count, as `filter::Median`).
+    fn sorted_median(values: &[f32]) -> Option<f32> {
+        let mut v = values.to_vec();
+        v.sort_by(f32::total_cmp);
+        let n = v.len();
+        if n == 0 {
+            return None;
+        }
+        let upper = v[n / 2];
+        if n % 2 == 1 {
+            Some(upper)
+        } else {
+            let lower = v[n / 2 - 1];
+            Some(lower + 0.5 * (upper - lower))
+        }
+    }
+
+    #[test]
+    fn spike_gate_median_is_the_median_of_the_last_five() {
+        // every 0/1 input of each length sorts right (0-1 principle for the network),
+        // then a long pseudo-random run with repeats through the ring
+        for len in 0..=5u8 {
+            for bits in 0..32u32 {
+                let mut gate = SpikeGate::new();
+                let values: Vec<f32> = (0..len).map(|k| ((bits >> k) & 1) as f32).collect();
+                for &v in &values {
+                    gate.accept(0.0, v);
+                }
+                assert_eq!(gate.median(), sorted_median(&values), "{values:?}");
+            }
+        }
+        let mut gate = SpikeGate::new();
+        let mut history = Vec::new();
+        let mut x = 12_345u32;
+        for _ in 0..2_000 {
+            x = x.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+            let v = ((x >> 16) % 50) as f32 * 0.25 - 3.0;
+            gate.accept(0.1, v);
+            history.push(v);
+            let tail = &history[history.len().saturating_sub(5)..];
+            assert_eq!(gate.median(), sorted_median(tail));
+            // the general filter gives the same value
+            let mut general = crate::filter::Median::<5>::new();
+            for &t in tail {
+                general.push(t).unwrap();
+            }
+            assert_eq!(gate.median(), general.value());
+        }
+    }
+
+    #[test]
+    fn spike_gate_restart_forgets_the_window() {
+        let mut gate = SpikeGate::new();
+        for v in [1.0, 2.0, 3.0] {
+            gate.accept(1.0, v);
+        }
+        // a long gap: the window starts anew, and equals a new gate given one sample
+        gate.accept(SPIKE_STALE_S + 1.0, 50.0);
+        let mut fresh = SpikeGate::new();
+        fresh.accept(0.0, 50.0);
+        assert_eq!(gate, fresh);
+        assert_eq!(gate.median(), Some(50.0));
+        // a non-finite height is not held
+        gate.accept(1.0, f32::NAN);
+        assert_eq!(gate.median(), Some(50.0));
+    }
 }
