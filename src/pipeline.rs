@@ -1510,15 +1510,15 @@ enum ModelChange<const N: usize> {
 ///
 /// Its own ring of five rather than [`crate::filter::Median`]: the general filter keeps
 /// a sorted copy beside its ring (48 bytes on Cortex-M for five samples) to answer in
-/// O(N) for any `N`; for five values, sorting a copy when asked costs nine
+/// O(N) for any `N`; for five values, sorting a copy when asked costs at most ten
 /// compare-exchanges and the gate needs 20 bytes (measured in the hike pipeline's state,
 /// README).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct SpikeGate {
     /// The last accepted model heights, m: the first `len` entries (a ring written at
     /// `next` once full; the order does not matter for a median). Entries beyond `len`
-    /// are zero, so equal gates compare equal.
+    /// are stale and not compared.
     recent: [f32; 5],
     next: u8,
     len: u8,
@@ -1530,17 +1530,25 @@ struct SpikeGate {
     age_s: f32,
 }
 
+impl PartialEq for SpikeGate {
+    /// The same heights held in the same slots, and the same counts and age.
+    fn eq(&self, other: &Self) -> bool {
+        let held = usize::from(self.len);
+        self.len == other.len
+            && self.next == other.next
+            && self.recent.get(..held) == other.recent.get(..held)
+            && self.consecutive == other.consecutive
+            && self.outliers == other.outliers
+            && self.age_s == other.age_s
+    }
+}
+
 /// After this long without an accepted sample (s) the spike window is stale: the next
 /// sample is taken and starts it anew (after a gap the device may be anywhere).
 const SPIKE_STALE_S: f32 = 120.0;
 
 /// Outliers in a row after which the spike gate takes the next sample.
 const SPIKE_REACQUIRE: u8 = 5;
-
-/// `(low, high)` of two values.
-fn ordered(a: f32, b: f32) -> (f32, f32) {
-    if b < a { (b, a) } else { (a, b) }
-}
 
 impl SpikeGate {
     fn new() -> Self {
@@ -1557,29 +1565,30 @@ impl SpikeGate {
     /// Median of the heights held (the mean of the middle two for an even count), or
     /// `None` before any.
     fn median(&self) -> Option<f32> {
-        // The unused entries become +inf and sort above the held ones; then a
-        // five-input sorting network (nine compare-exchanges, Knuth, TAOCP vol. 3,
-        // 5.3.4, from memory) orders all five without indexing.
-        let held = |k: u8, v: f32| if k < self.len { v } else { f32::INFINITY };
-        let [a, b, c, d, e] = self.recent;
-        let (a, b, c, d, e) = (held(0, a), held(1, b), held(2, c), held(3, d), held(4, e));
-        let (a, b) = ordered(a, b);
-        let (d, e) = ordered(d, e);
-        let (c, e) = ordered(c, e);
-        let (c, d) = ordered(c, d);
-        let (a, d) = ordered(a, d);
-        let (a, c) = ordered(a, c);
-        let (b, _) = ordered(b, e);
-        let (b, _) = ordered(b, d);
-        let (b, c) = ordered(b, c);
-        let mid = |lower: f32, upper: f32| lower + 0.5 * (upper - lower);
-        match self.len {
-            0 => None,
-            1 => Some(a),
-            2 => Some(mid(a, b)),
-            3 => Some(b),
-            4 => Some(mid(b, c)),
-            _ => Some(c),
+        let n = usize::from(self.len);
+        if n == 0 {
+            return None;
+        }
+        // Insertion sort of a copy of the (at most five) heights held: at most ten
+        // compare-exchanges, in less flash than a sorting network (measured in the
+        // borrowed-settings flash probe).
+        let mut v = self.recent;
+        for i in 1..n {
+            let mut j = i;
+            while let Some([a, b]) = v.get_mut(j.wrapping_sub(1)..=j) {
+                if *b >= *a {
+                    break;
+                }
+                core::mem::swap(a, b);
+                j -= 1;
+            }
+        }
+        let upper = *v.get(n / 2)?;
+        if n % 2 == 1 {
+            Some(upper)
+        } else {
+            let lower = *v.get(n / 2 - 1)?;
+            Some(lower + 0.5 * (upper - lower))
         }
     }
 
@@ -1604,7 +1613,8 @@ impl SpikeGate {
     fn accept(&mut self, dt: f32, h: f32) {
         if self.consecutive >= SPIKE_REACQUIRE || self.age_s + dt > SPIKE_STALE_S {
             // a real step, or a long gap: start the window anew at the new level
-            self.recent = [0.0; 5];
+            // (the counts only: zeroing the heights pulled in a `memclr` routine, 174
+            // bytes of flash, measured)
             self.next = 0;
             self.len = 0;
         }

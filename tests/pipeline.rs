@@ -24,8 +24,16 @@ fn pipeline_state_sizes() {
             size_of::<Pipeline<2, &'static Settings>>(),
         ),
         (
-            "Pipeline<2, Fixed<P>> (drone, hike; settings fixed at compile time)",
+            "Pipeline<2, Fixed<P>>, drone (parts::Drone; settings fixed at compile time)",
             size_of::<Pipeline<2, Fixed<DroneFixed>>>(),
+        ),
+        (
+            "Pipeline<2, Fixed<P>>, hike (parts::Hike)",
+            size_of::<Pipeline<2, Fixed<HikeFixed>>>(),
+        ),
+        (
+            "Pipeline<64, Fixed<P>>, balloon (parts::Balloon, 64 levels)",
+            size_of::<Pipeline<64, Fixed<BalloonFixed>>>(),
         ),
         (
             "Pipeline<64> (balloon, 64 levels)",
