@@ -1045,7 +1045,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
         //    once the estimator has accepted it and the vehicle is at rest), then fixes.
-        // (a copy, committed with the rest; `None` in a layout without it)
+        // (a copy, committed with the rest; `()` in a layout without it)
         let mut ground = self.ground.clone();
         let mut ground_frozen = self.bits.get(GROUND_FROZEN);
         let mut offset_target = self.offset_target_m;

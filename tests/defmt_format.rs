@@ -124,6 +124,15 @@ fn every_public_type_implements_format() {
     is_format::<pipeline::Tracking>();
     is_format::<pipeline::Settings>();
     is_format::<pipeline::Pipeline<2>>();
+    is_format::<pipeline::Pipeline<2, &'static pipeline::Settings>>();
+    // the lean layouts (omitted parts print nothing, and have no value to print)
+    struct Walk;
+    impl pipeline::FixedSettings for Walk {
+        const SETTINGS: pipeline::Settings = pipeline::Settings::hike();
+        type Parts = pipeline::parts::Hike;
+    }
+    is_format::<pipeline::Pipeline<2, pipeline::Fixed<Walk>>>();
+    is_format::<pipeline::parts::Absent>();
     #[cfg(feature = "embedded-hal")]
     {
         use isohypse::sensor;
