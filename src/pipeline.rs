@@ -452,7 +452,8 @@ impl Settings {
         Ok(())
     }
 
-    /// Gravity for the sounding (validates the latitude in every build).
+    /// Gravity for the sounding: at the latitude, or standard ([`Self::validate`] has
+    /// checked the latitude).
     #[cfg_attr(not(feature = "pipeline-sounding"), allow(dead_code))]
     fn gravity(&self) -> Result<Gravity, Error> {
         match self.latitude_deg {
@@ -470,17 +471,9 @@ enum TrackState<H: Presence> {
     /// slot; a marker, so that builds without the hike tracker use it too).
     Flight(AscentTotals, PhantomData<H>),
     #[cfg(feature = "pipeline-hike")]
-    /// The hike tracker (in its slot: a layout without it has no such variant).
-    Hike(H::Slot<HikePart>),
-}
-
-/// The hike tracker and the smoothed vertical speed of its height, m/s.
-#[cfg(feature = "pipeline-hike")]
-#[derive(Debug, Clone, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-struct HikePart {
-    tracker: HikeTracker,
-    speed_mps: f32,
+    /// The hike tracker (in its slot: a layout without it has no such variant). The
+    /// smoothed vertical speed of its height is the last output's.
+    Hike(H::Slot<HikeTracker>),
 }
 
 /// The estimator's state: the two estimators are never used together, so their states
@@ -776,15 +769,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             }
             #[cfg(feature = "pipeline-hike")]
             Tracking::Hike { hike, .. } => TrackState::Hike(
-                HikeOf::<S>::hold(HikePart {
-                    tracker: HikeTracker::new(hike)?,
-                    speed_mps: 0.0,
-                })
-                .ok_or(Error::InvalidSetting)?,
+                HikeOf::<S>::hold(HikeTracker::new(hike)?).ok_or(Error::InvalidSetting)?,
             ),
         };
-        // the latitude is checked in every build
-        s.gravity()?;
         let ground = GroundOf::<S>::field(GroundReference::new(GroundReferenceConfig {
             min_samples: s.ground_min_samples.max(2),
             min_duration_s: 0.0,
@@ -853,7 +840,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             TrackState::Flight(totals, _) => (totals.ascent_m(), totals.descent_m(), None),
             #[cfg(feature = "pipeline-hike")]
             TrackState::Hike(part) => {
-                let hike = &HikeOf::<S>::get(part).tracker;
+                let hike = HikeOf::<S>::get(part);
                 (
                     hike.totals().ascent_m(),
                     hike.totals().descent_m(),
@@ -1101,7 +1088,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // before the estimator changes.
         #[cfg(feature = "pipeline-hike")]
         if let TrackState::Hike(part) = &self.track {
-            if !HikeOf::<S>::get(part).tracker.accepts(sample.time_s, raw) {
+            if !HikeOf::<S>::get(part).accepts(sample.time_s, raw) {
                 return self.carry(sample.time_s, Flags::REJECTED_MODEL);
             }
         }
@@ -1202,10 +1189,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             }
             #[cfg(feature = "pipeline-hike")]
             TrackState::Hike(part) => {
-                let HikePart {
-                    tracker: hike,
-                    speed_mps: hike_speed,
-                } = HikeOf::<S>::get_mut(part);
+                let hike = HikeOf::<S>::get_mut(part);
                 match hike.update_pressure_altitude(sample.time_s, raw) {
                     Ok(mut r) => {
                         if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
@@ -1227,15 +1211,17 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                         }
                         let h = r.height.meters();
                         // vertical speed of the tracked height, smoothed (the raw
-                        // difference of 2 Pa noise at 1 Hz is 0.2 m/s)
+                        // difference of 2 Pa noise at 1 Hz is 0.2 m/s); the smoother's
+                        // state is the last output's speed (only a taken sample
+                        // changes it, and it is 0 before the first)
+                        let mut hike_speed = self.last.vertical_speed_mps;
                         if let Some(dt) = dt {
                             if let Some(v) = difference_speed(h - self.last.altitude_m, dt) {
                                 let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
-                                // in place: nothing after this step can refuse the sample
-                                *hike_speed += k * (v - *hike_speed);
+                                hike_speed += k * (v - hike_speed);
                             }
                         }
-                        (h, *hike_speed, r.ascent_m, r.descent_m, r.tendency_hpa)
+                        (h, hike_speed, r.ascent_m, r.descent_m, r.tendency_hpa)
                     }
                     Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
                 }
