@@ -41,7 +41,9 @@ use crate::model::{AirSample, ColumnModel, Reference, TemperatureModel};
 use crate::sounding::{PendingStep, Sounding};
 use crate::track::AscentTotals;
 #[cfg(feature = "pipeline-hike")]
-use crate::track::{HikeConfig, HikeTracker};
+use crate::track::HikeConfig;
+#[cfg(feature = "pipeline-hike")]
+use crate::track::hike::HikeState;
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
 use core::borrow::Borrow;
 use core::marker::PhantomData;
@@ -473,7 +475,7 @@ enum TrackState<H: Presence> {
     #[cfg(feature = "pipeline-hike")]
     /// The hike tracker (in its slot: a layout without it has no such variant). The
     /// smoothed vertical speed of its height is the last output's.
-    Hike(H::Slot<HikeTracker>),
+    Hike(H::Slot<HikeState>),
 }
 
 /// The estimator's state: the two estimators are never used together, so their states
@@ -669,6 +671,16 @@ impl<T: FixedSettings> Borrow<PhaseSettings> for Fixed<T> {
 }
 
 impl Tracking {
+    /// The hike tracker's settings ([`HikeConfig::DEFAULT`] when tracking a flight: then
+    /// no hike tracker asks).
+    #[cfg(feature = "pipeline-hike")]
+    pub const fn hike(&self) -> &HikeConfig {
+        match self {
+            Tracking::Hike { hike, .. } => hike,
+            Tracking::Flight { .. } => const { &HikeConfig::DEFAULT },
+        }
+    }
+
     /// The phase thresholds.
     pub const fn phases(&self) -> &PhaseSettings {
         match self {
@@ -769,7 +781,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             }
             #[cfg(feature = "pipeline-hike")]
             Tracking::Hike { hike, .. } => TrackState::Hike(
-                HikeOf::<S>::hold(HikeTracker::new(hike)?).ok_or(Error::InvalidSetting)?,
+                HikeOf::<S>::hold(HikeState::new(&hike)?).ok_or(Error::InvalidSetting)?,
             ),
         };
         let ground = GroundOf::<S>::field(GroundReference::new(GroundReferenceConfig {
@@ -844,7 +856,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 (
                     hike.totals().ascent_m(),
                     hike.totals().descent_m(),
-                    hike.tendency().tendency_hpa(),
+                    hike.tendency_hpa(),
                 )
             }
         };
@@ -1087,8 +1099,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // The hike tracker is the last step that can refuse the sample; ask it now,
         // before the estimator changes.
         #[cfg(feature = "pipeline-hike")]
-        if let TrackState::Hike(part) = &self.track {
-            if !HikeOf::<S>::get(part).accepts(sample.time_s, raw) {
+        if let TrackState::Hike(_) = &self.track {
+            if HikeState::check_pressure(self.store.settings().tracking.hike(), pressure).is_err() {
                 return self.carry(sample.time_s, Flags::REJECTED_MODEL);
             }
         }
@@ -1190,41 +1202,40 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             #[cfg(feature = "pipeline-hike")]
             TrackState::Hike(part) => {
                 let hike = HikeOf::<S>::get_mut(part);
-                match hike.update_pressure_altitude(sample.time_s, raw) {
-                    Ok(mut r) => {
-                        if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
-                            // the first fix of a walk applies at once, later ones slew
-                            let applied = if first_sample {
-                                hike.set_elevation(h)
-                            } else {
-                                hike.fix_elevation(h)
-                            };
-                            if applied.is_ok() && first_sample {
-                                r.height = h;
-                            }
-                        }
-                        if r.resting {
-                            flags.set(Flags::AT_REST);
-                        }
-                        if r.falling_pressure_alert {
-                            flags.set(Flags::FALLING_PRESSURE);
-                        }
-                        let h = r.height.meters();
-                        // vertical speed of the tracked height, smoothed (the raw
-                        // difference of 2 Pa noise at 1 Hz is 0.2 m/s); the smoother's
-                        // state is the last output's speed (only a taken sample
-                        // changes it, and it is 0 before the first)
-                        let mut hike_speed = self.last.vertical_speed_mps;
-                        if let Some(dt) = dt {
-                            if let Some(v) = difference_speed(h - self.last.altitude_m, dt) {
-                                let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
-                                hike_speed += k * (v - hike_speed);
-                            }
-                        }
-                        (h, hike_speed, r.ascent_m, r.descent_m, r.tendency_hpa)
+                let config = self.store.settings().tracking.hike();
+                // it sees only the samples that are taken (like the phase tracker)
+                let since = dt.unwrap_or(0.0) + self.held_back_s;
+                let mut r = hike.step(config, since, raw_m);
+                if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
+                    // the first fix of a walk applies at once, later ones slew
+                    let applied = if first_sample {
+                        hike.set_elevation(h)
+                    } else {
+                        hike.fix_elevation(h)
+                    };
+                    if applied.is_ok() && first_sample {
+                        r.height = h;
                     }
-                    Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
                 }
+                if r.resting {
+                    flags.set(Flags::AT_REST);
+                }
+                if r.falling_pressure_alert {
+                    flags.set(Flags::FALLING_PRESSURE);
+                }
+                let h = r.height.meters();
+                // vertical speed of the tracked height, smoothed (the raw
+                // difference of 2 Pa noise at 1 Hz is 0.2 m/s); the smoother's
+                // state is the last output's speed (only a taken sample
+                // changes it, and it is 0 before the first)
+                let mut hike_speed = self.last.vertical_speed_mps;
+                if let Some(dt) = dt {
+                    if let Some(v) = difference_speed(h - self.last.altitude_m, dt) {
+                        let k = slew_gain(dt, HIKE_SPEED_TIME_CONSTANT_S);
+                        hike_speed += k * (v - hike_speed);
+                    }
+                }
+                (h, hike_speed, r.ascent_m, r.descent_m, r.tendency_hpa)
             }
         };
 

@@ -114,7 +114,7 @@
 
 use crate::atmosphere::{SEA_LEVEL_PRESSURE_PA, US_1976};
 use crate::track::rest::{RestConfig, RestDetector, RestEvent, RestState};
-use crate::track::tendency::{PressureTendency, TendencyConfig};
+use crate::track::tendency::{PressureTendency, TendencyConfig, TendencyRing};
 use crate::track::totals::AscentTotals;
 use crate::{Error, Height, Pressure};
 
@@ -214,16 +214,22 @@ pub struct HikeReport {
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct HikeTracker {
-    /// The settings not already kept by the parts (rest and tendency settings live in
-    /// those, so they are not stored twice): smoothing and fix time constants, s, and the
-    /// pressure limits, Pa.
-    smoothing_time_constant_s: f32,
-    fix_time_constant_s: f32,
-    pressure_limits_pa: (f32, f32),
+    config: HikeConfig,
     /// Pressure altitudes of the pressure limits: (lowest, highest) accepted, m.
     height_limits_m: (f32, f32),
-    started: bool,
+    /// Time of the last accepted sample, s (valid once started).
     last_time_s: f64,
+    state: HikeState,
+}
+
+/// What the tracker keeps besides its settings and its clock: the part a
+/// [`crate::pipeline::Pipeline`] holds (it has the settings in its store, often in flash,
+/// and its own clock). Crate-internal; every call that needs settings is given the
+/// validated [`HikeConfig`], and every step the time since the previous sample.
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(crate) struct HikeState {
+    started: bool,
     /// Smoothed height before weather correction, m.
     smoothed_m: f32,
     /// Weather offset, m: set at the end of a rest, extrapolated while moving.
@@ -239,32 +245,20 @@ pub struct HikeTracker {
     fix_target_m: f32,
     totals: AscentTotals,
     rest: RestDetector,
-    tendency: PressureTendency,
+    tendency: TendencyRing,
 }
 
 impl HikeTracker {
     /// A tracker with the given settings. Errors: as [`HikeConfig::validate`].
     pub fn new(config: HikeConfig) -> Result<Self, Error> {
-        config.validate()?;
+        let state = HikeState::new(&config)?;
         let lowest = US_1976.pressure_altitude(Pressure::from_pa(config.max_pressure_pa)?)?;
         let highest = US_1976.pressure_altitude(Pressure::from_pa(config.min_pressure_pa)?)?;
         Ok(Self {
-            smoothing_time_constant_s: config.smoothing_time_constant_s,
-            fix_time_constant_s: config.fix_time_constant_s,
-            pressure_limits_pa: (config.min_pressure_pa, config.max_pressure_pa),
+            config,
             height_limits_m: (lowest.meters(), highest.meters()),
-            started: false,
             last_time_s: 0.0,
-            smoothed_m: 0.0,
-            weather_offset_m: 0.0,
-            offset_carry_m: 0.0,
-            hold_m: 0.0,
-            tracked_m: 0.0,
-            fix_offset_m: 0.0,
-            fix_target_m: 0.0,
-            totals: AscentTotals::new(config.hysteresis_band_m)?,
-            rest: RestDetector::new(config.rest)?,
-            tendency: PressureTendency::new(config.tendency)?,
+            state,
         })
     }
 
@@ -277,13 +271,7 @@ impl HikeTracker {
     /// [`Error::BelowModelBottom`] (pressure above [`HikeConfig::max_pressure_pa`]).
     pub fn update(&mut self, time_s: f64, pressure: Pressure) -> Result<HikeReport, Error> {
         self.check_time(time_s)?;
-        let pa = pressure.pa();
-        if pa < self.pressure_limits_pa.0 {
-            return Err(Error::AboveModelTop);
-        }
-        if pa > self.pressure_limits_pa.1 {
-            return Err(Error::BelowModelBottom);
-        }
+        HikeState::check_pressure(&self.config, pressure)?;
         let h = US_1976.pressure_altitude(pressure)?;
         Ok(self.step(time_s, h.meters()))
     }
@@ -297,19 +285,6 @@ impl HikeTracker {
         time_s: f64,
         height: Height,
     ) -> Result<HikeReport, Error> {
-        self.check_pressure_altitude(time_s, height)?;
-        Ok(self.step(time_s, height.meters()))
-    }
-
-    /// Whether [`Self::update_pressure_altitude`] would take this sample (for callers
-    /// that must know before changing other state).
-    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
-    pub(crate) fn accepts(&self, time_s: f64, height: Height) -> bool {
-        self.check_pressure_altitude(time_s, height).is_ok()
-    }
-
-    /// The refusals of [`Self::update_pressure_altitude`].
-    fn check_pressure_altitude(&self, time_s: f64, height: Height) -> Result<(), Error> {
         self.check_time(time_s)?;
         let h = height.meters();
         if h < self.height_limits_m.0 {
@@ -318,14 +293,14 @@ impl HikeTracker {
         if h > self.height_limits_m.1 {
             return Err(Error::AboveModelTop);
         }
-        Ok(())
+        Ok(self.step(time_s, h))
     }
 
     fn check_time(&self, time_s: f64) -> Result<(), Error> {
         if !time_s.is_finite() {
             return Err(Error::NotFinite);
         }
-        if self.started && time_s <= self.last_time_s {
+        if self.state.started && time_s <= self.last_time_s {
             return Err(Error::NotIncreasing);
         }
         Ok(())
@@ -333,6 +308,114 @@ impl HikeTracker {
 
     /// The infallible part of a sample: inputs validated.
     fn step(&mut self, time_s: f64, h: f32) -> HikeReport {
+        // Interval in f32 (validated > 0; unused for the first sample).
+        let dt = (time_s - self.last_time_s) as f32;
+        self.last_time_s = time_s;
+        self.state.step(&self.config, dt, h)
+    }
+
+    /// A known elevation of the device now (summit marker, map, trusted satellite fix):
+    /// the displayed height slews to it with [`HikeConfig::fix_time_constant_s`]. Totals
+    /// are not touched. Errors: [`Error::NotEnoughData`] before the first sample.
+    pub fn fix_elevation(&mut self, elevation: Height) -> Result<(), Error> {
+        self.state.fix_elevation(elevation)
+    }
+
+    /// Like [`Self::fix_elevation`] but applied at once (e.g. the start of a walk at a
+    /// known trailhead). Errors: [`Error::NotEnoughData`] before the first sample.
+    pub fn set_elevation(&mut self, elevation: Height) -> Result<(), Error> {
+        self.state.set_elevation(elevation)
+    }
+
+    /// The user says the device is at rest (on a table, in a hut): from now on all
+    /// pressure change is weather, until [`Self::end_declared_rest`].
+    pub fn declare_rest(&mut self) {
+        self.state.declare_rest();
+    }
+
+    /// Ends a declared rest. Automatic detection goes on from "resting", so the height
+    /// stays held until the device actually moves.
+    pub fn end_declared_rest(&mut self) {
+        self.state.end_declared_rest();
+    }
+
+    /// Sets the totals to zero (a new walk); height, weather and tendency are kept.
+    pub fn reset_totals(&mut self) {
+        self.state.totals.reset();
+    }
+
+    /// Current rest state.
+    pub fn rest_state(&self) -> RestState {
+        self.state.rest.state()
+    }
+
+    /// The totals counter.
+    pub fn totals(&self) -> &AscentTotals {
+        &self.state.totals
+    }
+
+    /// The tendency tracker, as of the last sample (a copy: the tracker keeps its ring,
+    /// not a [`PressureTendency`] with its own settings and clock).
+    pub fn tendency(&self) -> PressureTendency {
+        PressureTendency::from_ring(
+            self.config.tendency,
+            self.last_time_s,
+            self.state.tendency.clone(),
+        )
+    }
+
+    /// Weather drift attributed so far, m: how far weather has moved the standard
+    /// pressure altitude during rests since the start (positive: pressure has fallen,
+    /// so the uncorrected height would read too high).
+    pub fn weather_drift_m(&self) -> f32 {
+        self.state.weather_drift_m()
+    }
+
+    /// The settings.
+    pub fn config(&self) -> HikeConfig {
+        self.config
+    }
+}
+
+impl HikeState {
+    /// A state before the first sample. Errors: as [`HikeConfig::validate`].
+    pub(crate) fn new(config: &HikeConfig) -> Result<Self, Error> {
+        config.validate()?;
+        Ok(Self {
+            started: false,
+            smoothed_m: 0.0,
+            weather_offset_m: 0.0,
+            offset_carry_m: 0.0,
+            hold_m: 0.0,
+            tracked_m: 0.0,
+            fix_offset_m: 0.0,
+            fix_target_m: 0.0,
+            totals: AscentTotals::new(config.hysteresis_band_m)?,
+            rest: RestDetector::new(),
+            tendency: TendencyRing::new(),
+        })
+    }
+
+    /// The pressure limits of `c`: [`Error::AboveModelTop`] below
+    /// [`HikeConfig::min_pressure_pa`], [`Error::BelowModelBottom`] above
+    /// [`HikeConfig::max_pressure_pa`].
+    pub(crate) fn check_pressure(c: &HikeConfig, pressure: Pressure) -> Result<(), Error> {
+        let pa = pressure.pa();
+        if pa < c.min_pressure_pa {
+            return Err(Error::AboveModelTop);
+        }
+        if pa > c.max_pressure_pa {
+            return Err(Error::BelowModelBottom);
+        }
+        Ok(())
+    }
+
+    /// The infallible part of a sample: inputs validated; `dt` is the time since the
+    /// previous sample of this state (s, > 0 and finite; unused for the first).
+    pub(crate) fn step(&mut self, c: &HikeConfig, dt: f32, h: f32) -> HikeReport {
+        // Capped at 1e7 s (116 days) so that it stays finite whatever the time stamps (a
+        // comparison, not `f32::min`: that is a library call on ARMv7E-M).
+        let dt = if dt < 1.0e7 { dt } else { 1.0e7 };
         if !self.started {
             self.started = true;
             self.smoothed_m = h;
@@ -340,12 +423,9 @@ impl HikeTracker {
             self.hold_m = h;
             self.rest.start(h);
         } else {
-            // Interval in f32: validated > 0; capped at 1e7 s (116 days) so that it stays
-            // finite whatever the time stamps.
-            let dt = ((time_s - self.last_time_s) as f32).min(1.0e7);
             self.smoothed_m +=
-                one_pole_gain(dt, self.smoothing_time_constant_s) * (h - self.smoothed_m);
-            match self.rest.update(dt, self.smoothed_m) {
+                one_pole_gain(dt, c.smoothing_time_constant_s) * (h - self.smoothed_m);
+            match self.rest.update(&c.rest, dt, self.smoothed_m) {
                 RestEvent::Entered => self.hold_m = self.tracked_m,
                 RestEvent::Left { level_m } => {
                     self.weather_offset_m = self.hold_m - level_m;
@@ -367,16 +447,15 @@ impl HikeTracker {
                 RestState::Moving => self.smoothed_m + self.weather_offset_m,
                 RestState::Resting | RestState::DeclaredRest => self.hold_m,
             };
-            self.fix_offset_m += one_pole_gain(dt, self.fix_time_constant_s)
-                * (self.fix_target_m - self.fix_offset_m);
+            self.fix_offset_m +=
+                one_pole_gain(dt, c.fix_time_constant_s) * (self.fix_target_m - self.fix_offset_m);
         }
-        self.last_time_s = time_s;
         let tracked = Height::from_meters(self.tracked_m).unwrap_or(Height::ZERO);
         self.totals.update(tracked);
         let displayed_m = self.tracked_m + self.fix_offset_m;
-        if self.tendency.is_due(time_s) {
+        if self.tendency.tick(dt) {
             let sea_level = self.sea_level_pressure(displayed_m);
-            self.tendency.record(time_s, sea_level);
+            self.tendency.store(sea_level);
         }
         HikeReport {
             height: Height::from_meters(displayed_m).unwrap_or(Height::ZERO),
@@ -385,7 +464,7 @@ impl HikeTracker {
             resting: self.rest.state() != RestState::Moving,
             sea_level_pressure_hpa: self.tendency.latest_hpa(),
             tendency_hpa: self.tendency.tendency_hpa(),
-            falling_pressure_alert: self.tendency.falling_alert(),
+            falling_pressure_alert: self.tendency.falling_alert(&c.tendency),
         }
     }
 
@@ -402,10 +481,8 @@ impl HikeTracker {
         Pressure::from_pa(SEA_LEVEL_PRESSURE_PA * (here.pa() / standard.pa())).ok()
     }
 
-    /// A known elevation of the device now (summit marker, map, trusted satellite fix):
-    /// the displayed height slews to it with [`HikeConfig::fix_time_constant_s`]. Totals
-    /// are not touched. Errors: [`Error::NotEnoughData`] before the first sample.
-    pub fn fix_elevation(&mut self, elevation: Height) -> Result<(), Error> {
+    /// See [`HikeTracker::fix_elevation`].
+    pub(crate) fn fix_elevation(&mut self, elevation: Height) -> Result<(), Error> {
         if !self.started {
             return Err(Error::NotEnoughData);
         }
@@ -413,26 +490,23 @@ impl HikeTracker {
         Ok(())
     }
 
-    /// Like [`Self::fix_elevation`] but applied at once (e.g. the start of a walk at a
-    /// known trailhead). Errors: [`Error::NotEnoughData`] before the first sample.
-    pub fn set_elevation(&mut self, elevation: Height) -> Result<(), Error> {
+    /// See [`HikeTracker::set_elevation`].
+    pub(crate) fn set_elevation(&mut self, elevation: Height) -> Result<(), Error> {
         self.fix_elevation(elevation)?;
         self.fix_offset_m = self.fix_target_m;
         Ok(())
     }
 
-    /// The user says the device is at rest (on a table, in a hut): from now on all
-    /// pressure change is weather, until [`Self::end_declared_rest`].
-    pub fn declare_rest(&mut self) {
+    /// See [`HikeTracker::declare_rest`].
+    fn declare_rest(&mut self) {
         if self.rest.state() == RestState::Moving {
             self.hold_m = self.tracked_m;
         }
         self.rest.declare(self.smoothed_m);
     }
 
-    /// Ends a declared rest. Automatic detection goes on from "resting", so the height
-    /// stays held until the device actually moves.
-    pub fn end_declared_rest(&mut self) {
+    /// See [`HikeTracker::end_declared_rest`].
+    fn end_declared_rest(&mut self) {
         if self.rest.state() == RestState::DeclaredRest {
             self.weather_offset_m = self.hold_m - self.smoothed_m;
             self.offset_carry_m = 0.0;
@@ -440,46 +514,23 @@ impl HikeTracker {
         }
     }
 
-    /// Sets the totals to zero (a new walk); height, weather and tendency are kept.
-    pub fn reset_totals(&mut self) {
-        self.totals.reset();
-    }
-
-    /// Current rest state.
-    pub fn rest_state(&self) -> RestState {
-        self.rest.state()
-    }
-
     /// The totals counter.
-    pub fn totals(&self) -> &AscentTotals {
+    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
+    pub(crate) fn totals(&self) -> &AscentTotals {
         &self.totals
     }
 
-    /// The tendency tracker.
-    pub fn tendency(&self) -> &PressureTendency {
-        &self.tendency
+    /// The 3-hour tendency, hPa (see [`PressureTendency::tendency_hpa`]).
+    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
+    pub(crate) fn tendency_hpa(&self) -> Option<f32> {
+        self.tendency.tendency_hpa()
     }
 
-    /// Weather drift attributed so far, m: how far weather has moved the standard
-    /// pressure altitude during rests since the start (positive: pressure has fallen,
-    /// so the uncorrected height would read too high).
-    pub fn weather_drift_m(&self) -> f32 {
+    /// See [`HikeTracker::weather_drift_m`].
+    fn weather_drift_m(&self) -> f32 {
         match self.rest.state() {
             RestState::Moving => -self.weather_offset_m,
             RestState::Resting | RestState::DeclaredRest => self.smoothed_m - self.hold_m,
-        }
-    }
-
-    /// The settings.
-    pub fn config(&self) -> HikeConfig {
-        HikeConfig {
-            smoothing_time_constant_s: self.smoothing_time_constant_s,
-            hysteresis_band_m: self.totals.band_m(),
-            fix_time_constant_s: self.fix_time_constant_s,
-            min_pressure_pa: self.pressure_limits_pa.0,
-            max_pressure_pa: self.pressure_limits_pa.1,
-            rest: self.rest.config(),
-            tendency: self.tendency.config(),
         }
     }
 }

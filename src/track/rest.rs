@@ -151,11 +151,12 @@ pub(crate) enum RestEvent {
 }
 
 /// The detector state machine (crate-internal: the hike tracker validates time and
-/// height before calling it).
+/// height before calling it). It keeps no settings: each call that needs them is given
+/// the validated [`RestConfig`], so that a pipeline with settings in flash holds none in
+/// RAM.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct RestDetector {
-    config: RestConfig,
     state: RestState,
     /// Entry window: time since its start (s), its first, lowest and highest height (m).
     window_elapsed_s: f32,
@@ -175,10 +176,10 @@ pub(crate) struct RestDetector {
 }
 
 impl RestDetector {
-    pub(crate) fn new(config: RestConfig) -> Result<Self, Error> {
-        config.validate()?;
-        Ok(Self {
-            config,
+    /// A detector in the moving state; the settings come with each call (validated by
+    /// the caller).
+    pub(crate) const fn new() -> Self {
+        Self {
             state: RestState::Moving,
             window_elapsed_s: 0.0,
             window_origin_m: 0.0,
@@ -188,15 +189,11 @@ impl RestDetector {
             level_m: 0.0,
             rate_mps: 0.0,
             settled_rate_mps: 0.0,
-        })
+        }
     }
 
     pub(crate) fn state(&self) -> RestState {
         self.state
-    }
-
-    pub(crate) fn config(&self) -> RestConfig {
-        self.config
     }
 
     /// Weather rate now, m/s of apparent height (learnt at rest, fading while moving).
@@ -204,15 +201,15 @@ impl RestDetector {
         self.rate_mps
     }
 
-    fn max_rate_mps(&self) -> f32 {
-        self.config.max_weather_rate_m_per_h / 3600.0
+    fn max_rate_mps(c: &RestConfig) -> f32 {
+        c.max_weather_rate_m_per_h / 3600.0
     }
 
     /// One step of the level-and-slope tracker; returns the departure from the
     /// prediction.
-    fn track(&mut self, dt_s: f32, height_m: f32) -> f32 {
-        let t = self.config.trend_time_constant_s;
-        let max_rate = self.max_rate_mps();
+    fn track(&mut self, c: &RestConfig, dt_s: f32, height_m: f32) -> f32 {
+        let t = c.trend_time_constant_s;
+        let max_rate = Self::max_rate_mps(c);
         let predicted = self.level_m + self.rate_mps * dt_s;
         let departure = height_m - predicted;
         // The level moves no faster than the largest weather rate: a faster climb cannot
@@ -225,7 +222,7 @@ impl RestDetector {
         self.rate_mps = (self.rate_mps + (dt_s / (t * t)).min(1.0 / t) * departure)
             .max(-max_rate)
             .min(max_rate);
-        if departure.abs() < 0.25 * self.config.exit_band_m {
+        if departure.abs() < 0.25 * c.exit_band_m {
             self.settled_rate_mps = self.rate_mps;
         }
         departure
@@ -285,19 +282,19 @@ impl RestDetector {
         }
     }
 
-    /// One sample: time since the previous sample (s, > 0) and the smoothed height
-    /// before weather correction (m).
-    pub(crate) fn update(&mut self, dt_s: f32, height_m: f32) -> RestEvent {
+    /// One sample: the settings, time since the previous sample (s, > 0) and the
+    /// smoothed height before weather correction (m).
+    pub(crate) fn update(&mut self, c: &RestConfig, dt_s: f32, height_m: f32) -> RestEvent {
         match self.state {
             RestState::DeclaredRest => {
-                self.track(dt_s, height_m);
+                self.track(c, dt_s, height_m);
                 RestEvent::Unchanged
             }
             RestState::Resting => {
                 let level_before = self.level_m;
                 let rate_before = self.rate_mps;
-                let departure = self.track(dt_s, height_m);
-                if departure.abs() > self.config.exit_band_m {
+                let departure = self.track(c, dt_s, height_m);
+                if departure.abs() > c.exit_band_m {
                     // The departure is movement: undo this step's update of the level, and
                     // keep the weather rate from before the departure began to pull it.
                     self.level_m = level_before + rate_before * dt_s;
@@ -312,19 +309,19 @@ impl RestDetector {
                 }
             }
             RestState::Moving => {
-                let memory = self.config.weather_rate_memory_s;
+                let memory = c.weather_rate_memory_s;
                 self.rate_mps *= memory / (memory + dt_s);
                 self.window_elapsed_s += dt_s;
                 self.window_low_m = self.window_low_m.min(height_m);
                 self.window_high_m = self.window_high_m.max(height_m);
                 self.add_point(height_m);
-                if self.window_high_m - self.window_low_m > self.config.entry_band_m {
+                if self.window_high_m - self.window_low_m > c.entry_band_m {
                     self.start(height_m);
                     RestEvent::Unchanged
-                } else if self.window_elapsed_s >= self.config.entry_window_s {
+                } else if self.window_elapsed_s >= c.entry_window_s {
                     let slow = self
                         .window_slope()
-                        .is_some_and(|v| v.abs() <= self.max_rate_mps());
+                        .is_some_and(|v| v.abs() <= Self::max_rate_mps(c));
                     if slow {
                         self.state = RestState::Resting;
                         self.begin_rest(height_m);
@@ -345,6 +342,8 @@ impl RestDetector {
 mod tests {
     use super::*;
 
+    const C: RestConfig = RestConfig::DEFAULT;
+
     #[test]
     fn config_validation() {
         assert_eq!(RestConfig::default().validate(), Ok(()));
@@ -355,18 +354,17 @@ mod tests {
         assert_eq!(c.validate(), Err(Error::NotFinite));
         c.exit_band_m = 0.0;
         assert_eq!(c.validate(), Err(Error::InvalidSetting));
-        assert!(RestDetector::new(c).is_err());
     }
 
     #[test]
     fn enters_after_window_and_leaves_on_climb() {
-        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        let mut d = RestDetector::new();
         d.start(100.0);
         let mut entered_at = None;
         for i in 1..=300 {
             // still, with a weather drift of 0.14 m/min (about 1 hPa/h)
             let h = 100.0 + 0.14 / 60.0 * i as f32;
-            if d.update(1.0, h) == RestEvent::Entered {
+            if d.update(&C, 1.0, h) == RestEvent::Entered {
                 entered_at = Some(i);
             }
         }
@@ -376,7 +374,7 @@ mod tests {
         let mut left = None;
         for i in 301..=400 {
             let h = 100.7 + 5.0 / 60.0 * (i - 300) as f32;
-            if let RestEvent::Left { level_m } = d.update(1.0, h) {
+            if let RestEvent::Left { level_m } = d.update(&C, 1.0, h) {
                 left = Some((i, level_m));
                 break;
             }
@@ -395,27 +393,27 @@ mod tests {
     #[test]
     fn slope_steeper_than_weather_never_enters_rest() {
         // 30 m/h: within the 1 m spread of a 60 s window, but steeper than 20 m/h.
-        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        let mut d = RestDetector::new();
         d.start(0.0);
         for i in 1..=3600 {
             let h = 30.0 / 3600.0 * i as f32;
-            assert_eq!(d.update(1.0, h), RestEvent::Unchanged, "at {i} s");
+            assert_eq!(d.update(&C, 1.0, h), RestEvent::Unchanged, "at {i} s");
         }
         // 10 m/h is taken for weather.
-        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        let mut d = RestDetector::new();
         d.start(0.0);
         let entered =
-            (1..=120).any(|i| d.update(1.0, 10.0 / 3600.0 * i as f32) == RestEvent::Entered);
+            (1..=120).any(|i| d.update(&C, 1.0, 10.0 / 3600.0 * i as f32) == RestEvent::Entered);
         assert!(entered);
     }
 
     #[test]
     fn declared_rest_has_no_automatic_exit() {
-        let mut d = RestDetector::new(RestConfig::default()).unwrap();
+        let mut d = RestDetector::new();
         d.start(0.0);
         d.declare(0.0);
         for i in 1..100 {
-            assert_eq!(d.update(1.0, i as f32), RestEvent::Unchanged);
+            assert_eq!(d.update(&C, 1.0, i as f32), RestEvent::Unchanged);
         }
         d.release(99.0);
         assert_eq!(d.state(), RestState::Resting);

@@ -36,7 +36,8 @@
 //! tendency is reported in synoptic practice (from memory). A plain array is used rather
 //! than `heapless::Deque`: the ring never grows or shrinks, it is always full after
 //! three hours, and a `u16` with a "missing" marker is a quarter of an `Option<f32>`.
-//! 64 bytes with configuration.
+//! 48 bytes for the ring and its schedule, 64 with the settings and the clock of a
+//! stand-alone [`PressureTendency`].
 //! O(1) per call: a gap of k slots writes k markers, bounded by [`SLOTS`].
 //!
 //! ```
@@ -107,6 +108,24 @@ impl TendencyConfig {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct PressureTendency {
     config: TendencyConfig,
+    /// Time of the last accepted call, s (valid once the ring has started).
+    last_time_s: f64,
+    ring: TendencyRing,
+}
+
+/// The ring and its schedule, without settings or clock: the part of
+/// [`PressureTendency`] that the hike tracker keeps (the pipeline that holds it has its
+/// own clock and settings). Crate-internal.
+///
+/// The schedule is a countdown to the next 10-minute mark in whole units of 10 us (an
+/// `i32`, half the bytes of an `f64` time), moved on by the step of each call. Integer
+/// arithmetic, so nothing builds up: each step is rounded once to 10 us, and steps that
+/// are whole multiples of 10 us (every common sampling rate: 1, 10, 25, 50, 100, 200,
+/// 400 Hz) are exact. (An `f32` countdown was tried first: at 50 Hz its rounding
+/// moved the third mark by 0.12 s, and the error grows with the rate.)
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(crate) struct TendencyRing {
     /// Steps of [`STEP_PA`] above [`FLOOR_PA`], or [`MISSING`].
     ring: [u16; SLOTS],
     /// Index of the newest value.
@@ -114,10 +133,9 @@ pub struct PressureTendency {
     /// Number of slots written since the start or the last reset (saturates at SLOTS).
     filled: u8,
     started: bool,
-    /// Time of the last accepted call, s.
-    last_time_s: f64,
-    /// Time from which the next value is stored, s.
-    next_due_s: f64,
+    /// Time from the last call to the next 10-minute mark, units of [`UNIT_S`]
+    /// (<= 0: due).
+    due_in: i32,
 }
 
 /// Nearest step, or [`MISSING`] outside the stored range.
@@ -135,78 +153,80 @@ fn steps_to_hpa(steps: u16) -> f32 {
     (FLOOR_PA + STEP_PA * f32::from(steps)) / 100.0
 }
 
-impl PressureTendency {
-    /// An empty tracker. Errors: as [`TendencyConfig::validate`].
-    pub fn new(config: TendencyConfig) -> Result<Self, Error> {
-        config.validate()?;
-        Ok(Self::empty(config))
-    }
+/// The countdown's unit, s (10 us).
+const UNIT_S: f32 = 1.0e-5;
+/// Units of the countdown per slot.
+const SLOT_UNITS: i32 = 60_000_000;
+/// Steps of this many seconds or more empty the ring whatever the countdown (19 slots
+/// are 11 400 s); below it, a step in units fits an `i32` (2e9 < 2^31 - 1).
+const LONG_STEP_S: f32 = 20_000.0;
 
-    /// An empty ring with a checked configuration.
-    const fn empty(config: TendencyConfig) -> Self {
+impl TendencyRing {
+    /// An empty ring.
+    pub(crate) const fn new() -> Self {
         Self {
-            config,
             ring: [MISSING; SLOTS],
             newest: 0,
             filled: 0,
             started: false,
-            last_time_s: 0.0,
-            next_due_s: 0.0,
+            due_in: 0,
         }
     }
 
-    /// True if a call to [`Self::update`] at `time_s` would store a value: lets a caller
-    /// skip computing the sea-level pressure (two power functions) on the other samples.
-    pub fn is_due(&self, time_s: f64) -> bool {
-        !self.started || time_s >= self.next_due_s
+    /// A step of `dt_s` seconds (> 0) in units of the countdown, rounded to nearest;
+    /// `i32::MAX` for long steps (they empty the ring).
+    fn units(dt_s: f32) -> i32 {
+        if dt_s < LONG_STEP_S {
+            // below 2e9: the conversion cannot saturate; `as` truncates the +0.5
+            (dt_s / UNIT_S + 0.5) as i32
+        } else {
+            i32::MAX
+        }
     }
 
-    /// Offers the sea-level pressure at `time_s` (seconds, any origin, strictly
-    /// increasing from call to call). The value is stored if a 10-minute mark has been
-    /// reached since the last stored value, and otherwise ignored. A gap longer than a
-    /// slot leaves the skipped slots empty; a gap of three hours or more empties the ring.
-    ///
-    /// Errors (state unchanged): [`Error::NotFinite`] for a NaN or infinite time,
-    /// [`Error::NotIncreasing`] for a time not after the previous call.
-    pub fn update(&mut self, time_s: f64, sea_level: Pressure) -> Result<(), Error> {
-        if !time_s.is_finite() {
-            return Err(Error::NotFinite);
-        }
-        if self.started && time_s <= self.last_time_s {
-            return Err(Error::NotIncreasing);
-        }
-        self.record(time_s, Some(sea_level));
-        Ok(())
+    /// True if a 10-minute mark is reached after a step of `dt_s` from the last call
+    /// (always before the first value): what [`Self::tick`] would answer.
+    pub(crate) fn is_due(&self, dt_s: f32) -> bool {
+        !self.started || self.due_in.saturating_sub(Self::units(dt_s)) <= 0
     }
 
-    /// Stores (or marks missing) without validation: `time_s` finite and increasing.
-    pub(crate) fn record(&mut self, time_s: f64, sea_level: Option<Pressure>) {
-        self.last_time_s = time_s;
+    /// Moves the schedule on by a step of `dt_s` seconds (> 0; anything before the first
+    /// value) since the last call, and tells whether a value is due: then the caller
+    /// passes it to [`Self::store`] (computing it only then) before the next tick.
+    pub(crate) fn tick(&mut self, dt_s: f32) -> bool {
+        if !self.started {
+            return true;
+        }
+        // due_in <= SLOT_UNITS before: no overflow (saturating all the same)
+        self.due_in = self.due_in.saturating_sub(Self::units(dt_s));
+        self.due_in <= 0
+    }
+
+    /// Stores the value due after [`Self::tick`] said so (a missing value for `None`),
+    /// with the slots skipped since the last mark left empty.
+    pub(crate) fn store(&mut self, sea_level: Option<Pressure>) {
         let value = sea_level.map_or(MISSING, to_steps);
         if !self.started {
             self.started = true;
             self.push(value);
-            self.next_due_s = time_s + SLOT_SECONDS;
+            self.due_in = SLOT_UNITS;
             return;
         }
-        if time_s < self.next_due_s {
-            return;
-        }
-        // Whole slots skipped between the due mark and now (float to int `as` saturates).
-        let skipped = ((time_s - self.next_due_s) / SLOT_SECONDS) as u64;
-        if skipped >= SLOTS as u64 {
+        // Whole slots skipped between the due mark and now.
+        let skipped = self.due_in.unsigned_abs() / SLOT_UNITS.unsigned_abs();
+        if skipped >= SLOTS as u32 {
             self.ring = [MISSING; SLOTS];
             self.filled = 0;
             self.push(value);
-            self.next_due_s = time_s + SLOT_SECONDS;
+            self.due_in = SLOT_UNITS;
             return;
         }
         for _ in 0..skipped {
             self.push(MISSING);
         }
         self.push(value);
-        // skipped < 19, exact in f64.
-        self.next_due_s += (skipped + 1) as f64 * SLOT_SECONDS;
+        // skipped < 19 and -due_in < (skipped + 1) slots: the sum is in (0, SLOT_UNITS]
+        self.due_in += (skipped as i32 + 1) * SLOT_UNITS;
     }
 
     fn push(&mut self, value: u16) {
@@ -231,26 +251,98 @@ impl PressureTendency {
         }
     }
 
-    /// Newest stored sea-level pressure, hPa.
-    pub fn latest_hpa(&self) -> Option<f32> {
+    /// See [`PressureTendency::latest_hpa`].
+    pub(crate) fn latest_hpa(&self) -> Option<f32> {
         self.ago(0).map(steps_to_hpa)
     }
 
-    /// Change of the stored sea-level pressure over the last 3 hours (newest value minus
-    /// the value 18 slots earlier), hPa; negative is falling. `None` until three hours
-    /// are stored, or if either end is missing.
-    pub fn tendency_hpa(&self) -> Option<f32> {
+    /// See [`PressureTendency::tendency_hpa`].
+    pub(crate) fn tendency_hpa(&self) -> Option<f32> {
         let now = self.ago(0)?;
         let before = self.ago(SLOTS - 1)?;
         // Exact integer difference, then one conversion.
         Some((i32::from(now) - i32::from(before)) as f32 * STEP_PA / 100.0)
     }
 
+    /// See [`PressureTendency::falling_alert`].
+    pub(crate) fn falling_alert(&self, config: &TendencyConfig) -> bool {
+        self.tendency_hpa()
+            .is_some_and(|t| t <= -config.falling_alert_hpa)
+    }
+}
+
+impl PressureTendency {
+    /// An empty tracker. Errors: as [`TendencyConfig::validate`].
+    pub fn new(config: TendencyConfig) -> Result<Self, Error> {
+        config.validate()?;
+        Ok(Self::from_ring(config, 0.0, TendencyRing::new()))
+    }
+
+    /// A tracker around a ring (its last call at `last_time_s`) and checked settings.
+    pub(crate) const fn from_ring(
+        config: TendencyConfig,
+        last_time_s: f64,
+        ring: TendencyRing,
+    ) -> Self {
+        Self {
+            config,
+            last_time_s,
+            ring,
+        }
+    }
+
+    /// The step from the last call to `time_s`, s (0 before the first call).
+    fn step_to(&self, time_s: f64) -> f32 {
+        if self.ring.started {
+            (time_s - self.last_time_s) as f32
+        } else {
+            0.0
+        }
+    }
+
+    /// True if a call to [`Self::update`] at `time_s` would store a value: lets a caller
+    /// skip computing the sea-level pressure (two power functions) on the other samples.
+    pub fn is_due(&self, time_s: f64) -> bool {
+        self.ring.is_due(self.step_to(time_s))
+    }
+
+    /// Offers the sea-level pressure at `time_s` (seconds, any origin, strictly
+    /// increasing from call to call). The value is stored if a 10-minute mark has been
+    /// reached since the last stored value, and otherwise ignored. A gap longer than a
+    /// slot leaves the skipped slots empty; a gap of three hours or more empties the ring.
+    ///
+    /// Errors (state unchanged): [`Error::NotFinite`] for a NaN or infinite time,
+    /// [`Error::NotIncreasing`] for a time not after the previous call.
+    pub fn update(&mut self, time_s: f64, sea_level: Pressure) -> Result<(), Error> {
+        if !time_s.is_finite() {
+            return Err(Error::NotFinite);
+        }
+        if self.ring.started && time_s <= self.last_time_s {
+            return Err(Error::NotIncreasing);
+        }
+        if self.ring.tick(self.step_to(time_s)) {
+            self.ring.store(Some(sea_level));
+        }
+        self.last_time_s = time_s;
+        Ok(())
+    }
+
+    /// Newest stored sea-level pressure, hPa.
+    pub fn latest_hpa(&self) -> Option<f32> {
+        self.ring.latest_hpa()
+    }
+
+    /// Change of the stored sea-level pressure over the last 3 hours (newest value minus
+    /// the value 18 slots earlier), hPa; negative is falling. `None` until three hours
+    /// are stored, or if either end is missing.
+    pub fn tendency_hpa(&self) -> Option<f32> {
+        self.ring.tendency_hpa()
+    }
+
     /// True when the 3-hour tendency is a fall of [`TendencyConfig::falling_alert_hpa`] or
     /// more.
     pub fn falling_alert(&self) -> bool {
-        self.tendency_hpa()
-            .is_some_and(|t| t <= -self.config.falling_alert_hpa)
+        self.ring.falling_alert(&self.config)
     }
 
     /// The settings.
@@ -260,7 +352,7 @@ impl PressureTendency {
 
     /// Forgets every stored value; keeps the settings.
     pub fn reset(&mut self) {
-        *self = Self::empty(self.config);
+        self.ring = TendencyRing::new();
     }
 }
 
@@ -303,6 +395,35 @@ mod tests {
             assert!((change - 3.0 * rate).abs() < 0.01, "{rate}: {change}");
             assert!(!t.falling_alert());
         }
+    }
+
+    #[test]
+    fn marks_stay_on_the_ten_minute_grid_at_50_hz() {
+        // Steps of 0.02 s (not exact in binary, 2000 units of the countdown): each
+        // stored value must fall on the first call at or after each 10-minute mark. A steep fall (3 Pa/s) makes every stored
+        // value differ from the one before, so a store shows as a new latest value.
+        let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
+        let mut stores = 0;
+        let mut last_latest = None;
+        for i in 0..(3 * 3600 * 50 + 10) {
+            let time = f64::from(i) * 0.02;
+            t.update(time, hpa(1010.0 - 0.03 * time as f32)).unwrap();
+            let latest = t.latest_hpa();
+            if latest != last_latest {
+                // k-th store at the k-th mark (the first call is a store at 0)
+                let mark = f64::from(stores) * 600.0;
+                assert!(
+                    time >= mark - 1e-9 && time < mark + 0.02,
+                    "store {stores} at {time} s, mark {mark} s"
+                );
+                stores += 1;
+                last_latest = latest;
+            }
+        }
+        assert_eq!(stores, 19);
+        // 3 Pa/s over 3 h: -324 hPa, to the 0.02 hPa steps
+        let change = t.tendency_hpa().unwrap();
+        assert!((change + 324.0).abs() < 0.05, "{change}");
     }
 
     #[test]
