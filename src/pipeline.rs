@@ -707,8 +707,18 @@ const GROUND_FROZEN: u8 = 1;
 const HAS_TIME: u8 = 2;
 const LAST_EVENT: u8 = 4;
 
+/// The ground part of a [`Pipeline`]: the ground reference and the start altitude it
+/// ties to it (the run-time value: [`Pipeline::set_start_altitude`]). A layout without
+/// the ground reference keeps neither (it refuses a start altitude).
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct Datum {
+    reference: GroundReference,
+    start_altitude_m: Option<f32>,
+}
+
 /// What [`Pipeline`] keeps of its last output to carry it forward (the phase, totals
-/// and tendency are read from the trackers).
+/// and tendency are read from the trackers; the flags are kept beside it, in 16 bits).
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct Carried {
@@ -716,8 +726,16 @@ struct Carried {
     raw_altitude_m: f32,
     vertical_speed_mps: f32,
     altitude_sigma_m: f32,
-    flags: Flags,
 }
+
+// Every flag fits the 16 bits the pipeline keeps of the last output's flags.
+const _: () = {
+    let mut i = 0;
+    while i < Flags::NAMES.len() {
+        assert!(Flags::NAMES[i].0.0 <= u16::MAX as u32);
+        i += 1;
+    }
+};
 
 /// The composed per-sample pipeline; `N` is the capacity of the balloon's stored
 /// profile (use 2 for the other presets: the profile is then unused and small); `S`
@@ -731,7 +749,6 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     store: S,
     /// The run-time changes of the settings ([`Self::set_start_altitude`],
     /// [`Self::set_altimeter_setting`]); everything else is read from `store`.
-    start_altitude_m: Option<f32>,
     altimeter_setting: AltimeterSetting,
     #[cfg(feature = "pipeline-sounding")]
     sounding: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Sounding<N>>>,
@@ -739,7 +756,7 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     column_reference: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Reference>>,
     estimator: EstimatorState<<S::Parts as Parts>::Kalman, S::Kalman>,
     /// The ground reference (`()` in a layout without it).
-    ground: <<S::Parts as Parts>::Ground as Presence>::Field<GroundReference>,
+    ground: <<S::Parts as Parts>::Ground as Presence>::Field<Datum>,
     phases: FlightPhases<S::Phases>,
     track: TrackState<<S::Parts as Parts>::Hike>,
     /// Datum offset added to the model height, m, and its target (fixes slew to it).
@@ -750,11 +767,11 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     last_time_s: f64,
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     last_temperature: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Temperature>>,
-    /// Seconds covered by samples the spike gate held back since the phase tracker's
-    /// last sample (it sees only the samples that are taken).
-    held_back_s: f32,
     last_pressure_pa: f32,
     last: Carried,
+    /// The last output's flags (every flag is below bit 16, checked at compile time):
+    /// beside `bits`, they fill what would be padding.
+    last_flags: u16,
     /// Yes/no state: `GROUND_FROZEN` (the height of the ground reference is fixed),
     /// `HAS_TIME`, `LAST_EVENT` (the last sample confirmed the phase tracker's last
     /// event). One byte for the three.
@@ -784,21 +801,22 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 HikeOf::<S>::hold(HikeState::new(&hike)?).ok_or(Error::InvalidSetting)?,
             ),
         };
-        let ground = GroundOf::<S>::field(GroundReference::new(GroundReferenceConfig {
-            min_samples: s.ground_min_samples.max(2),
-            min_duration_s: 0.0,
-        })?);
+        let ground = GroundOf::<S>::field(Datum {
+            reference: GroundReference::new(GroundReferenceConfig {
+                min_samples: s.ground_min_samples.max(2),
+                min_duration_s: 0.0,
+            })?,
+            start_altitude_m: s.start_altitude_m,
+        });
         // the parts these settings need must be in the layout
         if (s.start_altitude_m.is_some() && !GroundOf::<S>::HELD)
             || (!ModelOf::<S>::HELD && !matches!(s.model, HeightModel::Standard))
         {
             return Err(Error::InvalidSetting);
         }
-        let start_altitude_m = s.start_altitude_m;
         let altimeter_setting = s.altimeter_setting;
         Ok(Self {
             store: settings,
-            start_altitude_m,
             altimeter_setting,
             #[cfg(feature = "pipeline-sounding")]
             sounding: None,
@@ -813,9 +831,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             last_time_s: 0.0,
             #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
             last_temperature: None,
-            held_back_s: 0.0,
             last_pressure_pa: 0.0,
             last: Carried::default(),
+            last_flags: 0,
             bits: Bits::NONE,
         })
     }
@@ -823,18 +841,44 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// The settings in use (with the run-time changes).
     pub fn settings(&self) -> Settings {
         let mut s = *self.store.settings();
-        s.start_altitude_m = self.start_altitude_m;
+        s.start_altitude_m = self.start_altitude();
         s.altimeter_setting = self.altimeter_setting;
         s
     }
 
     /// The last output (of the last sample taken; a zeroed output before any).
     pub fn last_output(&self) -> Output {
-        let mut out = self.carry(self.last_time().unwrap_or(0.0), self.last.flags);
+        let mut out = self.carry(self.last_time().unwrap_or(0.0), self.last_flags());
         if self.bits.get(LAST_EVENT) {
             out.event = self.phases.last_event();
         }
         out
+    }
+
+    /// The start altitude in use (run-time value), m; always `None` in a layout without
+    /// the ground reference.
+    fn start_altitude(&self) -> Option<f32> {
+        GroundOf::<S>::field_ref(&self.ground).and_then(|g| g.start_altitude_m)
+    }
+
+    /// The last output's flags.
+    fn last_flags(&self) -> Flags {
+        Flags(u32::from(self.last_flags))
+    }
+
+    /// Keeps `flags` as the last output's (all below bit 16: see `last_flags`).
+    fn set_last_flags(&mut self, flags: Flags) {
+        self.last_flags = flags.0 as u16;
+    }
+
+    /// Seconds covered by samples the spike gate held back since the last sample taken
+    /// (the phase and hike trackers see only the samples that are taken): the gate's
+    /// age, which sums the same steps from the same start; 0 without the gate.
+    fn held_back_s(&self) -> f32 {
+        match &self.estimator {
+            EstimatorState::Pointwise(gate) if gate.age_s.is_finite() => gate.age_s,
+            _ => 0.0,
+        }
     }
 
     /// Time of the last sample taken, s.
@@ -905,10 +949,10 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             // a layout without the ground reference (parts::Hike)
             return Err(Error::InvalidSetting);
         }
-        self.start_altitude_m = start_altitude_m;
         self.bits.set(GROUND_FROZEN, false);
         if let Some(g) = GroundOf::<S>::field_mut(&mut self.ground) {
-            g.rezero();
+            g.start_altitude_m = start_altitude_m;
+            g.reference.rezero();
         }
         Ok(())
     }
@@ -932,10 +976,10 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             let new = setting.height(p)?;
             self.offset_m -= new.meters() - old.meters();
         }
-        if self.start_altitude_m.is_some() && !self.bits.get(GROUND_FROZEN) {
+        if self.start_altitude().is_some() && !self.bits.get(GROUND_FROZEN) {
             // the ground reference averaged heights of the old setting: take it anew
             if let Some(g) = GroundOf::<S>::field_mut(&mut self.ground) {
-                g.rezero();
+                g.reference.rezero();
             }
         }
         self.altimeter_setting = setting;
@@ -946,7 +990,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// re-arming).
     pub fn rezero(&mut self) {
         if let Some(g) = GroundOf::<S>::field_mut(&mut self.ground) {
-            g.rezero();
+            g.reference.rezero();
         }
         self.bits.set(GROUND_FROZEN, false);
     }
@@ -1049,13 +1093,13 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         let mut ground_frozen = self.bits.get(GROUND_FROZEN);
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
-        let averaging = self.start_altitude_m.is_some()
-            && !ground_frozen
-            && self.phases.phase() == Phase::Ground;
+        let start_altitude = self.start_altitude();
+        let averaging =
+            start_altitude.is_some() && !ground_frozen && self.phases.phase() == Phase::Ground;
         if let (Some(start), true, Some(ground)) = (
-            self.start_altitude_m,
+            start_altitude,
             averaging,
-            GroundOf::<S>::field_ref(&ground),
+            GroundOf::<S>::field_ref(&ground).map(|g| &g.reference),
         ) {
             if ground.sample_count() == 0 {
                 // provisional until samples at rest are averaged
@@ -1065,7 +1109,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             if !ground.is_ready() {
                 flags.set(Flags::GROUND_AVERAGING);
             }
-        } else if self.start_altitude_m.is_some() && !ground_frozen {
+        } else if start_altitude.is_some() && !ground_frozen {
             // motion started: the reference is fixed from now on
             ground_frozen = true;
         }
@@ -1120,8 +1164,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                         // taken (flagged), so its time counts as the last one
                         self.last_time_s = sample.time_s;
                         self.bits.set(HAS_TIME, true);
-                        self.held_back_s += dt.unwrap_or(0.0);
-                        self.last.flags = flags;
+                        self.set_last_flags(flags);
                         self.bits.set(LAST_EVENT, false);
                         return out;
                     }
@@ -1130,8 +1173,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 }
                 let speed = match dt {
                     Some(dt)
-                        if !self.last.flags.rejected()
-                            && !self.last.flags.contains(Flags::OUTLIER) =>
+                        if !self.last_flags().rejected()
+                            && !self.last_flags().contains(Flags::OUTLIER) =>
                     {
                         difference_speed(raw_m - self.last.raw_altitude_m, dt)
                             .unwrap_or(self.last.vertical_speed_mps)
@@ -1169,9 +1212,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // The ground reference takes samples the estimator accepted, at rest only: a
         // spike or the first seconds of a climb must not move the zero.
         if let (Some(start), true, Some(ground)) = (
-            self.start_altitude_m,
+            start_altitude,
             averaging,
-            GroundOf::<S>::field_mut(&mut ground),
+            GroundOf::<S>::field_mut(&mut ground).map(|g| &mut g.reference),
         ) {
             let at_rest = speed_mps.abs() < self.phases.settings().rest_mps;
             if at_rest && !flags.contains(Flags::OUTLIER) && !flags.contains(Flags::REACQUIRED) {
@@ -1188,6 +1231,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         //    nothing after it can fail.
         #[cfg(feature = "pipeline-hike")]
         let first_sample = self.last_time().is_none();
+        let held_back_s = self.held_back_s();
         let (out_height, speed_mps, ascent, descent, tendency) = match &mut self.track {
             TrackState::Flight(totals, _) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
@@ -1204,7 +1248,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 let hike = HikeOf::<S>::get_mut(part);
                 let config = self.store.settings().tracking.hike();
                 // it sees only the samples that are taken (like the phase tracker)
-                let since = dt.unwrap_or(0.0) + self.held_back_s;
+                let since = dt.unwrap_or(0.0) + held_back_s;
                 let mut r = hike.step(config, since, raw_m);
                 if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
                     // the first fix of a walk applies at once, later ones slew
@@ -1245,7 +1289,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             .phases
             .update_step(
                 sample.time_s,
-                dt.unwrap_or(0.0) + self.held_back_s,
+                dt.unwrap_or(0.0) + held_back_s,
                 out_height,
                 speed_mps,
             )
@@ -1281,7 +1325,6 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         {
             *gate_state = spikes;
         }
-        self.held_back_s = 0.0;
         self.last_time_s = sample.time_s;
         self.bits.set(HAS_TIME, true);
         #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
@@ -1293,8 +1336,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             raw_altitude_m: raw_m,
             vertical_speed_mps: speed_mps,
             altitude_sigma_m: sigma_m,
-            flags,
         };
+        self.set_last_flags(flags);
         self.bits.set(LAST_EVENT, event.is_some());
         Output {
             time_s: sample.time_s,
@@ -1348,7 +1391,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 let column_t = t.map_or(t_std.kelvin(), |t| t.kelvin());
                 match self.column_reference.as_ref().map(ModelOf::<S>::get) {
                     None => {
-                        let base = match self.start_altitude_m {
+                        let base = match self.start_altitude() {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
@@ -1372,7 +1415,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 let t = self.temperature_or_held(t, t_std, flags);
                 match self.sounding.as_ref().map(ModelOf::<S>::get) {
                     None => {
-                        let base = match self.start_altitude_m {
+                        let base = match self.start_altitude() {
                             Some(h) => Height::from_meters(h)?,
                             None => std_height,
                         };
@@ -1409,7 +1452,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     fn model_sigma(&self, p: Pressure, column_t: f32, height_m: f32) -> f32 {
         model_sigma(
             self.store.settings(),
-            self.start_altitude_m,
+            self.start_altitude(),
             p,
             column_t,
             height_m,
@@ -1454,7 +1497,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         match self.store.settings().model {
             HeightModel::Standard => 0.0,
             // the sounding and the column models
-            _ => self.start_altitude_m.unwrap_or(0.0),
+            _ => self.start_altitude().unwrap_or(0.0),
         }
     }
 }

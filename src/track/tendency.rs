@@ -130,9 +130,9 @@ pub(crate) struct TendencyRing {
     ring: [u16; SLOTS],
     /// Index of the newest value.
     newest: u8,
-    /// Number of slots written since the start or the last reset (saturates at SLOTS).
+    /// Number of slots written since the start or the last reset (saturates at SLOTS);
+    /// 0 only before the first value (so it also says whether the ring has started).
     filled: u8,
-    started: bool,
     /// Time from the last call to the next 10-minute mark, units of [`UNIT_S`]
     /// (<= 0: due).
     due_in: i32,
@@ -168,9 +168,13 @@ impl TendencyRing {
             ring: [MISSING; SLOTS],
             newest: 0,
             filled: 0,
-            started: false,
             due_in: 0,
         }
+    }
+
+    /// Whether a value has been stored since the start or the last reset.
+    const fn started(&self) -> bool {
+        self.filled > 0
     }
 
     /// A step of `dt_s` seconds (> 0) in units of the countdown, rounded to nearest;
@@ -187,14 +191,14 @@ impl TendencyRing {
     /// True if a 10-minute mark is reached after a step of `dt_s` from the last call
     /// (always before the first value): what [`Self::tick`] would answer.
     pub(crate) fn is_due(&self, dt_s: f32) -> bool {
-        !self.started || self.due_in.saturating_sub(Self::units(dt_s)) <= 0
+        !self.started() || self.due_in.saturating_sub(Self::units(dt_s)) <= 0
     }
 
     /// Moves the schedule on by a step of `dt_s` seconds (> 0; anything before the first
     /// value) since the last call, and tells whether a value is due: then the caller
     /// passes it to [`Self::store`] (computing it only then) before the next tick.
     pub(crate) fn tick(&mut self, dt_s: f32) -> bool {
-        if !self.started {
+        if !self.started() {
             return true;
         }
         // due_in <= SLOT_UNITS before: no overflow (saturating all the same)
@@ -206,8 +210,7 @@ impl TendencyRing {
     /// with the slots skipped since the last mark left empty.
     pub(crate) fn store(&mut self, sea_level: Option<Pressure>) {
         let value = sea_level.map_or(MISSING, to_steps);
-        if !self.started {
-            self.started = true;
+        if !self.started() {
             self.push(value);
             self.due_in = SLOT_UNITS;
             return;
@@ -293,7 +296,7 @@ impl PressureTendency {
 
     /// The step from the last call to `time_s`, s (0 before the first call).
     fn step_to(&self, time_s: f64) -> f32 {
-        if self.ring.started {
+        if self.ring.started() {
             (time_s - self.last_time_s) as f32
         } else {
             0.0
@@ -317,7 +320,7 @@ impl PressureTendency {
         if !time_s.is_finite() {
             return Err(Error::NotFinite);
         }
-        if self.ring.started && time_s <= self.last_time_s {
+        if self.ring.started() && time_s <= self.last_time_s {
             return Err(Error::NotIncreasing);
         }
         if self.ring.tick(self.step_to(time_s)) {
