@@ -167,119 +167,110 @@ impl PhaseSettings {
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct FlightPhases<S = PhaseSettings> {
-    /// The settings, owned or borrowed (`&'static PhaseSettings` keeps them in flash).
-    settings: S,
+    core: PhaseCore<S>,
     /// Time of the latest sample, s, if `has_time` (8 bytes and a flag, not the 16 of an
     /// `Option`).
     last_time_s: f64,
-    /// Time (s) and height (m) of the apex; the height is minus infinity before there is
-    /// one (sample heights are finite).
+    /// Time of the apex, s (valid while the core has an apex).
     apex_time_s: f64,
+    /// Start time of the most recent phase change, s (valid while the core has one).
+    event_time_s: f64,
+    has_time: bool,
+}
+
+/// The phase state machine without a clock: what a [`crate::pipeline::Pipeline`] keeps
+/// (it has the time of its last sample, and keeps the settings in its store). Each
+/// step is given the time since the previous sample; the most recent event keeps the
+/// hold it was confirmed with, so that its start time is the confirming sample's time
+/// minus that hold (the same arithmetic as [`FlightPhases`]). 24 bytes with settings
+/// fixed at compile time on 32-bit Arm. Crate-internal.
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(crate) struct PhaseCore<S> {
+    /// The settings, owned or borrowed (`&'static PhaseSettings` keeps them in flash).
+    settings: S,
+    /// Height (m) of the apex; minus infinity before there is one (sample heights are
+    /// finite).
     apex_m: f32,
     /// The phase the samples argue for, the height where they started to, and how long
     /// (s) they have held. The hold is summed in `f32` steps so that a sample needs no
     /// `f64` arithmetic beyond forming its step; the start time is the latest sample's
     /// time minus the hold, so it is not kept (the state is kept as flat fields rather
-    /// than an `Option` of a tuple: 48 bytes instead of 72 with borrowed settings on
-    /// 32-bit Arm).
+    /// than an `Option` of a tuple: smaller on 32-bit Arm).
     candidate: Option<Phase>,
     candidate_m: f32,
     held_s: f32,
-    /// The most recent phase change: phase, start time (s) and height (m).
+    /// The most recent phase change: phase, height (m) and the hold (s) at the sample
+    /// that confirmed it.
     event_phase: Option<Phase>,
-    event_time_s: f64,
     event_m: f32,
+    event_held_s: f32,
     /// Current phase.
     phase: Phase,
-    has_time: bool,
 }
 
-impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
-    /// A tracker on the ground. `settings` is owned (`PhaseSettings`) or borrowed
-    /// (`&PhaseSettings`, for example from a `static`: the settings then stay out of the
-    /// tracker's state). Errors: [`Error::InvalidSetting`].
-    pub fn new(settings: S) -> Result<Self, Error> {
+/// What one step of [`PhaseCore`] changed besides its phase.
+pub(crate) struct PhaseStep {
+    /// The phase change this sample confirmed: the phase entered, and the hold since
+    /// its condition started (s) and the height then (m).
+    pub(crate) event: Option<(Phase, f32, f32)>,
+    /// This sample is the new apex.
+    pub(crate) apex: bool,
+}
+
+impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
+    /// A tracker on the ground. Errors: [`Error::InvalidSetting`].
+    pub(crate) fn new(settings: S) -> Result<Self, Error> {
         settings.borrow().validate()?;
         Ok(Self {
             settings,
-            last_time_s: 0.0,
-            apex_time_s: 0.0,
             apex_m: f32::NEG_INFINITY,
             candidate: None,
             candidate_m: 0.0,
             held_s: 0.0,
             event_phase: None,
-            event_time_s: 0.0,
             event_m: 0.0,
+            event_held_s: 0.0,
             phase: Phase::Ground,
-            has_time: false,
         })
     }
 
     /// Current phase.
-    pub fn phase(&self) -> Phase {
+    pub(crate) fn phase(&self) -> Phase {
         self.phase
     }
 
     /// Settings in use.
-    pub fn settings(&self) -> &PhaseSettings {
+    pub(crate) fn settings(&self) -> &PhaseSettings {
         self.settings.borrow()
     }
 
-    /// Replace the settings (validated first; the phase is kept).
-    pub fn set_settings(&mut self, settings: S) -> Result<(), Error> {
-        settings.borrow().validate()?;
-        self.settings = settings;
-        Ok(())
+    /// Height of the apex, m, once there is one.
+    pub(crate) fn apex_m(&self) -> Option<f32> {
+        (self.apex_m > f32::NEG_INFINITY).then_some(self.apex_m)
     }
 
-    /// Highest height seen since launch and its time, `(time_s, height_m)`.
-    pub fn apex(&self) -> Option<(f64, f32)> {
-        (self.apex_m > f32::NEG_INFINITY).then_some((self.apex_time_s, self.apex_m))
-    }
-
-    /// The most recent phase change.
-    pub fn last_event(&self) -> Option<PhaseEvent> {
+    /// The most recent phase change, if the sample that confirmed it was at `time_s`.
+    pub(crate) fn event_confirmed_at(&self, time_s: f64) -> Option<PhaseEvent> {
         self.event_phase.map(|phase| PhaseEvent {
             phase,
-            time_s: self.event_time_s,
+            time_s: crate::timebits::minus_step(time_s, self.event_held_s),
             height_m: self.event_m,
         })
     }
 
-    /// Feed one sample: time (s, strictly increasing), height (m) and vertical speed
-    /// (m/s, up positive). Returns the phase change this sample confirmed, if any
-    /// (the current phase is [`Self::phase`]). Errors, with the state unchanged:
-    /// [`Error::NotFinite`], [`Error::NotIncreasing`] for time.
-    pub fn update(
+    /// One sample `dt` seconds (>= 0, finite; anything for the first sample) after the
+    /// previous one: height (m) and vertical speed (m/s, up positive). Errors, with the
+    /// state unchanged: [`Error::NotFinite`].
+    pub(crate) fn step(
         &mut self,
-        time_s: f64,
-        height_m: f32,
-        speed_mps: f32,
-    ) -> Result<Option<PhaseEvent>, Error> {
-        let dt = if self.has_time {
-            filter::step_s(self.last_time_s, time_s)?
-        } else {
-            filter::check_time(time_s)?;
-            0.0
-        };
-        self.update_step(time_s, dt, height_m, speed_mps)
-    }
-
-    /// [`Self::update`] with the step from the previous sample already formed (`dt`,
-    /// s, >= 0; anything for the first sample) and `time_s` finite and later.
-    pub(crate) fn update_step(
-        &mut self,
-        time_s: f64,
         dt: f32,
         height_m: f32,
         speed_mps: f32,
-    ) -> Result<Option<PhaseEvent>, Error> {
+    ) -> Result<PhaseStep, Error> {
         if !(height_m.is_finite() && speed_mps.is_finite()) {
             return Err(Error::NotFinite);
         }
-        self.last_time_s = time_s;
-        self.has_time = true;
         let s = self.settings.borrow();
         if self.phase == Phase::Burst {
             self.phase = Phase::Descent;
@@ -333,25 +324,21 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
                 self.candidate = Some(next);
                 self.held_s = held;
                 if held >= hold {
-                    let e = PhaseEvent {
-                        phase: next,
-                        time_s: crate::timebits::minus_step(time_s, held),
-                        height_m: self.candidate_m,
-                    };
+                    let height = self.candidate_m;
                     self.phase = next;
                     self.clear_candidate();
                     self.event_phase = Some(next);
-                    self.event_time_s = e.time_s;
-                    self.event_m = e.height_m;
-                    event = Some(e);
+                    self.event_m = height;
+                    self.event_held_s = held;
+                    event = Some((next, held, height));
                 }
             }
         }
-        if matches!(self.phase, Phase::Ascent | Phase::Float) && height_m > self.apex_m {
-            self.apex_time_s = time_s;
+        let apex = matches!(self.phase, Phase::Ascent | Phase::Float) && height_m > self.apex_m;
+        if apex {
             self.apex_m = height_m;
         }
-        Ok(event)
+        Ok(PhaseStep { event, apex })
     }
 
     /// No candidate (its height and hold zeroed, so that equal histories give equal
@@ -360,6 +347,85 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         self.candidate = None;
         self.candidate_m = 0.0;
         self.held_s = 0.0;
+    }
+}
+
+impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
+    /// A tracker on the ground. `settings` is owned (`PhaseSettings`) or borrowed
+    /// (`&PhaseSettings`, for example from a `static`: the settings then stay out of the
+    /// tracker's state). Errors: [`Error::InvalidSetting`].
+    pub fn new(settings: S) -> Result<Self, Error> {
+        Ok(Self {
+            core: PhaseCore::new(settings)?,
+            last_time_s: 0.0,
+            apex_time_s: 0.0,
+            event_time_s: 0.0,
+            has_time: false,
+        })
+    }
+
+    /// Current phase.
+    pub fn phase(&self) -> Phase {
+        self.core.phase()
+    }
+
+    /// Settings in use.
+    pub fn settings(&self) -> &PhaseSettings {
+        self.core.settings()
+    }
+
+    /// Replace the settings (validated first; the phase is kept).
+    pub fn set_settings(&mut self, settings: S) -> Result<(), Error> {
+        settings.borrow().validate()?;
+        self.core.settings = settings;
+        Ok(())
+    }
+
+    /// Highest height seen since launch and its time, `(time_s, height_m)`.
+    pub fn apex(&self) -> Option<(f64, f32)> {
+        self.core.apex_m().map(|h| (self.apex_time_s, h))
+    }
+
+    /// The most recent phase change.
+    pub fn last_event(&self) -> Option<PhaseEvent> {
+        self.core.event_phase.map(|phase| PhaseEvent {
+            phase,
+            time_s: self.event_time_s,
+            height_m: self.core.event_m,
+        })
+    }
+
+    /// Feed one sample: time (s, strictly increasing), height (m) and vertical speed
+    /// (m/s, up positive). Returns the phase change this sample confirmed, if any
+    /// (the current phase is [`Self::phase`]). Errors, with the state unchanged:
+    /// [`Error::NotFinite`], [`Error::NotIncreasing`] for time.
+    pub fn update(
+        &mut self,
+        time_s: f64,
+        height_m: f32,
+        speed_mps: f32,
+    ) -> Result<Option<PhaseEvent>, Error> {
+        let dt = if self.has_time {
+            filter::step_s(self.last_time_s, time_s)?
+        } else {
+            filter::check_time(time_s)?;
+            0.0
+        };
+        let step = self.core.step(dt, height_m, speed_mps)?;
+        self.last_time_s = time_s;
+        self.has_time = true;
+        if step.apex {
+            self.apex_time_s = time_s;
+        }
+        Ok(step.event.map(|(phase, held, height_m)| {
+            let e = PhaseEvent {
+                phase,
+                time_s: crate::timebits::minus_step(time_s, held),
+                height_m,
+            };
+            self.event_time_s = e.time_s;
+            e
+        }))
     }
 }
 

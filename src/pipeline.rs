@@ -31,7 +31,7 @@ use crate::filter::{
     GroundReference, GroundReferenceConfig, KalmanOutcome, Step, VerticalKalman,
     VerticalKalmanConfig, finite_time, step_between,
 };
-use crate::flight::{FlightPhases, Phase, PhaseEvent, PhaseSettings};
+use crate::flight::{Phase, PhaseCore, PhaseEvent, PhaseSettings};
 use crate::geopotential::Gravity;
 #[cfg(feature = "pipeline-column")]
 use crate::humidity::MixingRatio;
@@ -758,7 +758,7 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     estimator: EstimatorState<<S::Parts as Parts>::Kalman, S::Kalman>,
     /// The ground reference (`()` in a layout without it).
     ground: <<S::Parts as Parts>::Ground as Presence>::Field<Datum>,
-    phases: FlightPhases<S::Phases>,
+    phases: PhaseCore<S::Phases>,
     track: TrackState<<S::Parts as Parts>::Hike>,
     /// Datum offset added to the model height, m, and its target (fixes slew to it).
     offset_m: f32,
@@ -792,7 +792,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 KalmanOf::<S>::hold(VerticalKalman::new(k)?).ok_or(Error::InvalidSetting)?,
             ),
         };
-        let phases = FlightPhases::new(settings.phases())?;
+        let phases = PhaseCore::new(settings.phases())?;
         let track = match s.tracking {
             Tracking::Flight { totals_band_m, .. } => {
                 TrackState::Flight(AscentTotals::new(totals_band_m)?, PhantomData)
@@ -851,7 +851,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     pub fn last_output(&self) -> Output {
         let mut out = self.carry(self.last_time().unwrap_or(0.0), self.last_flags());
         if self.bits.get(LAST_EVENT) {
-            out.event = self.phases.last_event();
+            out.event = self.phases.event_confirmed_at(self.last_time_s);
         }
         out
     }
@@ -926,9 +926,19 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         self.sounding.as_ref().map(ModelOf::<S>::get)
     }
 
-    /// The flight phase tracker.
-    pub fn phases(&self) -> &FlightPhases<S::Phases> {
-        &self.phases
+    /// The current flight phase.
+    pub fn phase(&self) -> Phase {
+        self.phases.phase()
+    }
+
+    /// The phase thresholds in use.
+    pub fn phase_settings(&self) -> &PhaseSettings {
+        self.phases.settings()
+    }
+
+    /// The highest output height since launch (seen in ascent or float), m.
+    pub fn apex_m(&self) -> Option<f32> {
+        self.phases.apex_m()
     }
 
     /// Number of barometer samples the estimator rejected as outliers.
@@ -1288,14 +1298,14 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // did, the phase tracker would keep its state (it is atomic on error).
         let event = self
             .phases
-            .update_step(
-                sample.time_s,
-                dt.unwrap_or(0.0) + held_back_s,
-                out_height,
-                speed_mps,
-            )
+            .step(dt.unwrap_or(0.0) + held_back_s, out_height, speed_mps)
             .ok()
-            .flatten();
+            .and_then(|step| step.event)
+            .map(|(phase, held, height_m)| PhaseEvent {
+                phase,
+                time_s: crate::timebits::minus_step(sample.time_s, held),
+                height_m,
+            });
 
         // 6. Commit.
         self.last_pressure_pa = pressure.pa();

@@ -89,7 +89,7 @@ fn drone_hovering() -> Pipeline<2> {
         t = 2.0 + i as f64 * 0.02;
         assert!(p.process(&Sample::pressure(t, p_at(z))).accepted());
     }
-    assert_ne!(p.phases().phase(), isohypse::flight::Phase::Ground);
+    assert_ne!(p.phase(), isohypse::flight::Phase::Ground);
     assert!(
         (p.last_output().altitude_m - 10.0).abs() < 0.2,
         "{:?}",
