@@ -229,7 +229,6 @@ pub struct HikeTracker {
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct HikeState {
-    started: bool,
     /// Smoothed height before weather correction, m.
     smoothed_m: f32,
     /// Weather offset, m: set at the end of a rest, extrapolated while moving.
@@ -300,7 +299,7 @@ impl HikeTracker {
         if !time_s.is_finite() {
             return Err(Error::NotFinite);
         }
-        if self.state.started && time_s <= self.last_time_s {
+        if self.state.started() && time_s <= self.last_time_s {
             return Err(Error::NotIncreasing);
         }
         Ok(())
@@ -382,7 +381,6 @@ impl HikeState {
     pub(crate) fn new(config: &HikeConfig) -> Result<Self, Error> {
         config.validate()?;
         Ok(Self {
-            started: false,
             smoothed_m: 0.0,
             weather_offset_m: 0.0,
             offset_carry_m: 0.0,
@@ -394,6 +392,13 @@ impl HikeState {
             rest: RestDetector::new(),
             tendency: TendencyRing::new(),
         })
+    }
+
+    /// Whether a sample has been taken: the tendency ring stores a value at the first
+    /// sample and is never emptied here (a long gap empties it and stores the new
+    /// value), so it says so without a flag of its own.
+    fn started(&self) -> bool {
+        self.tendency.started()
     }
 
     /// The pressure limits of `c`: [`Error::AboveModelTop`] below
@@ -416,8 +421,7 @@ impl HikeState {
         // Capped at 1e7 s (116 days) so that it stays finite whatever the time stamps (a
         // comparison, not `f32::min`: that is a library call on ARMv7E-M).
         let dt = if dt < 1.0e7 { dt } else { 1.0e7 };
-        if !self.started {
-            self.started = true;
+        if !self.started() {
             self.smoothed_m = h;
             self.tracked_m = h;
             self.hold_m = h;
@@ -483,7 +487,7 @@ impl HikeState {
 
     /// See [`HikeTracker::fix_elevation`].
     pub(crate) fn fix_elevation(&mut self, elevation: Height) -> Result<(), Error> {
-        if !self.started {
+        if !self.started() {
             return Err(Error::NotEnoughData);
         }
         self.fix_target_m = elevation.meters() - self.tracked_m;

@@ -173,7 +173,7 @@ impl TendencyRing {
     }
 
     /// Whether a value has been stored since the start or the last reset.
-    const fn started(&self) -> bool {
+    pub(crate) const fn started(&self) -> bool {
         self.filled > 0
     }
 
