@@ -90,11 +90,15 @@
 //!
 //! # Memory and time
 //!
-//! [`HikeTracker`] is 232 bytes on a 64-bit host, settings included (each part keeps its
-//! own settings, none is stored twice; the test `state_sizes` prints every part: totals
-//! 28, rest detector 76, tendency ring 64); O(1) per sample, no heap. Per sample: one pressure-altitude evaluation (one
-//! power or logarithm), plus two standard-atmosphere pressures every 10 minutes for the
-//! tendency.
+//! [`HikeTracker`] is 216 bytes on a 64-bit host: its settings (48), the pressure
+//! altitudes of its pressure limits (8), the time of the last sample (8) and the state
+//! proper (152: totals 28, rest detector 52, tendency ring 44 with its countdown, seven
+//! heights). The state proper keeps no settings and no clock: the composed pipeline
+//! holds it alone, reads the settings from its store (in flash with settings fixed at
+//! compile time) and passes the step from its own clock. The test `state_sizes` prints
+//! every part. O(1) per sample, no heap. Per sample: one pressure-altitude evaluation
+//! (one power or logarithm), plus two standard-atmosphere pressures every 10 minutes for
+//! the tendency.
 //!
 //! ```
 //! use isohypse::{track::{HikeConfig, HikeTracker}, atmosphere::US_1976, Height, Pressure};
@@ -567,9 +571,14 @@ mod tests {
         // Printed for the README and design table (cargo test -- --nocapture).
         let sizes = [
             ("HikeTracker", core::mem::size_of::<HikeTracker>()),
+            ("HikeState", core::mem::size_of::<HikeState>()),
             ("HikeConfig", core::mem::size_of::<HikeConfig>()),
             ("AscentTotals", core::mem::size_of::<AscentTotals>()),
             ("PressureTendency", core::mem::size_of::<PressureTendency>()),
+            (
+                "TendencyRing",
+                core::mem::size_of::<crate::track::tendency::TendencyRing>(),
+            ),
             ("RestDetector", core::mem::size_of::<RestDetector>()),
             ("RestConfig", core::mem::size_of::<RestConfig>()),
             ("HikeReport", core::mem::size_of::<HikeReport>()),

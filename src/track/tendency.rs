@@ -36,7 +36,7 @@
 //! tendency is reported in synoptic practice (from memory). A plain array is used rather
 //! than `heapless::Deque`: the ring never grows or shrinks, it is always full after
 //! three hours, and a `u16` with a "missing" marker is a quarter of an `Option<f32>`.
-//! 48 bytes for the ring and its schedule, 64 with the settings and the clock of a
+//! 44 bytes for the ring and its countdown, 56 with the settings and the clock of a
 //! stand-alone [`PressureTendency`].
 //! O(1) per call: a gap of k slots writes k markers, bounded by [`SLOTS`].
 //!
