@@ -213,9 +213,9 @@ pub(crate) struct PhaseCore<S> {
 
 /// What one step of [`PhaseCore`] changed besides its phase.
 pub(crate) struct PhaseStep {
-    /// The phase change this sample confirmed: the phase entered, and the hold since
-    /// its condition started (s) and the height then (m).
-    pub(crate) event: Option<(Phase, f32, f32)>,
+    /// This sample confirmed a phase change ([`PhaseCore::event_confirmed_at`] with its
+    /// time gives it).
+    pub(crate) event: bool,
     /// This sample is the new apex.
     pub(crate) apex: bool,
 }
@@ -252,7 +252,8 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
         (self.apex_m > f32::NEG_INFINITY).then_some(self.apex_m)
     }
 
-    /// The most recent phase change, if the sample that confirmed it was at `time_s`.
+    /// The most recent phase change, its start time formed from `time_s`, the time of
+    /// the sample that confirmed it (minus the hold then).
     pub(crate) fn event_confirmed_at(&self, time_s: f64) -> Option<PhaseEvent> {
         self.event_phase.map(|phase| PhaseEvent {
             phase,
@@ -305,7 +306,7 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
                 }
             }
         };
-        let mut event = None;
+        let mut event = false;
         match wanted {
             None => self.clear_candidate(),
             Some((next, hold)) => {
@@ -332,7 +333,7 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
                     self.event_phase = Some(next);
                     self.event_m = height;
                     self.event_held_s = held;
-                    event = Some((next, held, height));
+                    event = true;
                 }
             }
         }
@@ -419,15 +420,15 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         if step.apex {
             self.apex_time_s = time_s;
         }
-        Ok(step.event.map(|(phase, held, height_m)| {
-            let e = PhaseEvent {
-                phase,
-                time_s: crate::timebits::minus_step(time_s, held),
-                height_m,
-            };
+        let event = if step.event {
+            self.core.event_confirmed_at(time_s)
+        } else {
+            None
+        };
+        if let Some(e) = &event {
             self.event_time_s = e.time_s;
-            e
-        }))
+        }
+        Ok(event)
     }
 }
 

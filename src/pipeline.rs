@@ -1296,16 +1296,13 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
         // Time is validated and heights are finite here, so this cannot fail; if it
         // did, the phase tracker would keep its state (it is atomic on error).
-        let event = self
+        let event = match self
             .phases
             .step(dt.unwrap_or(0.0) + held_back_s, out_height, speed_mps)
-            .ok()
-            .and_then(|step| step.event)
-            .map(|(phase, held, height_m)| PhaseEvent {
-                phase,
-                time_s: crate::timebits::minus_step(sample.time_s, held),
-                height_m,
-            });
+        {
+            Ok(step) if step.event => self.phases.event_confirmed_at(sample.time_s),
+            _ => None,
+        };
 
         // 6. Commit.
         self.last_pressure_pa = pressure.pa();
