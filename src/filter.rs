@@ -77,6 +77,9 @@ const MAX_STEP_S: f32 = 1.0e30;
 // flash for a few instructions of call overhead.
 #[inline(never)]
 pub(crate) fn step_between(last: f64, now: f64) -> Step {
+    if let Some(step) = crate::timebits::near_step(last, now) {
+        return step;
+    }
     match crate::timebits::difference(now, last) {
         None => Step::Same,
         Some(d) if d.negative => Step::Earlier,
