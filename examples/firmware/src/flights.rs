@@ -21,6 +21,8 @@ mod with_library {
     use isohypse::sounding::Sounding;
     use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
 
+    use core::hint::black_box;
+
     use crate::Timing;
     use crate::demo::{self, DEMO_COUNT, DronePipeline, HostOutput};
     #[cfg(not(feature = "drone-only"))]
@@ -195,9 +197,15 @@ mod with_library {
         hprintln!("per-sample rows: left out (drone-only build)");
     }
 
-    /// A per-sample row: name, the code per call (gets the sample index), and the number
+    /// A per-sample row: name, the code per call (gets the sample index), the same
+    /// inputs formed without the library call (see [`Timing::per_call`]), and the number
     /// of calls.
-    type FlightRow<'a> = (&'a str, &'a mut dyn FnMut(usize) -> f32, usize);
+    type FlightRow<'a> = (
+        &'a str,
+        &'a mut dyn FnMut(usize) -> f32,
+        &'a mut dyn FnMut(usize) -> f32,
+        usize,
+    );
 
     /// Prints instructions per call of the per-sample rows, ratio against the baseline
     /// formula.
@@ -283,53 +291,82 @@ mod with_library {
             lib_process_hike(&mut hike, &s).altitude_m
         };
 
+        // The inputs of each row alone, passed through `black_box`.
+        let mut kalman_inputs = |i: usize| {
+            black_box(demo::drone_time_s(i));
+            at(&DRONE_ACCEL_MPS2, i) + raw(i)
+        };
+        let mut kalman_baro_inputs = |i: usize| {
+            black_box(demo::drone_time_s(i));
+            raw(i)
+        };
+        let mut sounding_inputs = |i: usize| black_box(&balloon_sample(i + 1)).pressure_pa;
+        let mut drone_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
+        let mut drone_no_accel_inputs = |i: usize| {
+            let mut s = drone_sample(i);
+            s.accel_up_mps2 = None;
+            black_box(&s).pressure_pa
+        };
+        let mut balloon_inputs = |i: usize| black_box(&balloon_sample(i)).pressure_pa;
+        let mut hike_inputs = |i: usize| {
+            let s = Sample::pressure(demo::balloon_time_s(i), at(&DRONE_PRESSURE_PA, i));
+            black_box(&s).pressure_pa
+        };
+
         let rows: [FlightRow; 7] = [
             (
                 "VerticalKalman::predict + correct_with_sigma (drone config, 50 Hz hop)",
                 &mut kalman_step,
+                &mut kalman_inputs,
                 DEMO_COUNT,
             ),
             (
                 "VerticalKalman::correct (barometer only, drone config)",
                 &mut kalman_baro_step,
+                &mut kalman_baro_inputs,
                 DEMO_COUNT,
             ),
             (
                 "Sounding::<64>::update (p, T, RH; balloon ascent)",
                 &mut sounding_step,
+                &mut sounding_inputs,
                 DEMO_COUNT - 1,
             ),
             (
                 "Pipeline::<2>::process, drone preset (p + accel, 50 Hz hop)",
                 &mut drone_step,
+                &mut drone_inputs,
                 DEMO_COUNT,
             ),
             (
                 "Pipeline::<2>::process, drone preset (p only)",
                 &mut drone_no_accel_step,
+                &mut drone_no_accel_inputs,
                 DEMO_COUNT,
             ),
             (
                 "Pipeline::<64>::process, balloon preset (p, T, RH, 1 Hz ascent)",
                 &mut balloon_step,
+                &mut balloon_inputs,
                 DEMO_COUNT,
             ),
             (
                 "Pipeline::<2>::process, hike preset (p only, 1 Hz)",
                 &mut hike_step,
+                &mut hike_inputs,
                 DEMO_COUNT,
             ),
         ];
         hprintln!("");
         hprintln!(
             "per-sample instructions per call (one pass over a demo flight, state kept \
-             between calls, loop overhead subtracted), {}",
+             between calls, loop overhead and forming the inputs subtracted), {}",
             env!("FIRMWARE_TARGET")
         );
         hprintln!("| row | calls | instructions per call | ratio vs baseline |");
         hprintln!("| --- | ---: | ---: | ---: |");
-        for (name, body, calls) in rows {
-            let n = timing.per_call(body, calls);
+        for (name, body, inputs, calls) in rows {
+            let n = timing.per_call(body, inputs, calls);
             hprintln!(
                 "| {} | {} | {:.1} | {:.2} |",
                 name,
