@@ -1099,8 +1099,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
         //    once the estimator has accepted it and the vehicle is at rest), then fixes.
-        // (a copy, committed with the rest; `()` in a layout without it)
-        let mut ground = self.ground.clone();
+        // (read here; the sample joins it at the commit, step 6)
         let mut ground_frozen = self.bits.get(GROUND_FROZEN);
         let mut offset_target = self.offset_target_m;
         let mut offset = self.offset_m;
@@ -1110,7 +1109,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         if let (Some(start), true, Some(ground)) = (
             start_altitude,
             averaging,
-            GroundOf::<S>::field_ref(&ground).map(|g| &g.reference),
+            GroundOf::<S>::field_ref(&self.ground).map(|g| &g.reference),
         ) {
             if ground.sample_count() == 0 {
                 // provisional until samples at rest are averaged
@@ -1221,21 +1220,14 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             }
         };
         // The ground reference takes samples the estimator accepted, at rest only: a
-        // spike or the first seconds of a climb must not move the zero.
-        if let (Some(start), true, Some(ground)) = (
-            start_altitude,
-            averaging,
-            GroundOf::<S>::field_mut(&mut ground).map(|g| &mut g.reference),
-        ) {
-            let at_rest = speed_mps.abs() < self.phases.settings().rest_mps;
-            if at_rest && !flags.contains(Flags::OUTLIER) && !flags.contains(Flags::REACQUIRED) {
-                let _ = ground.push(sample.time_s, height_or_zero(model_m));
-                if let Ok(mean) = ground.mean().or_else(|_| ground.running_mean()) {
-                    offset_target = start - mean.meters();
-                    offset = offset_target;
-                }
-            }
-        }
+        // spike or the first seconds of a climb must not move the zero. Pushed at the
+        // commit (step 6): nothing between here and there reads the reference or the
+        // offset, and a sample refused before then must not reach it.
+        let ground_sample = (averaging
+            && speed_mps.abs() < self.phases.settings().rest_mps
+            && !flags.contains(Flags::OUTLIER)
+            && !flags.contains(Flags::REACQUIRED))
+        .then_some(model_m);
 
         // 5. Trackers, updated in place: the hike tracker's update is the last step that
         //    can refuse the sample, and it leaves the tracker unchanged when it does;
@@ -1324,7 +1316,17 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 }
             }
         }
-        self.ground = ground;
+        if let (Some(start), Some(m), Some(ground)) = (
+            start_altitude,
+            ground_sample,
+            GroundOf::<S>::field_mut(&mut self.ground).map(|g| &mut g.reference),
+        ) {
+            let _ = ground.push(sample.time_s, height_or_zero(m));
+            if let Ok(mean) = ground.mean().or_else(|_| ground.running_mean()) {
+                offset_target = start - mean.meters();
+                offset = offset_target;
+            }
+        }
         self.bits.set(GROUND_FROZEN, ground_frozen);
         self.offset_m = offset;
         self.offset_target_m = offset_target;
