@@ -13,6 +13,11 @@
 //! smallest normal `f32` read as 0). The tests compare them with the host's hardware
 //! arithmetic on about a million pairs of every size and sign.
 //!
+//! Consecutive sample times almost always share their sign and exponent; for those,
+//! [`near_step`] forms the step from one 64-bit subtraction of the bit patterns (about
+//! 30 instructions on the Cortex-M4F, where the general [`difference`] with its rounding
+//! to `f32` costs about 200), with the same result.
+//!
 //! Written here, not taken from a crate: the crates that do floating point in software
 //! (and `compiler_builtins`, which the compiler calls) implement the whole of `f64`
 //! arithmetic, which is what the flash is spent on; this module needs one operation on
