@@ -142,12 +142,7 @@ impl PhaseSettings {
     /// the drone firmware as a 214-byte function, measured with the flash probe).
     #[inline]
     pub const fn validate(&self) -> Result<(), Error> {
-        const fn positive(x: f32) -> bool {
-            x.is_finite() && x > 0.0
-        }
-        const fn time(x: f32) -> bool {
-            x.is_finite() && x >= 0.0
-        }
+        use crate::math::{finite_non_negative as time, finite_positive as positive};
         let ok = positive(self.ascent_mps)
             && positive(self.descent_mps)
             && positive(self.burst_mps)

@@ -23,6 +23,19 @@ compile_error!("isohypse needs a maths backend: enable feature `libm` (default) 
 use micromath::F32Ext as M;
 
 /// Natural logarithm.
+/// A setting that must be finite and above zero (for `validate` methods; `const` so
+/// that settings fixed at compile time fold their checks away).
+#[inline]
+pub(crate) const fn finite_positive(x: f32) -> bool {
+    x.is_finite() && x > 0.0
+}
+
+/// A setting that must be finite and not negative (see [`finite_positive`]).
+#[inline]
+pub(crate) const fn finite_non_negative(x: f32) -> bool {
+    x.is_finite() && x >= 0.0
+}
+
 #[inline]
 pub(crate) fn ln(x: f32) -> f32 {
     #[cfg(all(feature = "micromath", not(feature = "libm")))]

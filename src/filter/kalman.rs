@@ -104,8 +104,7 @@ impl VerticalKalmanConfig {
     ///
     /// Errors: [`Error::InvalidSetting`].
     pub fn validate(&self) -> Result<(), Error> {
-        let pos = |x: f32| x.is_finite() && x > 0.0;
-        let non_neg = |x: f32| x.is_finite() && x >= 0.0;
+        use math::{finite_non_negative as non_neg, finite_positive as pos};
         let ok = pos(self.baro_sigma_m)
             && non_neg(self.accel_noise_density)
             && non_neg(self.bias_random_walk)
