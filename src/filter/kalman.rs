@@ -271,6 +271,11 @@ impl Reuse {
     };
 }
 
+/// A full cycle as it starts: the covariance, the step (s) and whether an
+/// accelerometer sample comes with the barometer sample (see
+/// [`VerticalKalman::cycle_start`]).
+type CycleStart = (Covariance, f32, bool);
+
 /// Whether `x` is within the relative tolerance `tol` of `reference` (> 0).
 fn near(x: f32, reference: f32, tol: f32) -> bool {
     let d = x - reference;
@@ -660,7 +665,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// model. `None` when the cycle is not one reuse could repeat: the latest event was
     /// not an accepted correction, the step is not later, or (without an
     /// accelerometer sample) a held accelerometer sample is still fresh.
-    fn cycle_start(&self, step: Step, with_accel: bool) -> Option<(Covariance, f32, bool)> {
+    fn cycle_start(&self, step: Step, with_accel: bool) -> Option<CycleStart> {
         let Step::Later(dt) = step else {
             return None;
         };
@@ -674,7 +679,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// On an error the state is as before the cycle and nothing is recorded.
     fn end_cycle(
         &mut self,
-        cycle: Option<(Covariance, f32, bool)>,
+        cycle: Option<CycleStart>,
         outcome: &Result<KalmanOutcome, Error>,
         r: f32,
     ) {
@@ -728,7 +733,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         let mode_ok = match accel {
             // NaN fails the comparison
             Some(a) => with_accel && a.abs() <= cfg.max_accel_mps2,
-            None => !with_accel && !(self.accel_age_s + dt <= cfg.accel_timeout_s),
+            None => !with_accel && self.accel_age_s + dt > cfg.accel_timeout_s,
         };
         let accepted_age = self.accepted_age_s + dt;
         if !(self.bits.get(SETTLED)
@@ -753,7 +758,9 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         let y = z - h1;
         let s = reuse.prior_hh + r;
         let nis = y * y / s;
-        if !(nis <= cfg.gate_nis) {
+        // Written so that a NaN (impossible: S >= R > 0) would count as outside.
+        let inside_gate = nis <= cfg.gate_nis;
+        if !inside_gate {
             return None;
         }
         let g = y / s;
@@ -1314,12 +1321,15 @@ mod tests {
         }
     }
 
+    /// Time (s), true height, measured height (m), measured acceleration (m/s^2).
+    type HopSample = (f64, f32, f32, f32);
+
     /// A 90 s synthetic hop at 50 Hz (invented test data): at rest at 100 m for 40 s,
     /// then 1 m/s^2 for 2 s, 2 m/s for 3 s, -1 m/s^2 for 2 s, level 10 m higher. Per
     /// sample: time, true height, measured height (uniform noise of 0.25 m
     /// half-width, 0.14 m sigma) and measured acceleration (0.05 m/s^2 half-width
     /// plus a 0.02 m/s^2 bias).
-    fn hop(seed: u64) -> Vec<(f64, f32, f32, f32)> {
+    fn hop(seed: u64) -> Vec<HopSample> {
         let mut noise = Noise(seed);
         let (mut z, mut v) = (100.0f64, 0.0f64);
         let dt = 0.02;
@@ -1406,7 +1416,7 @@ mod tests {
 
     /// A settled filter after 60 s of the hop with an accelerometer sample taken with
     /// each barometer sample; returns the next sample index.
-    fn settled_with_accel() -> (VerticalKalman, Vec<(f64, f32, f32, f32)>, usize) {
+    fn settled_with_accel() -> (VerticalKalman, Vec<HopSample>, usize) {
         let samples = hop(11);
         let mut kf = VerticalKalman::new(config(0.01)).unwrap();
         for &(t, _, zm, am) in &samples[..3000] {
