@@ -949,6 +949,15 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         }
     }
 
+    /// Whether the Kalman filter has settled and reuses its covariance (see
+    /// [`VerticalKalmanConfig::gain_reuse_tolerance`]); `false` without one.
+    pub fn estimator_settled(&self) -> bool {
+        match &self.estimator {
+            EstimatorState::Pointwise(_) => false,
+            EstimatorState::Kalman(k) => KalmanOf::<S>::get(k).is_settled(),
+        }
+    }
+
     /// Set a new sea-level-referenced start altitude at run time (the datum). The
     /// estimator, phases and totals keep their state; the height moves to the new datum
     /// through [`Settings::fix_time_constant_s`]. Errors: [`Error::InvalidSetting`].
@@ -1198,6 +1207,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 // Height noise of this sample from the sensor's pressure noise.
                 let sigma = pressure_sigma_m(self.store.settings(), pressure, column_t);
                 let sigma = if sigma > 1.0e-3 { sigma } else { 1.0e-3 };
+                let sigma = eight_bit_sigma(sigma);
                 // In place: the filter takes the accelerometer and barometer samples
                 // as one and changes nothing when it refuses the barometer sample, and
                 // nothing after this step can refuse the sample.
@@ -1516,6 +1526,16 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 /// (hypsometric equation differentiated in `p`).
 fn pressure_sigma_m(run: &Settings, p: Pressure, column_t: f32) -> f32 {
     US_1976_GAS_CONSTANT * column_t / STANDARD_GRAVITY * run.pressure_noise_pa / p.pa()
+}
+
+/// `sigma` (finite, > 0) rounded to 8 significant bits (to nearest; within 0.4 %).
+/// The height noise of a sample follows its own pressure, whose noise moves it by
+/// about 3e-5 from one sample to the next; rounded, it repeats exactly while the
+/// height stays within tens of metres, and the Kalman covariance can settle (see
+/// `VerticalKalmanConfig::gain_reuse_tolerance`). A noise figure is not known to
+/// 0.4 % anyway (choice of this crate).
+fn eight_bit_sigma(sigma: f32) -> f32 {
+    f32::from_bits((sigma.to_bits() + 0x8000) & 0xFFFF_0000)
 }
 
 /// First-order 1-sigma of a pointwise height: pressure noise through the scale

@@ -1097,6 +1097,12 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             .then_some((self.core.h, self.core.v, self.core.p.hh))
     }
 
+    /// Whether the covariance has settled and the next barometer sample may reuse it
+    /// (see [`VerticalKalmanConfig::gain_reuse_tolerance`]).
+    pub const fn is_settled(&self) -> bool {
+        self.bits.get(SETTLED)
+    }
+
     /// Barometer samples rejected by the gate since start.
     pub const fn rejected_count(&self) -> u32 {
         self.rejected
