@@ -200,8 +200,18 @@ fn flights(src: &mut String) {
         accels.push((a + 0.05 * noise.gaussian()) as f32);
     }
     let mut drone = drone_pipeline().expect("drone preset");
+    demo::drone_warm_up(&pressures, &accels, |s| {
+        drone.process(s);
+    });
     let drone_out: Vec<HostOutput> = (0..DEMO_COUNT)
         .map(|i| HostOutput::of(&drone.process(&drone_sample(i, pressures[i], accels[i]))))
+        .collect();
+    let mut drone_reuse = demo::drone_reuse_pipeline().expect("drone preset with gain reuse");
+    demo::drone_warm_up(&pressures, &accels, |s| {
+        drone_reuse.process(s);
+    });
+    let drone_reuse_out: Vec<HostOutput> = (0..DEMO_COUNT)
+        .map(|i| HostOutput::of(&drone_reuse.process(&drone_sample(i, pressures[i], accels[i]))))
         .collect();
     bits(
         src,
@@ -220,6 +230,12 @@ fn flights(src: &mut String) {
         "DRONE_HOST",
         "Drone hop: the drone preset's outputs computed on the host.",
         &drone_out,
+    );
+    host(
+        src,
+        "DRONE_REUSE_HOST",
+        "Drone hop: the drone preset's outputs with gain reuse, computed on the host.",
+        &drone_reuse_out,
     );
 
     // Balloon ascent (invented): 10 s at rest at the launch site, then 5 m/s up;

@@ -4,7 +4,7 @@
 Usage:
     qemu-system-arm <machine args> -semihosting-config enable=on,target=native \\
         -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr -kernel FW.elf \\
-        2>&1 >/dev/null | profile.py FW.elf WINDOW CALLS [TOP]
+        2>&1 >/dev/null | profile.py FW.elf WINDOW CALLS [TOP [SKIP]]
 
 With `-singlestep -d exec,nochain` QEMU logs every guest instruction it executes
 ("Trace ...: [flags/PC/...]"). This script maps each PC to the function symbol that holds
@@ -14,7 +14,9 @@ program is inside WINDOW: from an instruction in a function whose name contains 
 until an instruction in any other firmware function (the caller). Everything the window
 calls (library, maths, soft-float, memcpy) is counted under its own function. Counts are
 divided by CALLS (how many times the firmware calls the window function) to give
-instructions per call. Names are printed mangled; pipe through `c++filt` to read them.
+instructions per call. SKIP (default 0) leaves out the first SKIP calls (a warm-up);
+CALLS then counts the calls after them. Names are printed mangled; pipe through
+`c++filt` to read them.
 """
 
 import bisect
@@ -63,6 +65,8 @@ def main(argv):
         return 2
     elf, window, calls = argv[0], argv[1], int(argv[2])
     top = int(argv[3]) if len(argv) > 3 else 40
+    skip = int(argv[4]) if len(argv) > 4 else 0
+    entries = 0
     funcs = functions(elf)
     starts = [f[0] for f in funcs]
     counts = collections.Counter()
@@ -75,10 +79,12 @@ def main(argv):
         i = bisect.bisect_right(starts, pc) - 1
         name = funcs[i][2] if i >= 0 and pc < funcs[i][0] + funcs[i][1] else "?"
         if window in name:
+            if not inside:
+                entries += 1
             inside = True
         elif "isohypse_firmware" in name:
             inside = False
-        if inside:
+        if inside and entries > skip:
             counts[name] += 1
     total = sum(counts.values())
     print(f"instructions inside {window}: {total} in {calls} calls = {total / calls:.1f} per call")

@@ -122,6 +122,9 @@ for backend in $BACKENDS; do
         # shellcheck disable=SC2046
         build_probe "$target" "$name-probe-borrowed" --no-default-features --features probe-borrowed \
             $(features_for "$backend")
+        # shellcheck disable=SC2046
+        build_probe "$target" "$name-probe-reuse" --no-default-features --features probe-reuse \
+            $(features_for "$backend")
 
         say "run $name on QEMU ($(core_name "$target"))"
         for attempt in 1 2; do
@@ -243,6 +246,7 @@ for backend in $BACKENDS; do
         pairs+=("$(core_name "$target") $target $backend, drone pipeline only (Pipeline<2, Fixed<DronePreset>>)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
         pairs+=("$(core_name "$target") $target $backend, flash probe: drone pipeline alone minus an empty loop (src/bin/probe.rs)=$out/$target-$backend-probe.elf:$out/$target-$backend-probe-empty.elf")
         pairs+=("$(core_name "$target") $target $backend, flash probe, settings borrowed at run time (feature probe-borrowed)=$out/$target-$backend-probe-borrowed.elf:$out/$target-$backend-probe-empty.elf")
+        pairs+=("$(core_name "$target") $target $backend, flash probe, Kalman gain reuse on (feature probe-reuse)=$out/$target-$backend-probe-reuse.elf:$out/$target-$backend-probe-empty.elf")
     done
 done
 python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
@@ -250,13 +254,13 @@ python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
 # ---- optional profile: where the pipeline's instructions go ---------------------------
 # PROFILE=1: re-runs the firmware with QEMU's per-instruction trace and prints a flat
 # profile of Pipeline::process (profile.py): the drone preset from the drone-only build
-# (200 calls: the check), the balloon preset from the full build (400 calls: the check
+# (the check's 200 calls after its 2 000-sample warm-up), the balloon preset from the full build (400 calls: the check
 # and the measured row). About a minute per core.
 if [ "${PROFILE:-0}" = 1 ]; then
     for backend in $BACKENDS; do
         for target in $TARGETS; do
-            for spec in "size-drone lib_process_drone 200" "elf lib_process_balloon 400"; do
-                read -r variant window calls <<<"$spec"
+            for spec in "size-drone lib_process_drone 200 2000" "elf lib_process_balloon 400 0"; do
+                read -r variant window calls skip <<<"$spec"
                 elf="$out/$target-$backend.elf"
                 [ "$variant" = elf ] || elf="$out/$target-$backend-$variant.elf"
                 say "profile of $window ($(core_name "$target"), $backend)"
@@ -266,7 +270,7 @@ if [ "${PROFILE:-0}" = 1 ]; then
                     -semihosting-config enable=on,target=native \
                     -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr \
                     -kernel "$elf" 2>&1 >/dev/null |
-                    python3 "$here/profile.py" "$elf" "$window" "$calls" 25 |
+                    python3 "$here/profile.py" "$elf" "$window" "$calls" 25 "$skip" |
                     { if command -v c++filt >/dev/null; then c++filt; else cat; fi; } |
                     sed -E 's/::h[0-9a-f]{16}//'
             done

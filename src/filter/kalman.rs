@@ -19,9 +19,9 @@ const SETTLED: u8 = 32;
 /// sample (clear: the constant-velocity model).
 const REUSE_WITH_ACCEL: u8 = 64;
 
-/// Largest change of any covariance entry over one full cycle, relative to the
-/// geometric mean of the two variances it joins (`|dP_ij| <= 1e-6 sqrt(P_ii P_jj)`),
-/// under which the covariance counts as settled. About 8 `f32` rounding steps; the
+/// Largest relative change from one full cycle to the next of each entry of the
+/// predicted covariance column `P[., h]` (which sets the gain), under which the filter
+/// counts as settled: `|dP_ih| <= 1e-6 |P_ih|`. About 8 `f32` rounding steps. The
 /// Riccati recursion of the default drone settings at 50 Hz gets this far about 30 s
 /// after the first sample and is then within about 1e-4 of its fixed point (both
 /// simulated in double precision; choice of this crate).
@@ -88,8 +88,9 @@ pub struct VerticalKalmanConfig {
     /// With a fixed sample step and noise, the covariance of a Kalman filter converges
     /// to the fixed point of its Riccati recursion, and the gain with it (the
     /// steady-state filter; Simon, *Optimal State Estimation*, 2006, sec. 7.3, from
-    /// memory). Once a full cycle (propagate, then correct) changes no covariance entry
-    /// by more than 1e-6 of its scale, and while later barometer samples come at a
+    /// memory). Once the predicted covariance column that sets the gain, `P[., h]`,
+    /// changes by no more than 1e-6 (relative) from one full cycle (propagate, then
+    /// correct) to the next, and while later barometer samples come at a
     /// step and with a variance within this tolerance of that cycle's, each in the
     /// same mode (an accelerometer sample with every barometer sample, or none), the
     /// filter moves only the mean: `h, v` predicted as usual, then
@@ -102,7 +103,10 @@ pub struct VerticalKalmanConfig {
     /// The gain error is at most about this tolerance (relative), and a Kalman gain
     /// near its optimum costs only second-order error variance: 0.01 keeps the
     /// estimate's error variance within about 1e-4 of the full filter's (common
-    /// practice for steady-state gains).
+    /// practice for steady-state gains). Off in [`Self::DEFAULT`]: the code costs
+    /// about 1.1 KB of flash on the Cortex-M4F (measured, flash probe), and the
+    /// reuse only pays where an accelerometer sample comes with each barometer
+    /// sample or none do. [`Self::with_gain_reuse`] turns it on at 0.01.
     pub gain_reuse_tolerance: f32,
 }
 
@@ -117,8 +121,8 @@ impl VerticalKalmanConfig {
     /// Barometer 0.15 m (about 1.8 Pa near sea level), accelerometer 0.005 m/s^2/sqrt(Hz)
     /// with a 0.001 m/s^2/sqrt(s) bias walk, 16 g limit, gate 10.83, re-acquire after
     /// 10 rejections, dropout beyond 0.5 s, heights -5 km to 86 km (the U.S. 1976
-    /// range), disturbance factor 4, settled covariance reused within 1 % (choices of
-    /// this crate).
+    /// range), disturbance factor 4, no reuse of a settled covariance (choices of this
+    /// crate; see [`Self::gain_reuse_tolerance`] and [`Self::with_gain_reuse`]).
     pub const DEFAULT: Self = Self {
         baro_sigma_m: 0.15,
         accel_noise_density: 0.005,
@@ -135,8 +139,26 @@ impl VerticalKalmanConfig {
         max_accel_mps2: 16.0 * crate::atmosphere::STANDARD_GRAVITY,
         min_height_m: -5_000.0,
         max_height_m: 86_000.0,
-        gain_reuse_tolerance: 0.01,
+        gain_reuse_tolerance: 0.0,
     };
+
+    /// These settings with a settled covariance reused within 1 % (see
+    /// [`Self::gain_reuse_tolerance`]): fewer instructions per barometer sample once
+    /// settled (on the Cortex-M4F the drone preset's sample falls by about a fifth),
+    /// for about 1.1 KB more flash (flash probe).
+    ///
+    /// ```
+    /// use isohypse::filter::VerticalKalmanConfig;
+    /// let c = VerticalKalmanConfig::DEFAULT.with_gain_reuse();
+    /// assert_eq!(c.gain_reuse_tolerance, 0.01);
+    /// assert!(c.validate().is_ok());
+    /// ```
+    pub const fn with_gain_reuse(self) -> Self {
+        Self {
+            gain_reuse_tolerance: 0.01,
+            ..self
+        }
+    }
 
     /// Checks every field against its documented range.
     ///
@@ -271,10 +293,10 @@ impl Reuse {
     };
 }
 
-/// A full cycle as it starts: the covariance, the step (s) and whether an
-/// accelerometer sample comes with the barometer sample (see
+/// A full cycle as it starts: the previous cycle's predicted column (hh, hv, hb), the
+/// step (s) and whether an accelerometer sample comes with the barometer sample (see
 /// [`VerticalKalman::cycle_start`]).
-type CycleStart = (Covariance, f32, bool);
+type CycleStart = ((f32, f32, f32), f32, bool);
 
 /// Whether `x` is within the relative tolerance `tol` of `reference` (> 0).
 fn near(x: f32, reference: f32, tol: f32) -> bool {
@@ -283,21 +305,16 @@ fn near(x: f32, reference: f32, tol: f32) -> bool {
     d <= tol * reference && -d <= tol * reference
 }
 
-/// Whether no entry of the covariance moved from `a` to `b` by more than
-/// [`SETTLE_CHANGE`] times the geometric mean of the variances it joins (squared, so
-/// no square root).
-fn settled(a: &Covariance, b: &Covariance) -> bool {
+/// Whether no entry of the predicted column moved from `a` to `b` by more than
+/// [`SETTLE_CHANGE`] of itself (squared, so no absolute values; an entry of exactly 0
+/// must stay 0).
+fn settled(a: (f32, f32, f32), b: (f32, f32, f32)) -> bool {
     let c2 = SETTLE_CHANGE * SETTLE_CHANGE;
-    let within = |old: f32, new: f32, scale2: f32| {
+    let within = |old: f32, new: f32| {
         let d = new - old;
-        d * d <= c2 * scale2
+        d * d <= c2 * (new * new)
     };
-    within(a.hh, b.hh, b.hh * b.hh)
-        && within(a.hv, b.hv, b.hh * b.vv)
-        && within(a.hb, b.hb, b.hh * b.bb)
-        && within(a.vv, b.vv, b.vv * b.vv)
-        && within(a.vb, b.vb, b.vv * b.bb)
-        && within(a.bb, b.bb, b.bb * b.bb)
+    within(a.0, b.0) && within(a.1, b.1) && within(a.2, b.2)
 }
 
 /// Largest variances kept (m^2, (m/s)^2, (m/s^2)^2). Beyond them the covariance is
@@ -502,9 +519,11 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         if dropout {
             self.bits.set(REACQUIRE_PENDING, true);
         }
-        // a prediction on its own: the latest event is no longer a correction
-        self.reuse.r = 0.0;
-        self.bits.set(SETTLED, false);
+        if self.reuse_on() {
+            // a prediction on its own: the latest event is no longer a correction
+            self.reuse.r = 0.0;
+            self.bits.set(SETTLED, false);
+        }
         self.time_s = t;
         self.accel_mps2 = accel_up_mps2;
         self.accel_age_s = 0.0;
@@ -581,7 +600,9 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// applied while disturbed. Errors: [`Error::InvalidSetting`] for a `sigma_m` that is
     /// not finite and positive.
     fn sample_variance(&self, sigma_m: f32) -> Result<f32, Error> {
-        if !(sigma_m.is_finite() && sigma_m > 0.0) {
+        // two comparisons, which NaN fails (`is_finite` costs about 15 instructions
+        // more on the Cortex-M4F, measured)
+        if !(sigma_m > 0.0 && sigma_m <= f32::MAX) {
             return Err(Error::InvalidSetting);
         }
         let sigma = if self.bits.get(DISTURBED) {
@@ -659,8 +680,14 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         (predicted, outcome)
     }
 
+    /// Whether a settled covariance may be reused (a tolerance above 0). With settings
+    /// fixed at compile time and reuse off, the code that keeps [`Reuse`] is left out.
+    fn reuse_on(&self) -> bool {
+        self.config().gain_reuse_tolerance > 0.0
+    }
+
     /// What [`Self::end_cycle`] needs to know about a full cycle from before it: the
-    /// covariance it starts from, its step and whether it applies an accelerometer
+    /// previous cycle's predicted column, its step and whether it applies an accelerometer
     /// sample taken with the barometer sample (`with_accel`) or the constant-velocity
     /// model. `None` when the cycle is not one reuse could repeat: the latest event was
     /// not an accepted correction, the step is not later, or (without an
@@ -669,13 +696,18 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         let Step::Later(dt) = step else {
             return None;
         };
-        let fresh_held = self.accel_age_s + dt <= self.config().accel_timeout_s;
-        (self.reuse.r > 0.0 && (with_accel || !fresh_held)).then_some((self.core.p, dt, with_accel))
+        let cfg = self.config();
+        let fresh_held = self.accel_age_s + dt <= cfg.accel_timeout_s;
+        let repeatable = self.reuse_on() && self.reuse.r > 0.0;
+        let r = &self.reuse;
+        let prior = (r.prior_hh, r.prior_hv, r.prior_hb);
+        (repeatable && (with_accel || !fresh_held)).then_some((prior, dt, with_accel))
     }
 
     /// After a full cycle that started as `cycle` (see [`Self::cycle_start`]) and ended
     /// in `outcome` with barometer variance `r`: records it for reuse, and marks the
-    /// covariance settled when the cycle moved it by no more than [`SETTLE_CHANGE`].
+    /// filter settled when its predicted column moved by no more than
+    /// [`SETTLE_CHANGE`] from the previous cycle's.
     /// On an error the state is as before the cycle and nothing is recorded.
     fn end_cycle(
         &mut self,
@@ -683,14 +715,18 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         outcome: &Result<KalmanOutcome, Error>,
         r: f32,
     ) {
+        if !self.reuse_on() {
+            return;
+        }
         match outcome {
             Ok(KalmanOutcome::Accepted { .. }) => {
                 let (settle, dt, with_accel) = match cycle {
-                    Some((before, dt, with_accel)) => (
-                        self.config().gain_reuse_tolerance > 0.0 && settled(&before, &self.core.p),
-                        dt,
-                        with_accel,
-                    ),
+                    // (`cycle_start` gives `None` when reuse is off)
+                    Some((before, dt, with_accel)) => {
+                        let r = &self.reuse;
+                        let now = (r.prior_hh, r.prior_hv, r.prior_hb);
+                        (settled(before, now), dt, with_accel)
+                    }
                     None => (false, 0.0, false),
                 };
                 self.reuse.dt = dt;
@@ -728,6 +764,11 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         };
         let cfg = self.config();
         let tol = cfg.gain_reuse_tolerance;
+        // the full cycle's way out: first and cheap (and left out of the code with
+        // reuse off in settings fixed at compile time)
+        if !(self.reuse_on() && self.bits.get(SETTLED)) {
+            return None;
+        }
         let reuse = self.reuse;
         let with_accel = self.bits.get(REUSE_WITH_ACCEL);
         let mode_ok = match accel {
@@ -736,8 +777,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             None => !with_accel && self.accel_age_s + dt > cfg.accel_timeout_s,
         };
         let accepted_age = self.accepted_age_s + dt;
-        if !(self.bits.get(SETTLED)
-            && mode_ok
+        if !(mode_ok
             && near(dt, reuse.dt, tol)
             && near(r, reuse.r, tol)
             && dt <= cfg.max_step_s
@@ -937,11 +977,13 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             _ => {
                 self.consecutive_rejections = 0;
                 self.accepted_age_s = 0.0;
-                (
-                    self.reuse.prior_hh,
-                    self.reuse.prior_hv,
-                    self.reuse.prior_hb,
-                ) = prior;
+                if self.reuse_on() {
+                    (
+                        self.reuse.prior_hh,
+                        self.reuse.prior_hv,
+                        self.reuse.prior_hb,
+                    ) = prior;
+                }
             }
         }
         Ok(outcome)

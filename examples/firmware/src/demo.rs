@@ -4,7 +4,8 @@
 //! Two invented demo flights (demo data only, made up for this firmware):
 //!
 //! - a drone hop: `DEMO_COUNT` samples at 50 Hz (4 s), pressure and vertical
-//!   acceleration, the drone preset (`Pipeline<2, Fixed<DronePreset>>`);
+//!   acceleration, the drone preset (`Pipeline<2, Fixed<DronePreset>>`), after a
+//!   warm-up of 40 s at rest (`drone_warm_up`);
 //! - the first minutes of a balloon ascent: `DEMO_COUNT` samples at 1 Hz, pressure,
 //!   temperature and humidity, the balloon preset with a small stored profile
 //!   (`Pipeline<PROFILE_LEVELS, Fixed<BalloonPreset>>`), launch elevation and latitude
@@ -15,8 +16,11 @@
 //! the same library code.
 
 use isohypse::Error;
+use isohypse::filter::VerticalKalmanConfig;
 use isohypse::flight::Phase;
-use isohypse::pipeline::{Fixed, FixedSettings, Output, Pipeline, Sample, Settings, parts};
+use isohypse::pipeline::{
+    Estimator, Fixed, FixedSettings, Output, Pipeline, Sample, Settings, parts,
+};
 
 /// Samples in each demo flight.
 pub const DEMO_COUNT: usize = 200;
@@ -41,11 +45,36 @@ pub fn balloon_time_s(i: usize) -> f64 {
     i as f64 * BALLOON_PERIOD_S
 }
 
-/// Drone sample: pressure and vertical acceleration.
+/// Samples at rest fed to the drone pipeline before the hop (40 s at 50 Hz): long
+/// enough for its Kalman covariance to settle (about 30 s with the drone preset), so
+/// that the checked and measured hop runs as a drone in flight does, on the settled
+/// covariance.
+pub const DRONE_WARM_UP: usize = 2_000;
+/// The warm-up repeats the hop's first this many samples (the first second, at rest
+/// before the hop starts at 1.2 s).
+pub const DRONE_REST_SAMPLES: usize = 50;
+
+/// Drone hop sample `i` (after the warm-up): pressure and vertical acceleration.
 pub fn drone_sample(i: usize, pressure_pa: f32, accel_up_mps2: f32) -> Sample {
-    let mut s = Sample::pressure(drone_time_s(i), pressure_pa);
+    drone_sample_at(DRONE_WARM_UP + i, pressure_pa, accel_up_mps2)
+}
+
+/// Drone sample number `n` counted from the start of the warm-up.
+fn drone_sample_at(n: usize, pressure_pa: f32, accel_up_mps2: f32) -> Sample {
+    let mut s = Sample::pressure(drone_time_s(n), pressure_pa);
     s.accel_up_mps2 = Some(accel_up_mps2);
     s
+}
+
+/// Feeds the drone warm-up to `process`: `DRONE_WARM_UP` samples at rest, the first
+/// `DRONE_REST_SAMPLES` of the hop's `pressures` and `accels` over and over.
+pub fn drone_warm_up(pressures: &[f32], accels: &[f32], mut process: impl FnMut(&Sample)) {
+    for n in 0..DRONE_WARM_UP {
+        let k = n % DRONE_REST_SAMPLES;
+        let p = pressures.get(k).copied().unwrap_or(f32::NAN);
+        let a = accels.get(k).copied().unwrap_or(f32::NAN);
+        process(&drone_sample_at(n, p, a));
+    }
 }
 
 /// Balloon sample: pressure, temperature and humidity.
@@ -75,6 +104,27 @@ pub type DronePipeline = Pipeline<2, Fixed<DronePreset>>;
 
 /// The drone pipeline.
 pub fn drone_pipeline() -> Result<DronePipeline, Error> {
+    Pipeline::new(Fixed::new())
+}
+
+/// The drone preset with its Kalman filter reusing a settled covariance
+/// (`VerticalKalmanConfig::with_gain_reuse`).
+pub struct DroneReusePreset;
+
+impl FixedSettings for DroneReusePreset {
+    const SETTINGS: Settings = {
+        let mut s = Settings::drone();
+        s.estimator = Estimator::Kalman(VerticalKalmanConfig::DEFAULT.with_gain_reuse());
+        s
+    };
+    type Parts = parts::Drone;
+}
+
+/// The drone pipeline with gain reuse.
+pub type DroneReusePipeline = Pipeline<2, Fixed<DroneReusePreset>>;
+
+/// The drone pipeline with gain reuse.
+pub fn drone_reuse_pipeline() -> Result<DroneReusePipeline, Error> {
     Pipeline::new(Fixed::new())
 }
 

@@ -24,12 +24,12 @@ mod with_library {
     use core::hint::black_box;
 
     use crate::Timing;
-    use crate::demo::{self, DEMO_COUNT, DronePipeline, HostOutput};
+    use crate::demo::{self, DEMO_COUNT, DronePipeline, DroneReusePipeline, HostOutput};
     #[cfg(not(feature = "drone-only"))]
     use crate::demo::{BalloonPipeline, HikePipeline};
     use crate::samples::{
         BALLOON_HOST, BALLOON_HUMIDITY_PCT, BALLOON_PRESSURE_PA, BALLOON_TEMPERATURE_C,
-        DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA,
+        DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA, DRONE_REUSE_HOST,
     };
 
     /// 1-sigma height noise given to the Kalman row's corrections, m: the drone's 1.5 Pa
@@ -41,6 +41,12 @@ mod with_library {
     /// --symbols`) and its calls can be profiled (`profile.py`).
     #[inline(never)]
     fn lib_process_drone(pipeline: &mut DronePipeline, sample: &Sample) -> Output {
+        pipeline.process(sample)
+    }
+
+    /// The drone preset with gain reuse, never inlined (see [`lib_process_drone`]).
+    #[inline(never)]
+    fn lib_process_drone_reuse(pipeline: &mut DroneReusePipeline, sample: &Sample) -> Output {
         pipeline.process(sample)
     }
 
@@ -65,6 +71,20 @@ mod with_library {
 
     fn drone_sample(i: usize) -> Sample {
         demo::drone_sample(i, at(&DRONE_PRESSURE_PA, i), at(&DRONE_ACCEL_MPS2, i))
+    }
+
+    /// The drone warm-up (see [`demo::drone_warm_up`]) through the measured entry.
+    fn warm_up(pipeline: &mut DronePipeline) {
+        demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
+            lib_process_drone(pipeline, s);
+        });
+    }
+
+    /// [`warm_up`] for the drone pipeline with gain reuse.
+    fn warm_up_reuse(pipeline: &mut DroneReusePipeline) {
+        demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
+            lib_process_drone_reuse(pipeline, s);
+        });
     }
 
     fn balloon_sample(i: usize) -> Sample {
@@ -160,11 +180,25 @@ mod with_library {
     /// 1 mm/s; flags and phase identical).
     pub fn check() -> bool {
         let drone_ok = match demo::drone_pipeline() {
-            Ok(mut p) => compare(
-                "drone pipeline (Pipeline<2>, 50 Hz hop)",
-                &DRONE_HOST,
-                |i| lib_process_drone(&mut p, &drone_sample(i)),
-            ),
+            Ok(mut p) => {
+                warm_up(&mut p);
+                compare(
+                    "drone pipeline (Pipeline<2>, 50 Hz hop)",
+                    &DRONE_HOST,
+                    |i| lib_process_drone(&mut p, &drone_sample(i)),
+                )
+            }
+            Err(_) => false,
+        };
+        let drone_reuse_ok = match demo::drone_reuse_pipeline() {
+            Ok(mut p) => {
+                warm_up_reuse(&mut p);
+                compare(
+                    "drone pipeline with gain reuse (settled after the warm-up)",
+                    &DRONE_REUSE_HOST,
+                    |i| lib_process_drone_reuse(&mut p, &drone_sample(i)),
+                )
+            }
             Err(_) => false,
         };
         #[cfg(not(feature = "drone-only"))]
@@ -188,7 +222,7 @@ mod with_library {
             hprintln!("check balloon pipeline: left out (drone-only build)");
             true
         };
-        drone_ok && balloon_ok
+        drone_ok && drone_reuse_ok && balloon_ok
     }
 
     /// Only the drone pipeline is linked: nothing measured.
@@ -211,15 +245,34 @@ mod with_library {
     /// formula.
     #[cfg(not(feature = "drone-only"))]
     pub fn measure(timing: &Timing) {
-        let (Ok(mut drone), Ok(mut balloon), Ok(mut hike), Ok(mut drone_no_accel)) = (
+        let (
+            Ok(mut drone),
+            Ok(mut balloon),
+            Ok(mut hike),
+            Ok(mut drone_no_accel),
+            Ok(mut drone_fresh),
+            Ok(mut drone_reuse),
+        ) = (
             demo::drone_pipeline(),
             demo::balloon_pipeline(),
             demo::hike_pipeline(),
             demo::drone_pipeline(),
-        ) else {
+            demo::drone_pipeline(),
+            demo::drone_reuse_pipeline(),
+        )
+        else {
             hprintln!("error: a preset failed to build");
             return;
         };
+        // the drone rows run after the warm-up, as the check does (the p-only row's
+        // warm-up has no accelerometer samples either); `drone_fresh` starts cold
+        warm_up(&mut drone);
+        warm_up_reuse(&mut drone_reuse);
+        demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
+            let mut s = *s;
+            s.accel_up_mps2 = None;
+            lib_process_drone(&mut drone_no_accel, &s);
+        });
         let config = VerticalKalmanConfig::default(); // the drone preset's
         let (Ok(mut kalman), Ok(mut kalman_baro)) =
             (VerticalKalman::new(config), VerticalKalman::new(config))
@@ -278,6 +331,11 @@ mod with_library {
             step.map_or(f32::NAN, |s| s.geometric.meters())
         };
         let mut drone_step = |i: usize| lib_process_drone(&mut drone, &drone_sample(i)).altitude_m;
+        let mut drone_reuse_step =
+            |i: usize| lib_process_drone_reuse(&mut drone_reuse, &drone_sample(i)).altitude_m;
+        let mut drone_reuse_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
+        let mut drone_fresh_step =
+            |i: usize| lib_process_drone(&mut drone_fresh, &drone_sample(i)).altitude_m;
         let mut drone_no_accel_step = |i: usize| {
             let mut s = drone_sample(i);
             s.accel_up_mps2 = None;
@@ -302,6 +360,7 @@ mod with_library {
         };
         let mut sounding_inputs = |i: usize| black_box(&balloon_sample(i + 1)).pressure_pa;
         let mut drone_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
+        let mut drone_fresh_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
         let mut drone_no_accel_inputs = |i: usize| {
             let mut s = drone_sample(i);
             s.accel_up_mps2 = None;
@@ -313,7 +372,7 @@ mod with_library {
             black_box(&s).pressure_pa
         };
 
-        let rows: [FlightRow; 7] = [
+        let rows: [FlightRow; 9] = [
             (
                 "VerticalKalman::predict + correct_with_sigma (drone config, 50 Hz hop)",
                 &mut kalman_step,
@@ -333,13 +392,25 @@ mod with_library {
                 DEMO_COUNT - 1,
             ),
             (
-                "Pipeline::<2>::process, drone preset (p + accel, 50 Hz hop)",
+                "Pipeline::<2>::process, drone preset (p + accel, 50 Hz hop after 40 s at rest)",
                 &mut drone_step,
                 &mut drone_inputs,
                 DEMO_COUNT,
             ),
             (
-                "Pipeline::<2>::process, drone preset (p only)",
+                "Pipeline::<2>::process, drone preset with gain reuse (p + accel, 50 Hz hop after 40 s at rest: covariance settled)",
+                &mut drone_reuse_step,
+                &mut drone_reuse_inputs,
+                DEMO_COUNT,
+            ),
+            (
+                "Pipeline::<2>::process, drone preset (p + accel, first 4 s from start)",
+                &mut drone_fresh_step,
+                &mut drone_fresh_inputs,
+                DEMO_COUNT,
+            ),
+            (
+                "Pipeline::<2>::process, drone preset (p only, after 40 s at rest)",
                 &mut drone_no_accel_step,
                 &mut drone_no_accel_inputs,
                 DEMO_COUNT,
@@ -387,7 +458,7 @@ mod without_library {
     use crate::Timing;
     use crate::samples::{
         BALLOON_HOST, BALLOON_HUMIDITY_PCT, BALLOON_PRESSURE_PA, BALLOON_TEMPERATURE_C,
-        DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA,
+        DRONE_ACCEL_MPS2, DRONE_HOST, DRONE_PRESSURE_PA, DRONE_REUSE_HOST,
     };
 
     /// Keeps the demo data in flash as in the full build; checks nothing.
@@ -395,6 +466,7 @@ mod without_library {
         black_box(&DRONE_PRESSURE_PA);
         black_box(&DRONE_ACCEL_MPS2);
         black_box(&DRONE_HOST);
+        black_box(&DRONE_REUSE_HOST);
         black_box(&BALLOON_PRESSURE_PA);
         black_box(&BALLOON_TEMPERATURE_C);
         black_box(&BALLOON_HUMIDITY_PCT);

@@ -12,6 +12,8 @@
 //! the way the measuring firmware builds it); with feature `probe-borrowed` they are a
 //! `static` borrowed at run time (`Pipeline<2, &'static Settings>`), for which the
 //! compiler must keep the code of every option, since it cannot see which are used.
+//! With feature `probe-reuse` the fixed settings turn on the Kalman filter's gain
+//! reuse (`VerticalKalmanConfig::with_gain_reuse`), to measure what that code costs.
 //!
 //! The samples are a 50 Hz drone hop at an invented field (pressure falling about 12 Pa
 //! per metre), as in the measuring firmware; they only need to be plausible.
@@ -35,7 +37,17 @@ use isohypse::pipeline::{Pipeline, Settings};
 struct Drone;
 #[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
 impl isohypse::pipeline::FixedSettings for Drone {
+    #[cfg(not(feature = "probe-reuse"))]
     const SETTINGS: Settings = Settings::drone();
+    /// With feature `probe-reuse`: the Kalman filter reuses a settled covariance.
+    #[cfg(feature = "probe-reuse")]
+    const SETTINGS: Settings = {
+        let mut s = Settings::drone();
+        s.estimator = isohypse::pipeline::Estimator::Kalman(
+            isohypse::filter::VerticalKalmanConfig::DEFAULT.with_gain_reuse(),
+        );
+        s
+    };
     type Parts = isohypse::pipeline::parts::Drone;
 }
 #[cfg(not(any(feature = "probe-empty", feature = "probe-borrowed")))]
