@@ -29,7 +29,7 @@
 //! pipeline is then 240 bytes of state and 8 140 bytes of flash on a Cortex-M4F, the
 //! hike pipeline 256 bytes (measured with the firmware; README). Borrowed from a
 //! `static` (`&'static Settings`), they can be chosen at run time, for a reference and
-//! every part in RAM and more flash (10 100 bytes). See [`pipeline::SettingsStore`].
+//! every part in RAM and more flash (10 108 bytes). See [`pipeline::SettingsStore`].
 //!
 //! ```
 //! use isohypse::pipeline::{parts, Fixed, FixedSettings, Pipeline, Sample, Settings};

@@ -298,6 +298,15 @@ impl Reuse {
 /// [`VerticalKalman::cycle_start`]).
 type CycleStart = ((f32, f32, f32), f32, bool);
 
+/// Height and speed `(h, v)` moved over a step `dt` (s; `dt2 = dt * dt`) at the
+/// bias-corrected acceleration `a` (0 in the constant-velocity model):
+/// `h + v dt + a dt^2 / 2`, `v + a dt` (the mean rows of `F`, see [`VerticalKalman`]).
+/// One function for the full cycle and the reuse of a settled covariance, so that both
+/// move the mean the same way.
+fn mean_step(h: f32, v: f32, a: f32, dt: f32, dt2: f32) -> (f32, f32) {
+    (h + v * dt + 0.5 * a * dt2, v + a * dt)
+}
+
 /// Whether `x` is within the relative tolerance `tol` of `reference` (> 0).
 fn near(x: f32, reference: f32, tol: f32) -> bool {
     let d = x - reference;
@@ -721,7 +730,6 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         match outcome {
             Ok(KalmanOutcome::Accepted { .. }) => {
                 let (settle, dt, with_accel) = match cycle {
-                    // (`cycle_start` gives `None` when reuse is off)
                     Some((before, dt, with_accel)) => {
                         let r = &self.reuse;
                         let now = (r.prior_hh, r.prior_hv, r.prior_hb);
@@ -786,15 +794,10 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         {
             return None;
         }
-        // The mean as the full cycle moves it (`propagate`, `update`).
+        // The mean predicted as the full cycle predicts it (`propagate`).
         let Core { h, v, b, p } = self.core;
-        let (h1, v1) = match accel {
-            Some(u) => {
-                let a = u - b;
-                (h + v * dt + 0.5 * a * (dt * dt), v + a * dt)
-            }
-            None => (h + v * dt, v),
-        };
+        let a = accel.map_or(0.0, |u| u - b);
+        let (h1, v1) = mean_step(h, v, a, dt, dt * dt);
         let y = z - h1;
         let s = reuse.prior_hh + r;
         let nis = y * y / s;
@@ -1017,8 +1020,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
                 cfg.baro_only_accel_density * cfg.baro_only_accel_density,
             ),
         };
-        let h1 = h + v * dt + 0.5 * a * dt2;
-        let v1 = v + a * dt;
+        let (h1, v1) = mean_step(h, v, a, dt, dt2);
         // F P, rows 0 and 1 (row 2 is P's row 2).
         let fp00 = p.hh + dt * p.hv + c * p.hb;
         let fp01 = p.hv + dt * p.vv + c * p.vb;

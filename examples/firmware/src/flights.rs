@@ -73,18 +73,32 @@ mod with_library {
         demo::drone_sample(i, at(&DRONE_PRESSURE_PA, i), at(&DRONE_ACCEL_MPS2, i))
     }
 
-    /// The drone warm-up (see [`demo::drone_warm_up`]) through the measured entry.
-    fn warm_up(pipeline: &mut DronePipeline) {
+    /// The drone warm-up (see [`demo::drone_warm_up`]) through `process`, the measured
+    /// entry of the pipeline's type.
+    fn warm_up<P>(pipeline: &mut P, process: fn(&mut P, &Sample) -> Output) {
         demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
-            lib_process_drone(pipeline, s);
+            process(pipeline, s);
         });
     }
 
-    /// [`warm_up`] for the drone pipeline with gain reuse.
-    fn warm_up_reuse(pipeline: &mut DroneReusePipeline) {
-        demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
-            lib_process_drone_reuse(pipeline, s);
-        });
+    /// The inputs of a drone row alone (see [`Timing::per_call`]).
+    fn drone_inputs(i: usize) -> f32 {
+        black_box(&drone_sample(i)).pressure_pa
+    }
+
+    /// Checks a drone pipeline (`built`, run through `process`) on the hop after the
+    /// warm-up against the host's outputs `host`.
+    fn check_drone<P>(
+        name: &str,
+        host: &[HostOutput; DEMO_COUNT],
+        built: Result<P, isohypse::Error>,
+        process: fn(&mut P, &Sample) -> Output,
+    ) -> bool {
+        let Ok(mut p) = built else {
+            return false;
+        };
+        warm_up(&mut p, process);
+        compare(name, host, |i| process(&mut p, &drone_sample(i)))
     }
 
     fn balloon_sample(i: usize) -> Sample {
@@ -179,28 +193,18 @@ mod with_library {
     /// Checks both presets on their demo flights against the host's outputs (1 mm or
     /// 1 mm/s; flags and phase identical).
     pub fn check() -> bool {
-        let drone_ok = match demo::drone_pipeline() {
-            Ok(mut p) => {
-                warm_up(&mut p);
-                compare(
-                    "drone pipeline (Pipeline<2>, 50 Hz hop)",
-                    &DRONE_HOST,
-                    |i| lib_process_drone(&mut p, &drone_sample(i)),
-                )
-            }
-            Err(_) => false,
-        };
-        let drone_reuse_ok = match demo::drone_reuse_pipeline() {
-            Ok(mut p) => {
-                warm_up_reuse(&mut p);
-                compare(
-                    "drone pipeline with gain reuse (settled after the warm-up)",
-                    &DRONE_REUSE_HOST,
-                    |i| lib_process_drone_reuse(&mut p, &drone_sample(i)),
-                )
-            }
-            Err(_) => false,
-        };
+        let drone_ok = check_drone(
+            "drone pipeline (Pipeline<2>, 50 Hz hop)",
+            &DRONE_HOST,
+            demo::drone_pipeline(),
+            lib_process_drone,
+        );
+        let drone_reuse_ok = check_drone(
+            "drone pipeline with gain reuse (settled after the warm-up)",
+            &DRONE_REUSE_HOST,
+            demo::drone_reuse_pipeline(),
+            lib_process_drone_reuse,
+        );
         #[cfg(not(feature = "drone-only"))]
         let balloon_ok = match demo::balloon_pipeline() {
             Ok(mut p) => compare(
@@ -266,8 +270,8 @@ mod with_library {
         };
         // the drone rows run after the warm-up, as the check does (the p-only row's
         // warm-up has no accelerometer samples either); `drone_fresh` starts cold
-        warm_up(&mut drone);
-        warm_up_reuse(&mut drone_reuse);
+        warm_up(&mut drone, lib_process_drone);
+        warm_up(&mut drone_reuse, lib_process_drone_reuse);
         demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
             let mut s = *s;
             s.accel_up_mps2 = None;
@@ -333,7 +337,7 @@ mod with_library {
         let mut drone_step = |i: usize| lib_process_drone(&mut drone, &drone_sample(i)).altitude_m;
         let mut drone_reuse_step =
             |i: usize| lib_process_drone_reuse(&mut drone_reuse, &drone_sample(i)).altitude_m;
-        let mut drone_reuse_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
+        let mut drone_reuse_inputs = drone_inputs;
         let mut drone_fresh_step =
             |i: usize| lib_process_drone(&mut drone_fresh, &drone_sample(i)).altitude_m;
         let mut drone_no_accel_step = |i: usize| {
@@ -359,8 +363,8 @@ mod with_library {
             raw(i)
         };
         let mut sounding_inputs = |i: usize| black_box(&balloon_sample(i + 1)).pressure_pa;
-        let mut drone_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
-        let mut drone_fresh_inputs = |i: usize| black_box(&drone_sample(i)).pressure_pa;
+        let mut drone_hop_inputs = drone_inputs;
+        let mut drone_fresh_inputs = drone_inputs;
         let mut drone_no_accel_inputs = |i: usize| {
             let mut s = drone_sample(i);
             s.accel_up_mps2 = None;
@@ -394,7 +398,7 @@ mod with_library {
             (
                 "Pipeline::<2>::process, drone preset (p + accel, 50 Hz hop after 40 s at rest)",
                 &mut drone_step,
-                &mut drone_inputs,
+                &mut drone_hop_inputs,
                 DEMO_COUNT,
             ),
             (
