@@ -9,7 +9,7 @@ Usage:
 With `-singlestep -d exec,nochain` QEMU logs every guest instruction it executes
 ("Trace ...: [flags/PC/...]"). This script maps each PC to the function symbol that holds
 it (from the ELF symbol table, no binutils needed) and counts instructions while the
-program is inside WINDOW: from an instruction in a function whose name contains WINDOW
+program is inside WINDOW: from an instruction in a function whose name is WINDOW
 (e.g. `lib_process_drone`, the firmware's never-inlined wrapper around `Pipeline::process`)
 until an instruction in any other firmware function (the caller). Everything the window
 calls (library, maths, soft-float, memcpy) is counted under its own function. Counts are
@@ -71,6 +71,9 @@ def main(argv):
     starts = [f[0] for f in funcs]
     counts = collections.Counter()
     inside = False
+    # Match the mangled path component (length prefix + name), so that the window
+    # `lib_process_drone` does not also take in `lib_process_drone_reuse`.
+    component = f"{len(window)}{window}"
     for line in sys.stdin:
         m = TRACE.search(line)
         if not m:
@@ -78,7 +81,7 @@ def main(argv):
         pc = int(m.group(1), 16)
         i = bisect.bisect_right(starts, pc) - 1
         name = funcs[i][2] if i >= 0 and pc < funcs[i][0] + funcs[i][1] else "?"
-        if window in name:
+        if component in name:
             if not inside:
                 entries += 1
             inside = True
