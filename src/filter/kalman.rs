@@ -499,12 +499,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         step: Step,
         accel_up_mps2: f32,
     ) -> Result<(), Error> {
-        if !accel_up_mps2.is_finite() {
-            return Err(Error::NotFinite);
-        }
-        if accel_up_mps2.abs() > self.config().max_accel_mps2 {
-            return Err(Error::SampleOutOfRange);
-        }
+        self.accel_ok(accel_up_mps2)?;
         let dt = match step {
             _ if !self.has_time() => 0.0,
             Step::Later(dt) => dt,
@@ -542,6 +537,17 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             self.bits.set(BARO_AT_CORE, false);
         }
         Ok(())
+    }
+
+    /// Refusals of an accelerometer sample's value (its time is checked with the step).
+    fn accel_ok(&self, accel_up_mps2: f32) -> Result<(), Error> {
+        if !accel_up_mps2.is_finite() {
+            Err(Error::NotFinite)
+        } else if accel_up_mps2.abs() > self.config().max_accel_mps2 {
+            Err(Error::SampleOutOfRange)
+        } else {
+            Ok(())
+        }
     }
 
     /// Correction with a barometric height `height` (m, any fixed reference, e.g.
@@ -669,20 +675,35 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             return (Ok(()), Ok(outcome));
         }
         let cycle = self.cycle_start(step, accel_up_mps2.is_some());
+        // An initialised filter at a later time takes an accelerometer sample that
+        // `predict` would take in the same pass as the barometer sample: the same
+        // arithmetic as `predict_step` then `apply_correct`, without committing the
+        // prediction in between, so that a refused barometer sample leaves the
+        // accelerometer sample unapplied too. Otherwise (a refused accelerometer
+        // sample, the first samples, equal times) the two steps.
         let mut step = step;
-        let predicted = match accel_up_mps2 {
+        let (predicted, at_t) = match accel_up_mps2 {
+            Some(a) if matches!(step, Step::Later(_)) && self.bits.get(INITIALIZED) => {
+                (self.accel_ok(a), Some(a))
+            }
+            // An initialised filter refuses an accelerometer sample at its own time:
+            // that time's accelerometer sample is at the core (a barometer sample at
+            // that time is refused by `check_correct` above).
+            Some(a) if self.bits.get(INITIALIZED) => {
+                (self.accel_ok(a).and(Err(Error::NotIncreasing)), None)
+            }
             Some(a) => {
                 let r = self.predict_step(t, step, a);
                 if r.is_ok() {
                     step = Step::Same;
                 }
-                r
+                (r, None)
             }
-            None => Ok(()),
+            None => (Ok(()), None),
         };
         // Checked above (after a prediction to `t` the step is `Same` with no barometer
         // sample at `t`, which the check allows too).
-        let outcome = self.apply_correct(t, step, z, r);
+        let outcome = self.apply_correct(t, step, z, r, at_t.filter(|_| predicted.is_ok()));
         // a refused accelerometer sample leaves a cycle that reuse does not repeat
         let cycle = cycle.filter(|_| predicted.is_ok());
         self.end_cycle(cycle, &outcome, r);
@@ -691,6 +712,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
 
     /// Whether a settled covariance may be reused (a tolerance above 0). With settings
     /// fixed at compile time and reuse off, the code that keeps [`Reuse`] is left out.
+    #[inline(always)]
     fn reuse_on(&self) -> bool {
         self.config().gain_reuse_tolerance > 0.0
     }
@@ -701,6 +723,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// model. `None` when the cycle is not one reuse could repeat: the latest event was
     /// not an accepted correction, the step is not later, or (without an
     /// accelerometer sample) a held accelerometer sample is still fresh.
+    #[inline(always)]
     fn cycle_start(&self, step: Step, with_accel: bool) -> Option<CycleStart> {
         let Step::Later(dt) = step else {
             return None;
@@ -718,6 +741,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// filter settled when its predicted column moved by no more than
     /// [`SETTLE_CHANGE`] from the previous cycle's.
     /// On an error the state is as before the cycle and nothing is recorded.
+    #[inline(always)]
     fn end_cycle(
         &mut self,
         cycle: Option<CycleStart>,
@@ -759,6 +783,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// the full cycle would refuse, a pending re-acquisition, a dropout or barometer
     /// timeout, a sample outside the gate, or a result that is not finite.
     /// [`Self::check_correct`] has passed.
+    #[inline(always)]
     fn reuse_settled(
         &mut self,
         t: f64,
@@ -862,19 +887,23 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             return Ok(outcome);
         }
         let cycle = self.cycle_start(step, false);
-        let outcome = self.apply_correct(t, step, z, r);
+        let outcome = self.apply_correct(t, step, z, r, None);
         self.end_cycle(cycle, &outcome, r);
         outcome
     }
 
     /// A barometer height `z` with variance `r` at `step` from the filter's time, after
-    /// [`Self::check_correct`] passed. Error, state unchanged: [`Error::NotFinite`].
+    /// [`Self::check_correct`] passed. `accel_at_t`: an accelerometer sample taken at
+    /// `t` that [`Self::accel_ok`] passed, applied as [`Self::predict_step`] would apply
+    /// it first (only for an initialised filter and a later `t`; `None` otherwise).
+    /// Error, state unchanged: [`Error::NotFinite`].
     fn apply_correct(
         &mut self,
         t: f64,
         step: Step,
         z: f32,
         r: f32,
+        accel_at_t: Option<f32>,
     ) -> Result<KalmanOutcome, Error> {
         if !self.bits.get(INITIALIZED) {
             // ordered by `check_correct`; the accelerometer sample's age moves on
@@ -911,11 +940,20 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             // `Same`: after an accelerometer sample at this time (checked above)
             Step::Same | Step::Earlier => 0.0,
         };
-        let accel_age = self.accel_age_s + dt;
-        let accel = (accel_age <= self.config().accel_timeout_s).then_some(self.accel_mps2);
+        let (accel_age, accel) = match accel_at_t {
+            Some(a) => (0.0, Some(a)),
+            None => {
+                let age = self.accel_age_s + dt;
+                (
+                    age,
+                    (age <= self.config().accel_timeout_s).then_some(self.accel_mps2),
+                )
+            }
+        };
         // A step of 0 (an accelerometer sample at this time was just applied) leaves
-        // mean and covariance as they are.
-        let (mut core, dropout) = if dt > 0.0 {
+        // mean and covariance as they are; an accelerometer sample at `t` is applied
+        // over any later step, as `predict_step` applies it.
+        let (mut core, dropout) = if dt > 0.0 || accel_at_t.is_some() {
             self.propagate(dt, accel)
         } else {
             (self.core, false)
@@ -961,8 +999,13 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         self.core = core;
         self.time_s = t;
         self.bits.set(BARO_AT_CORE, true);
-        if matches!(step, Step::Later(_)) {
-            self.bits.set(ACCEL_AT_CORE, false);
+        match accel_at_t {
+            Some(a) => {
+                self.accel_mps2 = a;
+                self.bits.set(ACCEL_AT_CORE, true);
+            }
+            None if matches!(step, Step::Later(_)) => self.bits.set(ACCEL_AT_CORE, false),
+            None => {}
         }
         self.accel_age_s = accel_age;
         self.rejected = rejected;
@@ -1573,5 +1616,79 @@ mod tests {
             ..VerticalKalmanConfig::default()
         };
         assert_eq!(VerticalKalman::new(bad), Err(Error::InvalidSetting));
+    }
+
+    /// Bit patterns of everything a filter holds (the struct's `PartialEq` would take
+    /// `0.0 == -0.0`).
+    fn bits_of(kf: &VerticalKalman) -> Vec<u64> {
+        let c = kf.core;
+        let p = c.p;
+        let mut v: Vec<u64> = [c.h, c.v, c.b, p.hh, p.hv, p.hb, p.vv, p.vb, p.bb]
+            .iter()
+            .chain(&[kf.accel_mps2, kf.accel_age_s, kf.accepted_age_s])
+            .map(|x| u64::from(x.to_bits()))
+            .collect();
+        v.extend([
+            kf.time_s.to_bits(),
+            (0..7).map(|i| u64::from(kf.bits.get(1 << i)) << i).sum(),
+            u64::from(kf.consecutive_rejections),
+            u64::from(kf.rejected),
+            u64::from(kf.reacquisitions),
+        ]);
+        v
+    }
+
+    #[test]
+    fn one_pass_cycle_is_bit_identical_to_predict_then_correct() {
+        // The pipeline's entry point applies an accelerometer sample and a barometer
+        // sample taken together in one pass; the public `predict` then
+        // `correct_with_sigma` apply them in two. Both must leave the same bits, on a
+        // hop with outliers (every 97th sample 5 m off), a dropout (1 s gap), a burst
+        // of outliers long enough to re-acquire, refused accelerometer samples (NaN,
+        // 30 g, a second one at the same time) and samples without one.
+        let mut one = VerticalKalman::new(config(0.0)).unwrap();
+        let mut two = one;
+        let (mut outliers, mut reacquired, mut same_time) = (0, 0, 0);
+        for (k, (t, _, zm, am)) in hop(11).into_iter().enumerate() {
+            if (1500..1550).contains(&k) {
+                continue; // dropout
+            }
+            let z = if k % 97 == 0 || (3000..3015).contains(&k) {
+                zm + 5.0
+            } else {
+                zm
+            };
+            let a = match k % 50 {
+                13 => Some(f32::NAN),
+                29 => Some(30.0 * crate::atmosphere::STANDARD_GRAVITY),
+                41 => None,
+                _ => Some(am),
+            };
+            if k % 50 == 7 {
+                // an accelerometer sample at this time already applied on its own
+                assert_eq!(one.predict(t, am), two.predict(t, am));
+            }
+            let (p1, c1) = one.predict_correct(t, one.step_to(t), a, h(z), 0.14);
+            let p2 = match a {
+                Some(a) => two.predict(t, a),
+                None => Ok(()),
+            };
+            let c2 = two.correct_with_sigma(t, h(z), 0.14);
+            assert_eq!((p1, c1), (p2, c2), "sample {k}");
+            assert_eq!(bits_of(&one), bits_of(&two), "sample {k}");
+            if p1 == Err(Error::NotIncreasing) {
+                same_time += 1;
+            }
+            match c1 {
+                Ok(KalmanOutcome::Rejected { .. }) => outliers += 1,
+                Ok(KalmanOutcome::Reacquired) => reacquired += 1,
+                _ => {}
+            }
+        }
+        // the cases above were reached
+        assert!(
+            outliers > 30 && reacquired >= 2 && same_time > 50,
+            "{outliers} {reacquired} {same_time}"
+        );
     }
 }
