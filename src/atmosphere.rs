@@ -378,10 +378,22 @@ impl StandardAtmosphere {
         &self,
         p: Pressure,
     ) -> Result<(Height, Temperature), Error> {
+        let (h, t) = self.pressure_altitude_with_kelvin(p)?;
+        Ok((h, Temperature::from_kelvin(t)?))
+    }
+
+    /// [`Self::pressure_altitude_with_temperature`] with the temperature in kelvin,
+    /// unchecked (a model with user-given layers may leave the range of
+    /// [`Temperature`]).
+    #[inline]
+    pub(crate) fn pressure_altitude_with_kelvin(
+        &self,
+        p: Pressure,
+    ) -> Result<(Height, f32), Error> {
         let (h, layer) = self.geopotential_in_layer(p)?;
         let t =
             layer.base_temperature_k + layer.lapse_rate_k_per_m * (h - layer.base_geopotential_m);
-        Ok((self.geometric_of(h), Temperature::from_kelvin(t)?))
+        Ok((self.geometric_of(h), t))
     }
 
     /// Geometric height of geopotential `h` (m') from this model's inverse: U.S. 1976
@@ -420,6 +432,30 @@ pub fn pressure_altitude(p: Pressure) -> Result<Height, Error> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The pipeline takes U.S. 1976 layer temperatures unchecked (`from_valid_kelvin`):
+    /// over the model's whole pressure range (geometric sweep, 2 000 points, both ends
+    /// included) every one passes `Temperature::from_kelvin`, between 186.8 K (the
+    /// 84.852 km' top of the table, U.S. Standard Atmosphere 1976, Table 4: 186.946 K,
+    /// value from memory) and 320.7 K (-5 km' at -6.5 K/km from 288.15 K).
+    #[test]
+    fn standard_layer_temperatures_stay_in_the_air_range() {
+        let (top, bottom) = (US_1976.top_pressure_pa(), US_1976.bottom_pressure_pa());
+        let (mut lo, mut hi) = (f32::MAX, f32::MIN);
+        for i in 0..=2000 {
+            let f = i as f32 / 2000.0;
+            let pa = (top * (bottom / top).powf(f)).clamp(top, bottom);
+            let p = Pressure::from_pa(pa).unwrap();
+            let (_, t) = US_1976.pressure_altitude_with_kelvin(p).unwrap();
+            assert!(Temperature::from_kelvin(t).is_ok(), "{pa} Pa: {t} K");
+            lo = lo.min(t);
+            hi = hi.max(t);
+        }
+        assert!(
+            (186.8..187.0).contains(&lo) && (320.6..320.7).contains(&hi),
+            "{lo} {hi}"
+        );
+    }
 
     /// The argument `-(R L / g0) ln(p / pb)` of the layer inverse stays within the
     /// series range of `math::small_exp_m1` (|y| <= 0.35) over every layer of both

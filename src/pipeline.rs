@@ -1388,7 +1388,12 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         flags: &mut Flags,
         change: &mut ModelChange<N>,
     ) -> Result<(f32, f32), Error> {
-        let (std_height, t_std) = US_1976.pressure_altitude_with_temperature(p)?;
+        let (std_height, t_std) = US_1976.pressure_altitude_with_kelvin(p)?;
+        // U.S. 1976 layer temperatures run from 186.946 K (84.852 km') to 320.65 K
+        // (-5 km'), inside `Temperature::AIR_RANGE_K` (U.S. Standard Atmosphere 1976,
+        // Table 4, and the -6.5 K/km lapse rate below sea level; checked over the whole
+        // range by `atmosphere::tests::standard_layer_temperatures_stay_in_the_air_range`)
+        let t_std = Temperature::from_valid_kelvin(t_std);
         match self.store.settings().model {
             HeightModel::Standard => {
                 let t_std = t_std.kelvin();

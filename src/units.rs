@@ -88,6 +88,12 @@ impl Temperature {
     /// record is below 330 K. 100..=400 K leaves room for sensors and warm electronics
     /// and rejects garbage readings (choice of this crate).
     pub const AIR_RANGE_K: (f32, f32) = (100.0, 400.0);
+    /// Inside the crate only, for temperatures within [`Self::AIR_RANGE_K`] by
+    /// construction (the caller states why at the call site); skips the checks on hot
+    /// paths.
+    pub(crate) const fn from_valid_kelvin(k: f32) -> Self {
+        Self(k)
+    }
 
     /// From kelvin. Errors: [`Error::NotFinite`], [`Error::TemperatureNotPositive`]
     /// (at or below 0 K), [`Error::TemperatureOutOfRange`] (outside
