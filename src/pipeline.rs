@@ -872,16 +872,6 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         self.last_flags = flags.0 as u16;
     }
 
-    /// Seconds covered by samples the spike gate held back since the last sample taken
-    /// (the phase and hike trackers see only the samples that are taken): the gate's
-    /// age, which sums the same steps from the same start; 0 without the gate.
-    fn held_back_s(&self) -> f32 {
-        match &self.estimator {
-            EstimatorState::Pointwise(gate) if gate.age_s.is_finite() => gate.age_s,
-            _ => 0.0,
-        }
-    }
-
     /// Time of the last sample taken, s.
     fn last_time(&self) -> Option<f64> {
         // A flag, not a test of the time against a sentinel: the compiler turns a bit
@@ -1170,8 +1160,18 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         // the spike gate's new state, committed with the rest
         let mut new_spikes = None;
         let known_step = self.last_time().zip(step);
-        let (height_m, speed_mps, sigma_m) = match &mut self.estimator {
+        // `held_back_s`: seconds covered by samples the spike gate held back since the
+        // last sample taken (the phase and hike trackers see only the samples that
+        // are taken): the gate's age, which sums the same steps from the same start;
+        // 0 without the gate. Read in the arm that knows the estimator, before any
+        // change (the gate's new state is committed at step 6).
+        let (height_m, speed_mps, sigma_m, held_back_s) = match &mut self.estimator {
             EstimatorState::Pointwise(gate_state) => {
+                let held_back_s = if gate_state.age_s.is_finite() {
+                    gate_state.age_s
+                } else {
+                    0.0
+                };
                 if let Some(gate) = self.store.settings().spike_gate_m {
                     let mut spikes = *gate_state;
                     let gap = dt.unwrap_or(0.0);
@@ -1200,7 +1200,12 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     }
                     _ => self.last.vertical_speed_mps,
                 };
-                (raw_m, speed, self.model_sigma(pressure, column_t, raw_m))
+                (
+                    raw_m,
+                    speed,
+                    self.model_sigma(pressure, column_t, raw_m),
+                    held_back_s,
+                )
             }
             EstimatorState::Kalman(k) => {
                 let k = KalmanOf::<S>::get_mut(k);
@@ -1224,8 +1229,8 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
                 }
                 match k.height_speed_variance() {
-                    Some((h, v, var_h)) => (h, v, crate::math::sigma_from_variance(var_h)),
-                    None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m)),
+                    Some((h, v, var_h)) => (h, v, crate::math::sigma_from_variance(var_h), 0.0),
+                    None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m), 0.0),
                 }
             }
         };
@@ -1244,7 +1249,6 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         //    nothing after it can fail.
         #[cfg(feature = "pipeline-hike")]
         let first_sample = self.last_time().is_none();
-        let held_back_s = self.held_back_s();
         let (out_height, speed_mps, ascent, descent, tendency) = match &mut self.track {
             TrackState::Flight(totals, _) => {
                 totals.update(Height::from_meters(height_m).unwrap_or(raw));
