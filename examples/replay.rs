@@ -7,18 +7,22 @@
 //!     --latitude-deg 64.2 --start-altitude-m 310 --out flight.out.csv --plot flight.svg
 //! ```
 //!
-//! Input: CSV with a header row, columns by name in any order, `#` lines are comments:
+//! Input: CSV with a header row, columns by name in any order (a name given twice is
+//! refused), `#` lines are comments (also indented ones), blank lines are skipped:
 //! `time_s` (required, strictly increasing), `pressure_pa` (required column; an empty
 //! cell is allowed only in a row that carries `accel_up_mps2`: an accelerometer-only
 //! row between barometer samples, used by the estimator and given no output row),
-//! `temperature_c`, `humidity_pct`, `accel_up_mps2`, `known_altitude_m`.
+//! `temperature_c`, `humidity_pct`, `accel_up_mps2`, `known_altitude_m`. One line is one
+//! row (`\n`, `\r\n` or `\r` ends it; a quoted field cannot span lines), and line
+//! numbers in messages count every line of the file, comments and blank ones included.
 //!
 //! Output: `time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
 //! ascent_m,descent_m,flags`, one row per accepted barometer row.
 //!
-//! Exit codes: 0 success (rows may have been skipped: see the summary); 1 bad command
-//! line or a file that cannot be read or written; 2 a bad row with `--strict`; 3 no
-//! usable row at all (empty file, missing required column).
+//! Exit codes: 0 success (rows may have been skipped: see the summary, which lists every
+//! bad row); 1 bad command line or a file that cannot be read or written; 2 a bad row
+//! with `--strict`; 3 no usable row at all (empty file, missing or repeated required
+//! column).
 
 use std::collections::BTreeMap;
 use std::fs;
@@ -76,7 +80,7 @@ pub(crate) struct Cli {
     pub(crate) filter: FilterArg,
     /// Height of the first row, or of the ground reference averaged over the rows at
     /// rest before motion starts; sets the datum. Without it: the standard pressure
-    /// altitude (drone preset: 0, height above the take-off point).
+    /// altitude (drone preset with the filter on: 0, height above the take-off point).
     #[arg(long, value_name = "H", allow_hyphen_values = true)]
     pub(crate) start_altitude_m: Option<f32>,
     /// Latitude for gravity (sounding model, geometric heights). Without it: standard
@@ -94,13 +98,14 @@ pub(crate) struct Cli {
 const AFTER_HELP: &str = "\
 Input columns: time_s (required), pressure_pa (required; empty only in an
 accelerometer-only row), temperature_c, humidity_pct, accel_up_mps2, known_altitude_m.
-Lines starting with # are comments.
+Lines starting with # (after any blanks) are comments; blank lines are skipped.
 Output columns: time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
 ascent_m,descent_m,flags.
 A bad row (wrong field count, unparsable or non-physical value, time not after the
 previous row) is reported with its line number and skipped, or stops the run with
---strict (exit 2). Exit codes: 0 ok, 1 usage or I/O error, 2 bad row with --strict,
-3 no usable row.
+--strict (exit 2); line numbers count every line of the file. The first 20 messages
+are printed, the summary file lists them all. Exit codes: 0 ok, 1 usage or I/O error,
+2 bad row with --strict, 3 no usable row (or a missing or repeated column name).
 Not certified for aviation, navigation or life-safety use (see SAFETY.md).";
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
@@ -191,6 +196,12 @@ const COLUMNS: [&str; 6] = [
 ];
 
 pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
+    // The preset is valid; each option is checked as it is applied, so that a value out
+    // of range is reported with the option that gave it.
+    let check = |s: &Settings, option: String| {
+        s.validate()
+            .map_err(|e| Failure::Usage(format!("{option}: {e}")))
+    };
     let mut s = match cli.preset {
         PresetArg::Balloon => Settings::balloon(),
         PresetArg::Drone => Settings::drone(),
@@ -209,7 +220,11 @@ pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
         Some(ModelArg::Offset) => {
             s.model = HeightModel::Column(isohypse::model::TemperatureModel::StandardOffset {
                 delta_k: cli.temperature_offset_k,
-            })
+            });
+            check(
+                &s,
+                format!("--temperature-offset-k {}", cli.temperature_offset_k),
+            )?;
         }
         None => {}
     }
@@ -218,6 +233,10 @@ pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
         // no smoothing or weather hold either (plain totals)
         s.estimator = Estimator::Off;
         s.spike_gate_m = None;
+        // and no datum but the one given: without `--start-altitude-m` each row's
+        // height is its pressure altitude, whatever the preset (the drone preset's
+        // height above the take-off point needs `--start-altitude-m 0`)
+        s.start_altitude_m = None;
         if let isohypse::pipeline::Tracking::Hike { phases, .. } = s.tracking {
             s.tracking = isohypse::pipeline::Tracking::Flight {
                 phases,
@@ -225,10 +244,15 @@ pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
             };
         }
     }
-    if cli.start_altitude_m.is_some() {
-        s.start_altitude_m = cli.start_altitude_m;
+    check(&s, "the chosen --preset, --model and --filter".into())?;
+    if let Some(h) = cli.start_altitude_m {
+        s.start_altitude_m = Some(h);
+        check(&s, format!("--start-altitude-m {h}"))?;
     }
     s.latitude_deg = cli.latitude_deg;
+    if let Some(d) = cli.latitude_deg {
+        check(&s, format!("--latitude-deg {d}"))?;
+    }
     // The replay accepts every physical pressure; the presets' narrower ranges are
     // for firmware plausibility checks.
     s.pressure_range_pa = (
@@ -285,20 +309,111 @@ pub(crate) fn physical(row: &Row) -> Option<String> {
     None
 }
 
+// Lines and fields are split here rather than by a CSV crate: the contract is one row
+// per line with messages that name the line, and a general CSV reader counts lines its
+// own way around comments and CRLF endings, and lets an unclosed quote run on over the
+// rows after it (both seen with the `csv` crate this tool used before).
+
+/// The lines of the file with their numbers (from 1): a line ends at `\n`, `\r\n` or a
+/// lone `\r`; a UTF-8 byte order mark at the start is dropped. Every line is counted,
+/// comments and blank ones included, so that messages point at the right line.
+pub(crate) fn numbered_lines(text: &str) -> impl Iterator<Item = (u64, &str)> {
+    let mut rest = Some(text.strip_prefix('\u{feff}').unwrap_or(text));
+    let mut number = 0u64;
+    std::iter::from_fn(move || {
+        let t = rest?;
+        number += 1;
+        match t.find(['\n', '\r']) {
+            Some(i) => {
+                let next = if t[i..].starts_with("\r\n") {
+                    i + 2
+                } else {
+                    i + 1
+                };
+                rest = t.get(next..);
+                Some((number, t.get(..i).unwrap_or("")))
+            }
+            None => {
+                rest = None;
+                Some((number, t))
+            }
+        }
+    })
+}
+
+/// A line that holds no row: blank, or a comment (`#` after any blanks).
+pub(crate) fn is_comment_or_blank(line: &str) -> bool {
+    let t = line.trim();
+    t.is_empty() || t.starts_with('#')
+}
+
+/// Split one line into its fields, trimmed. Quoting as in RFC 4180 (`"a, b"`, `""` for a
+/// quote inside), but within the line: a quoted field that is not closed on its line is
+/// an error, so that it cannot swallow the rows after it.
+pub(crate) fn split_fields(line: &str) -> Result<Vec<String>, String> {
+    let mut fields = Vec::new();
+    let mut chars = line.chars().peekable();
+    loop {
+        let mut field = String::new();
+        while chars.peek().is_some_and(|c| *c == ' ' || *c == '\t') {
+            chars.next();
+        }
+        if chars.peek() == Some(&'"') {
+            chars.next();
+            let mut closed = false;
+            while let Some(c) = chars.next() {
+                if c != '"' {
+                    field.push(c);
+                } else if chars.peek() == Some(&'"') {
+                    chars.next();
+                    field.push('"');
+                } else {
+                    closed = true;
+                    break;
+                }
+            }
+            if !closed {
+                return Err(format!(
+                    "field {} opens a quote that is not closed on this line",
+                    fields.len() + 1
+                ));
+            }
+        }
+        let mut more = false;
+        for c in chars.by_ref() {
+            if c == ',' {
+                more = true;
+                break;
+            }
+            field.push(c);
+        }
+        fields.push(field.trim().to_string());
+        if !more {
+            return Ok(fields);
+        }
+    }
+}
+
 /// Read and validate the log; run every accepted row through the pipeline.
 pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Replay, Failure> {
     let mut pipeline = Pipeline::<PROFILE_LEVELS>::new(settings)
         .map_err(|e| Failure::Usage(format!("invalid settings: {e}")))?;
-    let mut reader = csv::ReaderBuilder::new()
-        .comment(Some(b'#'))
-        .flexible(true)
-        .trim(csv::Trim::All)
-        .from_reader(text.as_bytes());
-    let headers = match reader.headers() {
-        Ok(h) if h.iter().any(|name| !name.is_empty()) => h.clone(),
-        Ok(_) => return Err(Failure::NoRows("empty file: no header row".into())),
-        Err(e) => return Err(Failure::NoRows(format!("cannot read the header row: {e}"))),
+    let mut lines = numbered_lines(text).filter(|(_, l)| !is_comment_or_blank(l));
+    let Some((header_line, header)) = lines.next() else {
+        return Err(Failure::NoRows("empty file: no header row".into()));
     };
+    let headers = split_fields(header).map_err(|e| {
+        Failure::NoRows(format!(
+            "line {header_line}: cannot read the header row: {e}"
+        ))
+    })?;
+    for name in COLUMNS {
+        if headers.iter().filter(|h| *h == name).count() > 1 {
+            return Err(Failure::NoRows(format!(
+                "line {header_line}: column '{name}' appears more than once in the header"
+            )));
+        }
+    }
     let index: Vec<Option<usize>> = COLUMNS
         .iter()
         .map(|c| headers.iter().position(|h| h == *c))
@@ -306,8 +421,8 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
     for (required, idx) in COLUMNS.iter().zip(&index).take(2) {
         if idx.is_none() {
             return Err(Failure::NoRows(format!(
-                "missing required column '{required}' (header: {})",
-                headers.iter().collect::<Vec<_>>().join(",")
+                "line {header_line}: missing required column '{required}' (header: {})",
+                headers.join(",")
             )));
         }
     }
@@ -323,21 +438,14 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
         out.messages.push(message);
         Ok(())
     };
-    for record in reader.records() {
-        let record = match record {
+    for (line, text) in lines {
+        let record = match split_fields(text) {
             Ok(r) => r,
-            Err(e) => {
-                let line = e.position().map_or(0, |p| p.line());
-                reject(
-                    &mut out,
-                    line,
-                    "unreadable row",
-                    format!("unreadable row: {e}"),
-                )?;
+            Err(problem) => {
+                reject(&mut out, line, "unterminated quote", problem)?;
                 continue;
             }
         };
-        let line = record.position().map_or(0, |p| p.line());
         if record.len() != width {
             reject(
                 &mut out,
@@ -347,7 +455,14 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
             )?;
             continue;
         }
-        let get = |i: usize| index.get(i).copied().flatten().and_then(|k| record.get(k));
+        let get = |i: usize| {
+            index
+                .get(i)
+                .copied()
+                .flatten()
+                .and_then(|k| record.get(k))
+                .map(String::as_str)
+        };
         let parsed = (|| -> Result<Row, String> {
             let time_s = cell(get(0), "time_s")?.ok_or("time_s is empty")?;
             let f = |i: usize| -> Result<Option<f32>, String> {
@@ -555,7 +670,18 @@ pub(crate) fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<()
         })
         .collect();
     if pts.is_empty() {
-        return Err(fail("no accepted rows to plot".into()));
+        // Every sample was flagged (e.g. all pressures outside the model's range): the
+        // output table still has its rows; the plot says why it is empty.
+        let root = SVGBackend::new(path, (1000, 700)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| fail(e.to_string()))?;
+        root.draw(&Text::new(
+            format!("{title}: no accepted sample to plot (see the flags in the output)"),
+            (40, 340),
+            ("sans-serif", 20).into_font(),
+        ))
+        .map_err(|e| fail(e.to_string()))?;
+        root.present().map_err(|e| fail(e.to_string()))?;
+        return Ok(());
     }
     let (t0, t1) = pts
         .iter()
@@ -684,7 +810,11 @@ pub(crate) fn run_one(
             eprintln!("{name}: {m}");
         }
         if result.messages.len() > 20 {
-            eprintln!("{name}: ... {} more bad rows", result.messages.len() - 20);
+            eprintln!(
+                "{name}: ... {} more bad rows (all are listed in {})",
+                result.messages.len() - 20,
+                summary.display()
+            );
         }
     }
     write_output(out, &result)?;
@@ -696,7 +826,16 @@ pub(crate) fn run_one(
         plot.display(),
         summary.display()
     ));
-    fs::write(summary, &text).map_err(|e| Failure::Io(format!("{}: {e}", summary.display())))?;
+    // The file gets every bad row's message (the terminal only the first 20).
+    let mut file_text = text.clone();
+    if !result.messages.is_empty() {
+        file_text.push_str("bad rows:\n");
+        for m in &result.messages {
+            file_text.push_str(&format!("  {m}\n"));
+        }
+    }
+    fs::write(summary, &file_text)
+        .map_err(|e| Failure::Io(format!("{}: {e}", summary.display())))?;
     Ok(text)
 }
 

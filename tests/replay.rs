@@ -6,13 +6,15 @@
 
 #![allow(dead_code)]
 
+mod common;
 #[path = "../examples/replay.rs"]
 mod replay_tool;
 #[path = "../examples/sim/mod.rs"]
 mod sim;
 
+use clap::Parser;
 use isohypse::pipeline::{Estimator, HeightModel, Output, Settings};
-use replay_tool::{DEMOS, Replay, replay, write_plot};
+use replay_tool::{Cli, DEMOS, Replay, replay, run_one, settings_for, write_output, write_plot};
 
 fn demo(name: &str) -> (&'static str, Settings) {
     let (_, text, preset, lat, start) = DEMOS
@@ -332,4 +334,309 @@ fn svg_plot_renders() {
     ] {
         assert!(text.contains(label), "missing axis label {label}");
     }
+}
+
+/// A scratch directory of this test process.
+fn scratch(name: &str) -> std::path::PathBuf {
+    let dir = std::env::temp_dir().join(format!("isohypse-replay-{name}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// The command line as the user types it (after `cargo run --example replay --`).
+fn cli(args: &[&str]) -> Cli {
+    Cli::try_parse_from(std::iter::once("replay").chain(args.iter().copied())).unwrap()
+}
+
+#[test]
+fn line_numbers_count_every_line_of_the_file() {
+    // Contract: "a message names its line number"; line numbers count comment and
+    // blank lines as lines of the file. The expected numbers are the positions of the
+    // marked lines in the list below (1-based), whatever ends the lines.
+    let lines = [
+        "# recorder 7, invented test log",
+        "",
+        "time_s,pressure_pa,temperature_c",
+        "# units: s, Pa, degC",
+        "0,95000,10",
+        "",
+        "   # an indented comment, with a comma",
+        "1,bad,10",
+        "\t# a comment after a tab",
+        "",
+        "2,95010,10",
+        "# two comment lines",
+        "# in a row",
+        "3,95020,bad",
+        "4,95030,10",
+    ];
+    let bad: Vec<u64> = lines
+        .iter()
+        .enumerate()
+        .filter(|(_, l)| l.contains("bad"))
+        .map(|(i, _)| i as u64 + 1)
+        .collect();
+    assert_eq!(bad, [8, 14]);
+    for ending in ["\n", "\r\n", "\r"] {
+        let mut text = lines.join(ending);
+        text.push_str(ending);
+        let r = replay(&text, Settings::hike(), false).unwrap();
+        let got: Vec<String> = r.messages.clone();
+        assert_eq!(got.len(), 2, "{ending:?}: {got:?}");
+        for (m, line) in got.iter().zip(&bad) {
+            assert!(
+                m.starts_with(&format!("line {line}: ")) && m.contains("not a number"),
+                "{ending:?}: {m}"
+            );
+        }
+        // the comments (indented ones too) and blank lines are no rows
+        let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
+        assert_eq!(times, [0.0, 2.0, 4.0], "{ending:?}");
+        // --strict stops at the first bad row, with its line
+        let err = replay(&text, Settings::hike(), true).unwrap_err();
+        assert_eq!(err.code(), 2);
+        assert!(
+            err.message().starts_with(&format!("line {}: ", bad[0])),
+            "{ending:?}: {}",
+            err.message()
+        );
+        // a byte order mark at the start changes nothing
+        let with_bom = format!("\u{feff}{text}");
+        assert_eq!(
+            replay(&with_bom, Settings::hike(), false).unwrap().messages,
+            got
+        );
+    }
+}
+
+#[test]
+fn unclosed_quote_rejects_only_its_own_line() {
+    // Contract: a bad row is rejected whole, with a message naming its line, and the
+    // rows after it are read as usual (an open quote must not swallow them).
+    let log = "time_s,pressure_pa,note\n0,95000,\"ok, quoted\"\n1,\"95010,x\n2,95020,y\n3,95030,\"say \"\"hi\"\"\"\n";
+    let r = replay(log, Settings::hike(), false).unwrap();
+    let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
+    assert_eq!(times, [0.0, 2.0, 3.0], "{:?}", r.messages);
+    assert_eq!(r.messages.len(), 1);
+    assert!(
+        r.messages[0].starts_with("line 3: ") && r.messages[0].contains("quote"),
+        "{}",
+        r.messages[0]
+    );
+    assert_eq!(r.rejected.values().sum::<usize>(), 1);
+}
+
+#[test]
+fn repeated_column_names_are_refused() {
+    // Contract: columns by name. A known name given twice is ambiguous: the run stops
+    // (exit code 3, as for a missing column) naming the column, instead of silently
+    // reading one of the two.
+    for (log, name) in [
+        (
+            "time_s,pressure_pa,pressure_pa\n0,95000,60000\n",
+            "pressure_pa",
+        ),
+        ("time_s, pressure_pa ,time_s\n0,95000,7\n", "time_s"),
+        (
+            "time_s,pressure_pa,temperature_c,temperature_c\n0,95000,10,30\n",
+            "temperature_c",
+        ),
+    ] {
+        let err = replay(log, Settings::hike(), false).unwrap_err();
+        assert_eq!(err.code(), 3, "{log:?}");
+        assert!(
+            err.message().contains(&format!("'{name}'")) && err.message().contains("line 1"),
+            "{}",
+            err.message()
+        );
+    }
+    // unknown columns may repeat: they are not read
+    let r = replay(
+        "time_s,pressure_pa,note,note\n0,95000,a,b\n",
+        Settings::hike(),
+        false,
+    )
+    .unwrap();
+    assert_eq!(r.outputs.len(), 1);
+}
+
+#[test]
+fn every_bad_row_is_listed_in_the_summary_file() {
+    // Contract: each rejected row gets a message with its line number. The terminal
+    // shows the first 20; the summary file must list all of them.
+    let mut log = String::from("time_s,pressure_pa\n");
+    let mut bad_lines = Vec::new();
+    for i in 0..60u32 {
+        if i % 2 == 1 {
+            log.push_str(&format!("{i},n/a\n"));
+            bad_lines.push(i + 2); // line 1 is the header
+        } else {
+            log.push_str(&format!("{i},{}\n", 95_000 + i));
+        }
+    }
+    assert_eq!(bad_lines.len(), 30);
+    let dir = scratch("summary");
+    let (out, plot, summary) = (
+        dir.join("log.out.csv"),
+        dir.join("log.svg"),
+        dir.join("log.summary.txt"),
+    );
+    let c = cli(&["log.csv", "--preset", "hike", "--quiet"]);
+    run_one("log", &log, &c, &out, &plot, &summary).unwrap();
+    let text = std::fs::read_to_string(&summary).unwrap();
+    let _ = std::fs::remove_dir_all(&dir);
+    for line in &bad_lines {
+        assert!(
+            text.contains(&format!("line {line}: pressure_pa is not a number")),
+            "line {line} missing in the summary:\n{text}"
+        );
+    }
+    assert!(text.contains("30 rejected"), "{text}");
+}
+
+#[test]
+fn out_of_range_options_are_refused_by_name() {
+    // Latitudes lie within -90..90 degrees (common practice); a start altitude of
+    // 1e30 m and a temperature offset that takes the standard sea-level 288.15 K below
+    // 0 K are outside any atmosphere. Exit code 1 (usage) and the option is named.
+    for (args, option) in [
+        (&["in.csv", "--latitude-deg", "95"][..], "--latitude-deg"),
+        (&["in.csv", "--latitude-deg", "-90.5"][..], "--latitude-deg"),
+        (
+            &["in.csv", "--start-altitude-m", "1e30"][..],
+            "--start-altitude-m",
+        ),
+        (
+            &[
+                "in.csv",
+                "--model",
+                "offset",
+                "--temperature-offset-k",
+                "-400",
+            ][..],
+            "--temperature-offset-k",
+        ),
+    ] {
+        let err = settings_for(&cli(args)).unwrap_err();
+        assert_eq!(err.code(), 1, "{args:?}");
+        assert!(
+            err.message().starts_with(option),
+            "{args:?}: {}",
+            err.message()
+        );
+    }
+    // the edges of the range are valid
+    for lat in ["90", "-90", "0"] {
+        assert!(settings_for(&cli(&["in.csv", "--latitude-deg", lat])).is_ok());
+    }
+}
+
+#[test]
+fn plot_is_written_when_every_sample_is_flagged() {
+    // Contract: a valid row whose sample the filters reject still gives an output row
+    // (flagged). Pressures of 0.1 and 0.2 Pa are physical but above the top of the
+    // U.S. 1976 atmosphere (86 km, 0.3734 Pa: U.S. Standard Atmosphere 1976, Table 1),
+    // so every sample is flagged; the run must still write its plot instead of failing.
+    let log = "time_s,pressure_pa\n0,0.1\n1,0.2\n";
+    let dir = scratch("flagged");
+    let (out, plot, summary) = (
+        dir.join("log.out.csv"),
+        dir.join("log.svg"),
+        dir.join("log.summary.txt"),
+    );
+    let c = cli(&["log.csv", "--preset", "hike", "--quiet"]);
+    run_one("log", log, &c, &out, &plot, &summary).unwrap();
+    let table = std::fs::read_to_string(&out).unwrap();
+    let svg = std::fs::read(&plot).unwrap();
+    let _ = std::fs::remove_dir_all(&dir);
+    let rows: Vec<&str> = table.lines().skip(1).collect();
+    assert_eq!(rows.len(), 2, "{table}");
+    assert!(
+        rows.iter().all(|r| r.ends_with("rejected_pressure")),
+        "{table}"
+    );
+    resvg::usvg::Tree::from_data(&svg, &resvg::usvg::Options::default()).expect("well-formed SVG");
+    assert!(String::from_utf8_lossy(&svg).contains("no accepted sample"));
+}
+
+#[test]
+fn pointwise_standard_output_matches_independent_us1976() {
+    // Contract: with `--model standard --filter off` and no start altitude, altitude_m
+    // is the standard pressure altitude (geometric, U.S. 1976) of each row, and the
+    // output columns are in the given order.
+    //
+    // Reference heights computed independently in Python (f64) with the U.S. Standard
+    // Atmosphere 1976 formulas: layers of Table 4 (H_b, L_b), base pressures carried up
+    // from 101 325 Pa with eq. 33a (L != 0) and 33b (L = 0), the same equations solved
+    // for H, and geometric height z = r0 H / (r0 - H), r0 = 6 356 766 m (from eq. 18);
+    // g0 = 9.80665, R* = 8.31432, M0 = 0.0289644. The pressures are first rounded to
+    // f32 as the tool reads them:
+    //   H = Hb + Tb/L*((p/Pb)**(-R*L/(g0*M0)) - 1)  or  Hb - R*Tb/(g0*M0)*ln(p/Pb)
+    //   with R = R* (J/(mol K)) and M0 in kg/mol.
+    // Tolerance: the crate's stated accuracy of the pressure altitude
+    // (tests/common::height_limit: 1 cm to 51 km, 5 cm above) plus 0.5 mm for the
+    // three decimals of the output file.
+    const REFERENCE: [(&str, f64); 19] = [
+        ("120000", -1449.6483),
+        ("101325", 0.0),
+        ("95000", 540.3834),
+        ("89874.6", 1000.1545),
+        ("70000", 3013.6106),
+        ("54019.9", 5003.9378),
+        ("26500", 9999.9748),
+        ("22632.1", 11019.0578),
+        ("12000", 15059.1012),
+        ("5474.89", 20063.1220),
+        ("2000", 26592.0001),
+        ("868.019", 32161.9009),
+        ("300", 39675.5873),
+        ("110.906", 47350.1145),
+        ("66.9389", 51412.4759),
+        ("20", 60685.8108),
+        ("3.95642", 71801.9715),
+        ("1", 80304.4571),
+        ("0.3734", 85999.7058),
+    ];
+    let mut log =
+        String::from("# header in another order, with an extra column\nnote,pressure_pa,time_s\n");
+    for (i, (p, _)) in REFERENCE.iter().enumerate() {
+        log.push_str(&format!("x,{p},{i}\n"));
+    }
+    let dir = scratch("us1976");
+    // every preset: the drone preset's take-off datum comes with its filter only
+    for preset in ["balloon", "drone", "hike"] {
+        let c = cli(&[
+            "log.csv", "--preset", preset, "--model", "standard", "--filter", "off",
+        ]);
+        let r = replay(&log, settings_for(&c).unwrap(), true).unwrap();
+        let path = dir.join(format!("{preset}.out.csv"));
+        write_output(&path, &r).unwrap();
+        let table = std::fs::read_to_string(&path).unwrap();
+        let mut lines = table.lines();
+        assert_eq!(
+            lines.next(),
+            Some(
+                "time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,ascent_m,descent_m,flags"
+            )
+        );
+        let rows: Vec<&str> = lines.collect();
+        assert_eq!(rows.len(), REFERENCE.len());
+        let mut worst = 0.0f64;
+        for (row, (p, z)) in rows.iter().zip(REFERENCE) {
+            let fields: Vec<&str> = row.split(',').collect();
+            assert_eq!(fields.len(), 9, "{row}");
+            // the pressure as read (f32, printed shortest)
+            assert_eq!(fields[1].parse::<f32>(), p.parse::<f32>());
+            let got: f64 = fields[2].parse().unwrap();
+            let err = (got - z).abs();
+            worst = worst.max(err);
+            assert!(
+                err <= common::height_limit(z) + 0.0005,
+                "{preset}: {p} Pa: {got} m, reference {z} m"
+            );
+            assert_eq!(fields[8], "", "{preset}: {p} Pa flagged: {row}");
+        }
+        println!("{preset}: worst difference to the independent U.S. 1976 heights {worst:.4} m");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
 }
