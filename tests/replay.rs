@@ -343,6 +343,26 @@ fn scratch(name: &str) -> std::path::PathBuf {
     dir
 }
 
+/// `log` run as the tool runs a file (`--preset hike --quiet`) in a scratch directory of
+/// its own, which is removed after: the output table, the SVG plot and the summary.
+fn run_hike_quietly(name: &str, log: &str) -> (String, Vec<u8>, String) {
+    let dir = scratch(name);
+    let (out, plot, summary) = (
+        dir.join("log.out.csv"),
+        dir.join("log.svg"),
+        dir.join("log.summary.txt"),
+    );
+    let c = cli(&["log.csv", "--preset", "hike", "--quiet"]);
+    run_one("log", log, &c, &out, &plot, &summary).unwrap();
+    let files = (
+        std::fs::read_to_string(&out).unwrap(),
+        std::fs::read(&plot).unwrap(),
+        std::fs::read_to_string(&summary).unwrap(),
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+    files
+}
+
 /// The command line as the user types it (after `cargo run --example replay --`).
 fn cli(args: &[&str]) -> Cli {
     Cli::try_parse_from(std::iter::once("replay").chain(args.iter().copied())).unwrap()
@@ -475,16 +495,7 @@ fn every_bad_row_is_listed_in_the_summary_file() {
         }
     }
     assert_eq!(bad_lines.len(), 30);
-    let dir = scratch("summary");
-    let (out, plot, summary) = (
-        dir.join("log.out.csv"),
-        dir.join("log.svg"),
-        dir.join("log.summary.txt"),
-    );
-    let c = cli(&["log.csv", "--preset", "hike", "--quiet"]);
-    run_one("log", &log, &c, &out, &plot, &summary).unwrap();
-    let text = std::fs::read_to_string(&summary).unwrap();
-    let _ = std::fs::remove_dir_all(&dir);
+    let (_, _, text) = run_hike_quietly("summary", &log);
     for line in &bad_lines {
         assert!(
             text.contains(&format!("line {line}: pressure_pa is not a number")),
@@ -535,20 +546,11 @@ fn out_of_range_options_are_refused_by_name() {
 fn plot_is_written_when_every_sample_is_flagged() {
     // Contract: a valid row whose sample the filters reject still gives an output row
     // (flagged). Pressures of 0.1 and 0.2 Pa are physical but above the top of the
-    // U.S. 1976 atmosphere (86 km, 0.3734 Pa: U.S. Standard Atmosphere 1976, Table 1),
-    // so every sample is flagged; the run must still write its plot instead of failing.
+    // U.S. 1976 atmosphere (86 km, 0.373 383 6 Pa: U.S. Standard Atmosphere 1976,
+    // Table 4 and the tables of part 4, as cited at `atmosphere::US_1976`), so every
+    // sample is flagged; the run must still write its plot instead of failing.
     let log = "time_s,pressure_pa\n0,0.1\n1,0.2\n";
-    let dir = scratch("flagged");
-    let (out, plot, summary) = (
-        dir.join("log.out.csv"),
-        dir.join("log.svg"),
-        dir.join("log.summary.txt"),
-    );
-    let c = cli(&["log.csv", "--preset", "hike", "--quiet"]);
-    run_one("log", log, &c, &out, &plot, &summary).unwrap();
-    let table = std::fs::read_to_string(&out).unwrap();
-    let svg = std::fs::read(&plot).unwrap();
-    let _ = std::fs::remove_dir_all(&dir);
+    let (table, svg, _) = run_hike_quietly("flagged", log);
     let rows: Vec<&str> = table.lines().skip(1).collect();
     assert_eq!(rows.len(), 2, "{table}");
     assert!(

@@ -510,9 +510,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         if !self.bits.get(INITIALIZED) {
             // before the first barometer sample the accelerometer is only remembered
             self.time_s = t;
-            self.accel_mps2 = accel_up_mps2;
-            self.accel_age_s = 0.0;
-            self.bits.set(ACCEL_AT_CORE, true);
+            self.hold_accel_at_core(accel_up_mps2);
             return Ok(());
         }
         let (core, dropout) = self.propagate(dt, Some(accel_up_mps2));
@@ -529,14 +527,20 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             self.bits.set(SETTLED, false);
         }
         self.time_s = t;
-        self.accel_mps2 = accel_up_mps2;
-        self.accel_age_s = 0.0;
-        self.bits.set(ACCEL_AT_CORE, true);
+        self.hold_accel_at_core(accel_up_mps2);
         self.accepted_age_s += dt;
         if matches!(step, Step::Later(_)) {
             self.bits.set(BARO_AT_CORE, false);
         }
         Ok(())
+    }
+
+    /// Keeps `accel_up_mps2` (m/s^2) as the latest accelerometer sample, taken at the
+    /// filter's time (age 0). One commit for every path that applies one.
+    fn hold_accel_at_core(&mut self, accel_up_mps2: f32) {
+        self.accel_mps2 = accel_up_mps2;
+        self.accel_age_s = 0.0;
+        self.bits.set(ACCEL_AT_CORE, true);
     }
 
     /// Refusals of an accelerometer sample's value (its time is checked with the step).
@@ -684,7 +688,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         let mut step = step;
         let (predicted, at_t) = match accel_up_mps2 {
             Some(a) if matches!(step, Step::Later(_)) && self.bits.get(INITIALIZED) => {
-                (self.accel_ok(a), Some(a))
+                let checked = self.accel_ok(a);
+                (checked, checked.is_ok().then_some(a))
             }
             // An initialised filter refuses an accelerometer sample at its own time:
             // that time's accelerometer sample is at the core (a barometer sample at
@@ -703,7 +708,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         };
         // Checked above (after a prediction to `t` the step is `Same` with no barometer
         // sample at `t`, which the check allows too).
-        let outcome = self.apply_correct(t, step, z, r, at_t.filter(|_| predicted.is_ok()));
+        let outcome = self.apply_correct(t, step, z, r, at_t);
         // a refused accelerometer sample leaves a cycle that reuse does not repeat
         let cycle = cycle.filter(|_| predicted.is_ok());
         self.end_cycle(cycle, &outcome, r);
@@ -846,11 +851,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         self.time_s = t;
         self.bits.set(BARO_AT_CORE, true);
         match accel {
-            Some(a) => {
-                self.accel_mps2 = a;
-                self.accel_age_s = 0.0;
-                self.bits.set(ACCEL_AT_CORE, true);
-            }
+            Some(a) => self.hold_accel_at_core(a),
             None => {
                 self.accel_age_s += dt;
                 self.bits.set(ACCEL_AT_CORE, false);
@@ -1000,10 +1001,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         self.time_s = t;
         self.bits.set(BARO_AT_CORE, true);
         match accel_at_t {
-            Some(a) => {
-                self.accel_mps2 = a;
-                self.bits.set(ACCEL_AT_CORE, true);
-            }
+            Some(a) => self.hold_accel_at_core(a),
             None if matches!(step, Step::Later(_)) => self.bits.set(ACCEL_AT_CORE, false),
             None => {}
         }
