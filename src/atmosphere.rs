@@ -105,7 +105,9 @@ pub const SEA_LEVEL_PRESSURE_PA: f32 = 101_325.0;
 pub const SEA_LEVEL_TEMPERATURE_K: f32 = 288.15;
 
 /// A layer of U.S. 1976 (R = 287.053 07) or ICAO (R = 287.052 87), with its derived
-/// constants computed at compile time.
+/// constants computed at compile time: the exponent `-R L / g0` and height scale
+/// `Tb / L` of U.S. 1976 eq. 33a solved for H, or the scale `-R Tb / g0` of eq. 33b
+/// solved for H when `L = 0` (see [`StandardAtmosphere::geopotential_height`]).
 const fn layer_with(r: f32, h: f32, t: f32, l: f32, p: f32) -> Layer {
     let isothermal = l == 0.0;
     Layer {
@@ -161,8 +163,9 @@ pub const US_1976: StandardAtmosphere = StandardAtmosphere {
     ],
 };
 
-/// ICAO Standard Atmosphere (ICAO Doc 7488/3, 1993) = ISO 2533:1975, -5 km to 80 km
-/// geopotential (from -5 004 m'). Same layers as U.S. 1976 below 80 km; R = 287.052 87 J/(kg K) given
+/// ICAO Standard Atmosphere (ICAO Doc 7488/3, 1993; the same model as ISO 2533:1975 with
+/// its addenda), -5 km to 80 km geopotential (from -5 004 m'; which document first
+/// carried which part of that range is from memory). Same layers as U.S. 1976 below 80 km; R = 287.052 87 J/(kg K) given
 /// directly, so pressures differ from U.S. 1976 by 1e-6 to 9e-6 relative.
 pub const ICAO: StandardAtmosphere = StandardAtmosphere {
     name: "ICAO Standard Atmosphere / ISO 2533",
@@ -266,9 +269,20 @@ impl StandardAtmosphere {
 
     /// Temperature, pressure and density at geopotential height `h` (m').
     ///
-    /// Equations: `T = Tb + L (H - Hb)`; pressure
+    /// Equations (`Hb`, `Tb`, `pb`, `L` of the layer holding `H`; heights in m', `T`
+    /// in K, `p` in Pa, `R` in J/(kg K), `g0` in m/s^2): `T = Tb + L (H - Hb)`; pressure
     /// `p = pb (1 + L (H - Hb) / Tb)^(-g0 / (R L))`, or `p = pb exp(-g0 (H - Hb) / (R Tb))`
     /// for `L = 0`; density `rho = p / (R T)` (U.S. 1976 equations 23, 33a, 33b, 42).
+    ///
+    /// ```
+    /// use isohypse::{atmosphere::US_1976, Height};
+    /// // Tropopause, 11 000 m': 216.65 K and 22 632.06 Pa (U.S. Standard Atmosphere 1976,
+    /// // Table 4 and its part 4 tables; printed values, from memory).
+    /// let s = US_1976.at_geopotential(Height::from_meters(11_000.0)?)?;
+    /// assert!((s.temperature.kelvin() - 216.65).abs() < 1e-3);
+    /// assert!((s.pressure.pa() / 22_632.06 - 1.0).abs() < 1e-6);
+    /// # Ok::<(), isohypse::Error>(())
+    /// ```
     ///
     /// Errors: [`Error::BelowModelBottom`], [`Error::AboveModelTop`].
     pub fn at_geopotential(&self, h: Height) -> Result<AtmosphereState, Error> {
@@ -304,7 +318,8 @@ impl StandardAtmosphere {
     }
 
     /// Temperature, pressure and density at geometric height `z` (m above mean sea
-    /// level), converted to geopotential with this standard's Earth radius.
+    /// level), converted to geopotential with this standard's Earth radius:
+    /// `H = r0 z / (r0 + z)` (U.S. 1976 eq. 18), then [`Self::at_geopotential`].
     pub fn at_geometric(&self, z: Height) -> Result<AtmosphereState, Error> {
         let h = crate::geopotential::geopotential_from_geometric(z, self.earth_radius_m)?;
         self.at_geopotential(h)
@@ -353,6 +368,18 @@ impl StandardAtmosphere {
 
     /// Pressure altitude: the geometric height (m) at which this standard has pressure
     /// `p`. Independent of latitude by definition (the standard's own Earth radius).
+    /// [`Self::geopotential_height`], then `z = r0 H / (r0 - H)` (U.S. 1976 eq. 19).
+    ///
+    /// ```
+    /// use isohypse::{atmosphere::US_1976, Pressure};
+    /// // 500 hPa lies at 5 574 m' geopotential in the standard (ICAO Doc 7488/3 tables,
+    /// // from memory; the equations in f64 give 5 574.44 m'), 5 579.3 m geometric.
+    /// let h = US_1976.geopotential_height(Pressure::from_hpa(500.0)?)?;
+    /// assert!((h.meters() - 5_574.4).abs() < 0.5);
+    /// let z = US_1976.pressure_altitude(Pressure::from_hpa(500.0)?)?;
+    /// assert!((z.meters() - 5_579.3).abs() < 0.5);
+    /// # Ok::<(), isohypse::Error>(())
+    /// ```
     #[inline]
     pub fn pressure_altitude(&self, p: Pressure) -> Result<Height, Error> {
         let h = self.geopotential_m(p)?;
@@ -404,12 +431,23 @@ impl StandardAtmosphere {
         Height::from_finite_meters(h + h * h / (self.earth_radius_m - h))
     }
 
-    /// Pressure of this standard at geometric height `z`.
+    /// Pressure of this standard at geometric height `z` (U.S. 1976 eq. 18, then
+    /// eq. 33a/33b; see [`Self::at_geopotential`]).
+    ///
+    /// ```
+    /// use isohypse::{atmosphere::US_1976, Height};
+    /// // 5 km geometric: 54 048 Pa (U.S. Standard Atmosphere 1976, part 4 tables,
+    /// // from memory; the same row is checked in tests/atmosphere.rs).
+    /// let p = US_1976.pressure_at(Height::from_meters(5_000.0)?)?;
+    /// assert!((p.pa() / 54_048.0 - 1.0).abs() < 1e-4);
+    /// # Ok::<(), isohypse::Error>(())
+    /// ```
     pub fn pressure_at(&self, z: Height) -> Result<Pressure, Error> {
         Ok(self.at_geometric(z)?.pressure)
     }
 
-    /// Temperature of this standard at geometric height `z`.
+    /// Temperature of this standard at geometric height `z` (U.S. 1976 eq. 18, then
+    /// `T = Tb + L (H - Hb)`, eq. 23).
     pub fn temperature_at(&self, z: Height) -> Result<Temperature, Error> {
         Ok(self.at_geometric(z)?.temperature)
     }

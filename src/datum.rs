@@ -107,7 +107,9 @@ impl AltimeterSetting {
     }
 
     /// Geometric height (m) the setting gives for pressure `p`:
-    /// `z = geometric(H_std(p) - H_std(setting))`.
+    /// `z = geometric(H_std(p) - H_std(setting))`, with `H_std` the U.S. 1976
+    /// geopotential height of a pressure (eq. 33a/33b solved for H) and `geometric` its
+    /// eq. 19 (see the module docs for the troposphere closed form and its sources).
     ///
     /// Errors: [`Error::AboveModelTop`] / [`Error::BelowModelBottom`] outside the U.S.
     /// 1976 table.
@@ -123,7 +125,12 @@ impl AltimeterSetting {
 
     /// The sea-level setting (QNH) that makes pressure `p` read `elevation` (geometric,
     /// above mean sea level): `H_std(QNH) = H_std(p) - H(elevation)`, so
-    /// `QNH = p_std(H_std(p) - H(elevation))`. Closed form, no iteration.
+    /// `QNH = p_std(H_std(p) - H(elevation))`. Closed form, no iteration. `H(elevation)`
+    /// from U.S. 1976 eq. 18, `H_std` and `p_std` from eq. 33a/33b (QNH as the setting
+    /// that reads the field elevation on the ground: ICAO Doc 8168, from memory).
+    ///
+    /// Errors: the U.S. 1976 range errors ([`Error::BelowModelBottom`],
+    /// [`Error::AboveModelTop`]) for `p` or the implied sea-level pressure.
     pub fn sea_level_from_elevation(p: Pressure, elevation: Height) -> Result<Self, Error> {
         let h_elev = geopotential::geopotential_from_geometric(elevation, R0)?.meters();
         let h = US_1976.geopotential_height(p)?.meters() - h_elev;
@@ -131,7 +138,9 @@ impl AltimeterSetting {
         Ok(AltimeterSetting::SeaLevel { qnh })
     }
 
-    /// The field setting (QFE) from a reading taken on the ground: `QFE = p`.
+    /// The field setting (QFE) from a reading taken on the ground: `QFE = p` (QFE is the
+    /// pressure at the field, with which the altimeter reads zero on the ground; ICAO
+    /// definition, from memory).
     pub const fn field_from_reading(p: Pressure) -> Self {
         AltimeterSetting::Field { qfe: p }
     }
@@ -261,7 +270,10 @@ impl<M: ColumnModel> Calibration<M> {
 
     /// Applies a known-elevation fix: pressure `p` read at geometric elevation `known`
     /// with 1-sigma uncertainty `sigma_m` (> 0), and the air sample now. Returns the
-    /// change of the height read at `p` caused by this fix (the jump a display sees).
+    /// change of the height read at `p` caused by this fix (the jump a display sees):
+    /// `K (z_known - z_pred)` with `K = var / (var + sigma_m^2)`, and `var <- (1 - K) var`
+    /// (the scalar Kalman measurement update; e.g. Simon, *Optimal State Estimation*,
+    /// 2006, ch. 5, chapter from memory).
     ///
     /// Errors (calibration unchanged): [`Error::InvalidSetting`] for `sigma_m` not finite
     /// and positive; any error of the model's height at `p`.
@@ -301,7 +313,8 @@ impl<M: ColumnModel> Calibration<M> {
         Ok(jump)
     }
 
-    /// Ages the calibration by `dt_s` seconds: `var += drift^2 dt`.
+    /// Ages the calibration by `dt_s` seconds: `var += drift^2 dt` (variance of a random
+    /// walk grows linearly with time; common practice).
     /// Errors (unchanged): [`Error::InvalidSetting`] for negative or non-finite `dt_s`.
     pub fn elapse(&mut self, dt_s: f32) -> Result<(), Error> {
         if !dt_s.is_finite() || dt_s < 0.0 {
@@ -349,7 +362,8 @@ mod tests {
 
     #[test]
     fn qnh_standard_reads_pressure_altitude() {
-        // With QNH = 1013.25 hPa the shift is zero (ICAO Doc 7488 definition).
+        // With QNH = 1013.25 hPa the shift is zero (ICAO Doc 7488 definition; the
+        // reference is the crate's pressure altitude, checked in tests/atmosphere.rs).
         let qnh = AltimeterSetting::SeaLevel {
             qnh: Pressure::from_hpa(1013.25).unwrap(),
         };
@@ -362,6 +376,7 @@ mod tests {
 
     #[test]
     fn qfe_reads_zero_on_the_field() {
+        // QFE reads zero on the field (ICAO definition of QFE, from memory).
         let p = Pressure::from_hpa(912.3).unwrap();
         let s = AltimeterSetting::field_from_reading(p);
         assert!(s.height(p).unwrap().meters().abs() < 1e-4);

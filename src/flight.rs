@@ -112,7 +112,8 @@ impl PhaseSettings {
         float_debounce_s: 60.0,
         landed_debounce_s: 30.0,
     };
-    /// Small drones: faster reactions, no burst in practice (set very high).
+    /// Small drones: faster reactions, no burst in practice (set very high; values a
+    /// choice of this crate).
     pub const DRONE: PhaseSettings = PhaseSettings {
         ascent_mps: 0.3,
         descent_mps: 0.3,
@@ -123,7 +124,8 @@ impl PhaseSettings {
         float_debounce_s: 1.0,
         landed_debounce_s: 2.0,
     };
-    /// Walking: slow vertical speeds (a steep trail climbs 0.1-0.3 m/s).
+    /// Walking: slow vertical speeds (a steep trail climbs 0.1-0.3 m/s; common
+    /// practice, thresholds a choice of this crate).
     pub const HIKE: PhaseSettings = PhaseSettings {
         ascent_mps: 0.05,
         descent_mps: 0.05,

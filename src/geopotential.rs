@@ -23,7 +23,16 @@ use crate::units::Height;
 
 /// Geopotential height (m') from geometric height `z` with effective Earth radius `r0`:
 /// `H = r0 z / (r0 + z)` (U.S. 1976 eq. 18). Written as `z - z^2 / (r0 + z)` so the
-/// small correction carries the rounding, not the whole height.
+/// small correction carries the rounding, not the whole height. Heights in m, `r0` in m.
+///
+/// ```
+/// use isohypse::{geopotential::geopotential_from_geometric, Height};
+/// // The U.S. 1976 tropopause: 11 000 m' geopotential is 11 019.07 m geometric
+/// // (eq. 18 with r0 = 6 356 766 m, evaluated in f64).
+/// let h = geopotential_from_geometric(Height::from_meters(11_019.07)?, 6_356_766.0)?;
+/// assert!((h.meters() - 11_000.0).abs() < 0.01);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
 pub fn geopotential_from_geometric(z: Height, r0: f32) -> Result<Height, Error> {
     let zm = z.meters();
     let denom = r0 + zm;
@@ -34,7 +43,16 @@ pub fn geopotential_from_geometric(z: Height, r0: f32) -> Result<Height, Error> 
 }
 
 /// Geometric height (m) from geopotential height `h` with effective Earth radius `r0`:
-/// `z = r0 H / (r0 - H)` (U.S. 1976 eq. 19), written as `H + H^2 / (r0 - H)`.
+/// `z = r0 H / (r0 - H)` (U.S. 1976 eq. 19), written as `H + H^2 / (r0 - H)`. Heights
+/// in m' and m, `r0` in m.
+///
+/// ```
+/// use isohypse::{geopotential::geometric_from_geopotential, Height};
+/// // The top of U.S. 1976: 84 852.05 m' is 86 km geometric (the standard's own pair).
+/// let z = geometric_from_geopotential(Height::from_meters(84_852.05)?, 6_356_766.0)?;
+/// assert!((z.meters() - 86_000.0).abs() < 0.02);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
 #[inline]
 pub fn geometric_from_geopotential(h: Height, r0: f32) -> Result<Height, Error> {
     let hm = h.meters();
@@ -92,7 +110,9 @@ fn sin_squared_latitude(latitude_deg: f32) -> Result<f32, Error> {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Gravity {
     #[default]
-    /// U.S. 1976: `g(z) = g0 (r0 / (r0 + z))^2`, r0 = 6 356 766 m, g0 = 9.806 65 m/s^2.
+    /// U.S. 1976: `g(z) = g0 (r0 / (r0 + z))^2`, r0 = 6 356 766 m, g0 = 9.806 65 m/s^2
+    /// (U.S. Standard Atmosphere 1976, eq. 17, number from memory; the law that eq. 18
+    /// integrates).
     Standard,
     /// WGS-84 normal gravity at a latitude and its decrease with height above the
     /// ellipsoid (TR8350.2 eq. 4-3):
@@ -109,7 +129,11 @@ pub enum Gravity {
 }
 
 impl Gravity {
-    /// WGS-84 normal gravity at geodetic latitude `latitude_deg`.
+    /// WGS-84 normal gravity at geodetic latitude `latitude_deg` (degrees): `gamma` from
+    /// [`normal_gravity`] (TR8350.2 eq. 4-1), `c1 = 2 (1 + f + m - 2 f sin^2 phi) / a`,
+    /// `c2 = 3 / a^2` (eq. 4-3; `a`, `f` from table 3.1, `m` from table 3.4).
+    ///
+    /// Errors: as [`normal_gravity`].
     pub fn at_latitude(latitude_deg: f32) -> Result<Self, Error> {
         let s2 = sin_squared_latitude(latitude_deg)?;
         let surface_gravity = normal_gravity(latitude_deg)?;
@@ -120,7 +144,19 @@ impl Gravity {
         })
     }
 
-    /// Gravity at geometric height `z` (m), m/s^2.
+    /// Gravity at geometric height `z` (m), m/s^2: `g0 (r0 / (r0 + z))^2` for
+    /// [`Gravity::Standard`] (U.S. 1976 eq. 17, number from memory),
+    /// `gamma (1 - c1 z + c2 z^2)` for [`Gravity::Latitude`] (TR8350.2 eq. 4-3).
+    ///
+    /// ```
+    /// use isohypse::{geopotential::Gravity, Height};
+    /// // Near the ground gravity falls by about 3.086e-6 s^-2 per metre (the free-air
+    /// // gradient, 0.3086 mGal/m; common practice).
+    /// let g = Gravity::at_latitude(45.0)?;
+    /// let drop = g.at_height(Height::ZERO) - g.at_height(Height::from_meters(1000.0)?);
+    /// assert!((drop / 1000.0 - 3.086e-6).abs() < 0.03e-6);
+    /// # Ok::<(), isohypse::Error>(())
+    /// ```
     pub fn at_height(&self, z: Height) -> f32 {
         let zm = z.meters();
         match *self {
@@ -137,8 +173,10 @@ impl Gravity {
     }
 
     /// Geopotential height (m', `Phi / g0`) of geometric height `z`: the integral of
-    /// `g(z) dz / g0`. For [`Gravity::Latitude`]:
-    /// `H = (gamma / g0) (z - c1 z^2 / 2 + c2 z^3 / 3)`.
+    /// `g(z) dz / g0` (definition of geopotential height; Wallace & Hobbs 2006,
+    /// section 3.2.1, section number from memory). For [`Gravity::Standard`]:
+    /// `H = r0 z / (r0 + z)` (U.S. 1976 eq. 18). For [`Gravity::Latitude`]:
+    /// `H = (gamma / g0) (z - c1 z^2 / 2 + c2 z^3 / 3)` (TR8350.2 eq. 4-3 integrated).
     pub fn geopotential(&self, z: Height) -> Result<Height, Error> {
         match *self {
             Gravity::Standard => geopotential_from_geometric(z, US_1976_EARTH_RADIUS_M),
@@ -155,9 +193,10 @@ impl Gravity {
     }
 
     /// Geometric height (m) of geopotential height `h` (m'): the inverse of
-    /// [`Self::geopotential`]. For [`Gravity::Latitude`] solved by Newton's method from
+    /// [`Self::geopotential`]. For [`Gravity::Standard`]: `z = r0 H / (r0 - H)` (U.S.
+    /// 1976 eq. 19). For [`Gravity::Latitude`] solved by Newton's method from
     /// `z0 = H g0 / gamma` (three steps reach f32 precision below 100 km; the
-    /// derivative `dH/dz = g(z) / g0` is the gravity itself).
+    /// derivative `dH/dz = g(z) / g0` is the gravity itself; common practice).
     pub fn geometric(&self, h: Height) -> Result<Height, Error> {
         match *self {
             Gravity::Standard => geometric_from_geopotential(h, US_1976_EARTH_RADIUS_M),

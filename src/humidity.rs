@@ -69,8 +69,9 @@ const ICE_C_DEGC: f32 = 273.86;
 ///
 /// ```
 /// use isohypse::{humidity::saturation_vapour_pressure_water, Temperature};
-/// // 20 degC: 23.39 hPa in the WMO / Smithsonian tables (from memory); the Magnus
-/// // form is within its stated 0.4 % (it gives 23.33 hPa).
+/// // 20 degC: 23.39 hPa (2.339 kPa) in the IAPWS steam tables, 23.37 hPa (Goff-Gratch)
+/// // in the WMO / Smithsonian tables (both from memory); the Magnus form is within its
+/// // stated 0.4 % of either (it gives 23.33 hPa).
 /// let es = saturation_vapour_pressure_water(Temperature::from_celsius(20.0)?);
 /// assert!((es / 2339.0 - 1.0).abs() < 0.004);
 /// # Ok::<(), isohypse::Error>(())
@@ -83,12 +84,22 @@ pub fn saturation_vapour_pressure_water(t: Temperature) -> f32 {
 /// Saturation vapour pressure over plane ice, Pa:
 /// `ei = 611.21 exp(22.587 t / (t + 273.86))`, `t` in degC (Alduchov & Eskridge 1996,
 /// AERKi; stated range -80..0 degC).
+///
+/// ```
+/// use isohypse::{humidity::saturation_vapour_pressure_ice, Temperature};
+/// // -20 degC over ice: 1.032 hPa in the Smithsonian Meteorological Tables (from
+/// // memory); the Magnus form is within its stated 0.4 % (it gives 1.031 hPa).
+/// let ei = saturation_vapour_pressure_ice(Temperature::from_celsius(-20.0)?);
+/// assert!((ei / 103.2 - 1.0).abs() < 0.004);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
 pub fn saturation_vapour_pressure_ice(t: Temperature) -> f32 {
     let c = t.celsius();
     ICE_A_PA * math::exp(ICE_B * c / (c + ICE_C_DEGC))
 }
 
-/// Vapour pressure `e = RH es(T)`, Pa, with `es` over water (WMO convention).
+/// Vapour pressure `e = RH es(T)`, Pa, with `es` over water: the definition of relative
+/// humidity with respect to water (WMO-No. 8, Vol. I, chapter 4; `RH` as a fraction).
 pub fn vapour_pressure(t: Temperature, rh: RelativeHumidity) -> f32 {
     rh.fraction() * saturation_vapour_pressure_water(t)
 }
@@ -117,7 +128,16 @@ impl MixingRatio {
     }
 
     /// From vapour pressure `e` (Pa) and total pressure `p`: `w = eps e / (p - e)`
-    /// (Wallace & Hobbs 2006, eq. 3.59 with `eps` = [`EPSILON`]).
+    /// (Wallace & Hobbs 2006, eq. 3.59 with `eps` = [`EPSILON`]; pressures in Pa).
+    ///
+    /// ```
+    /// use isohypse::{humidity::MixingRatio, Pressure};
+    /// // e = 2000 Pa at p = 1000 hPa: w = 0.622 * 2000 / 98 000 = 0.012 694 kg/kg
+    /// // (the equation evaluated by hand).
+    /// let w = MixingRatio::from_vapour_pressure(Pressure::from_hpa(1000.0)?, 2000.0)?;
+    /// assert!((w.kg_per_kg() - 0.012_694).abs() < 1e-6);
+    /// # Ok::<(), isohypse::Error>(())
+    /// ```
     ///
     /// Errors: [`Error::NotFinite`]; [`Error::HumidityOutOfRange`] for negative `e` or
     /// `e` so close to `p` that `w` leaves `0..=1` (no dry air left: boiling, not weather).
@@ -136,7 +156,9 @@ impl MixingRatio {
     }
 
     /// From pressure, temperature and relative humidity (over water):
-    /// `w = eps e / (p - e)`, `e = RH es(T)`.
+    /// `w = eps e / (p - e)` (Wallace & Hobbs 2006, eq. 3.59), `e = RH es(T)` with `es`
+    /// from [`saturation_vapour_pressure_water`] (Alduchov & Eskridge 1996, AERK).
+    /// Errors: as [`Self::from_vapour_pressure`].
     pub fn from_relative_humidity(
         p: Pressure,
         t: Temperature,
@@ -163,7 +185,8 @@ impl MixingRatio {
     }
 }
 
-/// Mixing ratio `w = eps e / (p - e)` with `e = RH es(T)` over water, kg/kg.
+/// Mixing ratio `w = eps e / (p - e)` with `e = RH es(T)` over water, kg/kg (Wallace &
+/// Hobbs 2006, eq. 3.59; `es` from Alduchov & Eskridge 1996, AERK).
 /// See [`MixingRatio::from_relative_humidity`].
 pub fn mixing_ratio(
     p: Pressure,
@@ -193,6 +216,14 @@ pub fn virtual_temperature(
 ///
 /// Errors: [`Error::HumidityOutOfRange`] for `RH = 0` (no dew point exists), and the
 /// [`Temperature`] range errors for results outside the crate's air range.
+///
+/// ```
+/// use isohypse::{humidity::dew_point, RelativeHumidity, Temperature};
+/// // 25 degC at 60 %: dew point 16.7 degC (psychrometric tables, from memory).
+/// let td = dew_point(Temperature::from_celsius(25.0)?, RelativeHumidity::from_percent(60.0)?)?;
+/// assert!((td.celsius() - 16.7).abs() < 0.1);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
 pub fn dew_point(t: Temperature, rh: RelativeHumidity) -> Result<Temperature, Error> {
     let f = rh.fraction();
     if f <= 0.0 {
@@ -262,7 +293,8 @@ mod tests {
             MixingRatio::from_kg_per_kg(-0.001),
             Err(Error::HumidityOutOfRange)
         );
-        // 60 degC saturated air at 100 hPa: e = 199 hPa > p.
+        // 60 degC saturated air at 100 hPa: e = 199 hPa > p (steam tables, from memory;
+        // the AERK form, used here beyond its stated range, gives 200 hPa).
         let hot = Temperature::from_celsius(60.0).unwrap();
         assert_eq!(
             mixing_ratio(

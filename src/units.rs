@@ -25,7 +25,8 @@ pub const PA_PER_INHG: f32 = 3386.389;
 /// Metres in one international foot (exact by definition, 1959 international yard and
 /// pound agreement; NIST SP 811 appendix B.8).
 pub const M_PER_FT: f32 = 0.3048;
-/// 0 degC in kelvin (exact, SI definition).
+/// 0 degC in kelvin (exact, SI definition: `t / degC = T / K - 273.15`; BIPM, *The
+/// International System of Units*, 9th ed., 2019).
 pub const ZERO_CELSIUS_K: f32 = 273.15;
 
 fn finite(x: f32) -> Result<f32, Error> {
@@ -58,7 +59,7 @@ impl Pressure {
     pub fn from_hpa(hpa: f32) -> Result<Self, Error> {
         Self::from_pa(finite(hpa)? * PA_PER_HPA)
     }
-    /// From inches of mercury (conventional, 3386.389 Pa/inHg).
+    /// From inches of mercury (conventional, 3386.389 Pa/inHg; NIST SP 811 appendix B.8).
     pub fn from_inhg(inhg: f32) -> Result<Self, Error> {
         Self::from_pa(finite(inhg)? * PA_PER_INHG)
     }
@@ -108,7 +109,7 @@ impl Temperature {
             Ok(Self(k))
         }
     }
-    /// From degrees Celsius.
+    /// From degrees Celsius: `T = t + 273.15` (SI definition, see [`ZERO_CELSIUS_K`]).
     pub fn from_celsius(c: f32) -> Result<Self, Error> {
         Self::from_kelvin(finite(c)? + ZERO_CELSIUS_K)
     }
@@ -135,7 +136,7 @@ impl Height {
     pub fn from_meters(m: f32) -> Result<Self, Error> {
         Ok(Self(finite(m)?))
     }
-    /// From international feet.
+    /// From international feet: 1 ft = 0.3048 m exactly (see [`M_PER_FT`]).
     pub fn from_feet(ft: f32) -> Result<Self, Error> {
         Self::from_meters(finite(ft)? * M_PER_FT)
     }
@@ -166,7 +167,7 @@ impl VerticalSpeed {
     pub fn from_mps(v: f32) -> Result<Self, Error> {
         Ok(Self(finite(v)?))
     }
-    /// From feet per minute.
+    /// From feet per minute: `v = fpm * 0.3048 / 60` m/s (see [`M_PER_FT`]).
     pub fn from_fpm(fpm: f32) -> Result<Self, Error> {
         Self::from_mps(finite(fpm)? * M_PER_FT / 60.0)
     }
@@ -249,9 +250,11 @@ mod tests {
         // 29.921 3 inHg = 1013.25 hPa with the conventional inHg (NIST SP 811).
         let p = Pressure::from_inhg(29.9213).unwrap();
         assert!((p.hpa() - 1013.25).abs() < 0.01);
+        // 304.8 m = 1000 ft (exact from the 1959 definition of the foot).
         assert!((Height::from_meters(304.8).unwrap().feet() - 1000.0).abs() < 1e-3);
         // 1000 ft/min = 5.08 m/s (exact from the foot definition).
         assert!((VerticalSpeed::from_fpm(1000.0).unwrap().mps() - 5.08).abs() < 1e-5);
+        // 273.15 K = 0 degC (SI definition of the degree Celsius).
         assert!((Temperature::from_kelvin(273.15).unwrap().celsius()).abs() < 1e-5);
     }
 }

@@ -582,7 +582,8 @@ fn ground_reference_from_rest_before_take_off() {
         }
         let n = g.sample_count() as f64;
         let ref_err = g.reference().unwrap().meters() as f64 - FIELD_M;
-        // Mean of n samples of sigma: standard error sigma / sqrt(n); 4 sigma bound.
+        // Mean of n samples of sigma: standard error sigma / sqrt(n) (common practice);
+        // 4 sigma bound.
         let bound = 4.0 * BARO_NOISE_PA * meters_per_pa() / n.sqrt();
         let rms_above = (errs.iter().map(|e| e * e).sum::<f64>() / errs.len() as f64).sqrt();
         println!(

@@ -45,8 +45,8 @@ impl Noise {
 /// * ascent and descent each <= the hysteresis band (3 m, `HikeConfig::default`): the
 ///   totals count a move only once it exceeds the band, and at rest there is no move.
 ///   The smoothed height noise is about 0.06 m (1-sigma: 1.5 Pa x 0.085 m/Pa through the
-///   hike smoother's 2 s time constant at 1 Hz, which passes sqrt(a / (2 - a)) = 0.49 of
-///   white noise, a = 1 - exp(-0.5)), so the band is 50 sigma away and the expected count
+///   hike smoother's 2 s time constant at 1 Hz, gain k = dt / (tau + dt) = 1/3, which
+///   passes sqrt(k / (2 - k)) = 0.45 of white noise), so the band is 50 sigma away and the expected count
 ///   is exactly 0; the band is the bound because that is what the design promises.
 /// * the displayed height stays within the rest detector's exit band (2 m) of the truth:
 ///   a larger apparent move would end the rest.

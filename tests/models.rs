@@ -16,7 +16,9 @@ use isohypse::{Error, Height, Pressure, RelativeHumidity, Temperature};
 const R64: f64 = 8314.32 / 28.9644;
 const G64: f64 = 9.80665;
 const R0_64: f64 = 6_356_766.0;
-// U.S. 1976 Table 4: (base geopotential m', base temperature K, lapse K/m').
+// U.S. 1976 Table 4: (base geopotential m', base temperature K, lapse K/m'). The first
+// row is not in Table 4 (which starts at 0 m'): it extends the sea-level layer down to
+// -5 km at the same lapse rate, as the crate does (320.65 K = 288.15 K + 5 km x 6.5 K/km).
 const US76_LAYERS: [(f64, f64, f64); 8] = [
     (-5000.0, 320.65, -0.0065),
     (0.0, 288.15, -0.0065),
@@ -304,7 +306,9 @@ fn profile_matches_numeric_integration() {
         ],
         0.005,
     );
-    // One knot on the standard temperature: the profile is the standard model.
+    // One knot on the standard temperature (288.15 K at 0 m, U.S. 1976 Table 4): the
+    // profile is the standard model (reference: the crate's Standard model, checked
+    // against the standard in tests/atmosphere.rs).
     let one = TemperatureProfile::<1>::from_knots(&[(m(0.0), k(288.15))]).unwrap();
     let r = Reference::new(hpa(1013.25), Height::ZERO);
     let a = one.height(&r, hpa(250.0), &AirSample::DRY).unwrap();
@@ -402,7 +406,8 @@ fn humid_column_is_taller_by_the_virtual_temperature() {
         .height(&r, hpa(900.0), &AirSample::DRY)
         .unwrap();
     // Isothermal height is proportional to the column temperature: the humid column is
-    // taller by Tv / T - 1 (1.30 % at 30 degC, 80 %, 1000 hPa).
+    // taller by Tv / T - 1 (1.30 % at 30 degC, 80 %, 1000 hPa: Wallace & Hobbs 2006
+    // eq. 3.16 and 3.59 with the AERK es, 42.37 hPa, evaluated by hand).
     let gain = humid.meters() / dry.meters() - 1.0;
     let expected = w.virtual_temperature_factor() - 1.0;
     assert!((gain - expected).abs() < 1e-4, "{gain} {expected}");
@@ -754,7 +759,9 @@ fn bad_humidity_is_rejected() {
     );
 }
 
-/// xorshift64* (Vigna 2016) with Box-Muller: a small deterministic normal generator.
+/// xorshift64* (Vigna 2016, "An experimental exploration of Marsaglia's xorshift
+/// generators, scrambled", ACM TOMS 42) with the Box-Muller transform (Box & Muller 1958,
+/// Ann. Math. Stat. 29): a small deterministic normal generator.
 struct Normal {
     state: u64,
     spare: Option<f64>,
@@ -792,7 +799,8 @@ fn first_order_sigma_matches_monte_carlo() {
     // offset for the whole column) by normal draws with the stated sigmas, recompute the
     // height, take the sample standard deviation.
     // N = 40 000 draws: the relative standard error of a sample standard deviation is
-    // 1 / sqrt(2 (N - 1)) = 0.35 %; we allow 2 % (over 5 standard errors plus the
+    // 1 / sqrt(2 (N - 1)) = 0.35 % (large-sample result for normal data; common
+    // practice); we allow 2 % (over 5 standard errors plus the
     // second-order terms the linearisation drops, which are below 0.5 % here).
     const N: usize = 40_000;
     let mut rng = Normal::new(0x1505_4F5E_0000_0001);

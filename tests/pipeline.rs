@@ -95,7 +95,7 @@ fn pipeline_state_sizes() {
 
 #[test]
 fn pointwise_standard_is_pressure_altitude() {
-    // shared/design.md: with the standard model, no filter and no start altitude the
+    // Design notes (replay file contract): with the standard model, no filter and no start altitude the
     // output is the standard pressure altitude of each row.
     let mut s = Settings::balloon();
     s.model = HeightModel::Standard;
@@ -329,6 +329,8 @@ fn column_models_through_the_pipeline() {
     let mut second = Sample::pressure(1.0, 90_000.0);
     second.temperature_c = Some(10.0);
     let out = pipe.process(&second);
+    // R = 287.053 07 J/(kg K), g0 = 9.806 65 m/s^2, r0 = 6 356 766 m: U.S. Standard
+    // Atmosphere 1976, section 1.2 (R = R* / M0 = 8314.32 / 28.9644); eq. 18/19 below.
     let dh = 287.053_07f64 / 9.806_65 * (288.15 + 283.15) / 2.0 * (95_000.0f64 / 90_000.0).ln();
     let h_ref =
         geopotential_from_geometric(isohypse::Height::from_meters(500.0).unwrap(), 6_356_766.0)

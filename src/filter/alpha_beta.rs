@@ -186,6 +186,8 @@ mod tests {
 
     #[test]
     fn critically_damped_gains() {
+        // theta = 0.8: alpha = 1 - theta^2 = 0.36, beta = (1 - theta)^2 = 0.04 (Brookner
+        // 1998, ch. 1, fading-memory g-h gains, from memory).
         let ab = AlphaBeta::critically_damped(0.8, 1.0).unwrap();
         assert!((ab.alpha - 0.36).abs() < 1e-6);
         assert!((ab.beta - 0.04).abs() < 1e-6);
@@ -198,6 +200,8 @@ mod tests {
     #[test]
     fn rejects_bad_settings() {
         assert_eq!(AlphaBeta::new(0.0, 0.1, 1.0), Err(Error::InvalidSetting));
+        // beta = 3 = 4 - 2 alpha: on the edge of the stability region (Jury test,
+        // common practice), refused.
         assert_eq!(AlphaBeta::new(0.5, 3.0, 1.0), Err(Error::InvalidSetting));
         assert_eq!(AlphaBeta::new(0.5, 0.1, 0.0), Err(Error::InvalidSetting));
         assert_eq!(

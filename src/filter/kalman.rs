@@ -37,7 +37,7 @@ pub struct VerticalKalmanConfig {
     /// Accelerometer white-noise density, m/s^2/sqrt(Hz) (>= 0): the square root of the
     /// two-sided power spectral density `q_a` of the acceleration noise. For white noise
     /// of standard deviation `sigma` per sample at rate `fs`, held over each step, the
-    /// equivalent density is `sigma / sqrt(fs)`.
+    /// equivalent density is `sigma / sqrt(fs)` (common practice).
     pub accel_noise_density: f32,
     /// Accelerometer bias random walk, m/s^2/sqrt(s) (>= 0): the bias drifts by this much
     /// (1-sigma) over one second.

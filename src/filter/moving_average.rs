@@ -57,6 +57,9 @@ impl<const N: usize> Default for MovingAverage<N> {
 }
 
 /// One step of Neumaier's compensated summation: returns the new `(sum, comp)`.
+/// `t = sum + x`; the rounding error of that addition, `(sum - t) + x` when
+/// `|sum| >= |x|` else `(x - t) + sum`, is added to `comp` (Neumaier 1974, see the type
+/// docs).
 fn neumaier(sum: f32, comp: f32, x: f32) -> (f32, f32) {
     let t = sum + x;
     let c = if sum.abs() >= x.abs() {
@@ -199,6 +202,7 @@ mod tests {
 
     #[test]
     fn partial_window_and_wrap() {
+        // Means worked by hand (definition of the mean of the last 3 samples).
         let mut m = MovingAverage::<3>::new();
         assert_eq!(m.value(), None);
         assert_eq!(m.push(3.0).unwrap(), 3.0);

@@ -15,12 +15,13 @@
 //!    backward-Euler form of `tau ds/dt = h - s`, no exponential per sample), with
 //!    `tau =` [`HikeConfig::smoothing_time_constant_s`]. Default 2 s: at 1 Hz, `k = 1/3`
 //!    and the noise standard deviation shrinks by `sqrt(k / (2 - k)) = 0.45` (2 Pa, about
-//!    0.17 m, becomes 0.08 m); the lag on a 0.15 m/s climb is `v tau = 0.3 m`, and a sharp
-//!    turn at the top of a climb loses `v tau ln 2 = 0.2 m` of the peak (the smoother's
-//!    output meets the falling input `tau ln 2` after the turn). Longer time constants cut
-//!    the noise further but lose more at every turn and deliver more of the lag into the
-//!    first minute of a rest (5 s gave up to 1.3 m of growth in a rest on the synthetic
-//!    days, over the 1 m goal). Set 0 when the input is already filtered. Written here
+//!    0.17 m, becomes 0.08 m; the stationary variance of `s += k (h - s)` fed white noise
+//!    is `k / (2 - k)` of the input's, a geometric series, common practice); the lag on
+//!    a 0.15 m/s climb is `v tau = 0.3 m`, and a sharp turn at the top of a climb loses
+//!    `v tau ln 2 = 0.2 m` of the peak (the smoother's output meets the falling input
+//!    `tau ln 2` after the turn). Longer time constants cut the noise further but lose
+//!    more at every turn and deliver more of the lag into the first minute of a rest (5 s
+//!    gave up to 1.3 m of growth in a rest on the synthetic days, over the 1 m goal). Set 0 when the input is already filtered. Written here
 //!    rather than taken from `crate::filter` so the tracker stands alone: it is three
 //!    lines.
 //! 4. **Rest and weather.** The rest detector ([`crate::track::rest`]) decides whether the
@@ -126,7 +127,8 @@ use crate::{Error, Height, Pressure};
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct HikeConfig {
-    /// Time constant of the internal height smoother, s; 0 turns it off. Default 5 s.
+    /// Time constant of the internal height smoother, s; 0 turns it off. Default 2 s
+    /// (see the [module docs](self), step 3).
     pub smoothing_time_constant_s: f32,
     /// Hysteresis band of the totals, m. Default 3 m (see the [module docs](self)).
     pub hysteresis_band_m: f32,
@@ -477,8 +479,9 @@ impl HikeState {
     }
 
     /// `p0 * p_std(s) / p_std(displayed)`: the smoothed pressure reduced to sea level
-    /// through the U.S. 1976 atmosphere (module docs, step 7). `None` if either height is
-    /// outside the model.
+    /// through the U.S. 1976 atmosphere (module docs, step 7; `p_std` from eq. 18 and
+    /// 33a/33b, `p0` = 101 325 Pa; the ratio form is a choice of this crate). `None` if
+    /// either height is outside the model.
     fn sea_level_pressure(&self, displayed_m: f32) -> Option<Pressure> {
         let here = US_1976
             .pressure_at(Height::from_meters(self.smoothed_m).ok()?)
@@ -543,7 +546,8 @@ impl HikeState {
     }
 }
 
-/// Gain of the backward-Euler one-pole `tau dy/dt = x - y` over `dt`: `dt / (tau + dt)`;
+/// Gain of the backward-Euler one-pole `tau dy/dt = x - y` over `dt`: `dt / (tau + dt)`
+/// (`y_k = y_(k-1) + (dt / tau) (x_k - y_k)` solved for `y_k`; common practice);
 /// 1 for `tau = 0`.
 fn one_pole_gain(dt: f32, tau: f32) -> f32 {
     let g = dt / (tau + dt);

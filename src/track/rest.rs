@@ -15,6 +15,10 @@
 //!   damped second-order loop (the alpha-beta form of a type-2 tracking loop, natural
 //!   frequency `1 / T` with `T =` [`RestConfig::trend_time_constant_s`]):
 //!   `pred = L + b dt`, `e = h - pred`, `L = pred + (2 dt / T) e`, `b += (dt / T^2) e`.
+//!   For small `dt` these gains give the continuous loop the characteristic polynomial
+//!   `s^2 + (2 / T) s + 1 / T^2 = (s + 1 / T)^2`: damping ratio 1, natural frequency
+//!   `1 / T` (the standard second-order loop form `s^2 + 2 zeta wn s + wn^2`; common
+//!   practice).
 //!   It follows a steady weather drift with no lag; its slope `b` is the weather rate.
 //!   Both the slope and the speed at which the level may move are limited to the largest
 //!   weather rate, so a faster change cannot be absorbed: its departure from the

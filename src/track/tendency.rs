@@ -7,7 +7,8 @@
 //! chapter 3 (measurement of atmospheric pressure) (from memory); also the *Glossary of
 //! Meteorology*, American Meteorological Society, entry "pressure tendency" ("the
 //! character and amount of atmospheric pressure change during a specified period of time,
-//! often a three-hour period preceding an observation"). Only the amount is computed here;
+//! often a three-hour period preceding an observation"; wording quoted from memory). Only
+//! the amount is computed here;
 //! the characteristic (the shape of the change, WMO-No. 306 *Manual on Codes*, code table
 //! 0200) is not.
 //!
@@ -336,8 +337,10 @@ impl PressureTendency {
     }
 
     /// Change of the stored sea-level pressure over the last 3 hours (newest value minus
-    /// the value 18 slots earlier), hPa; negative is falling. `None` until three hours
-    /// are stored, or if either end is missing.
+    /// the value 18 slots earlier), hPa; negative is falling (the amount of the 3-hour
+    /// pressure tendency, WMO-No. 8 Part I ch. 3, from memory; see the
+    /// [module docs](self)). `None` until three hours are stored, or if either end is
+    /// missing.
     pub fn tendency_hpa(&self) -> Option<f32> {
         self.ring.tendency_hpa()
     }
