@@ -15,14 +15,25 @@
 //! `temperature_c`, `humidity_pct`, `accel_up_mps2`, `known_altitude_m`. One line is one
 //! row (`\n`, `\r\n` or `\r` ends it; a quoted field cannot span lines), and line
 //! numbers in messages count every line of the file, comments and blank ones included.
+//! Column names are matched exactly (case matters) after trimming blanks; other columns
+//! are ignored. Blanks around a field are ignored; an empty cell in an optional column
+//! means "no value" (not a bad row). Numbers: decimal point, optional sign and exponent
+//! (`+1.01325e5`); `inf`, `nan` and values beyond the physical ranges reject the row.
+//! Bytes that are not UTF-8 spoil only the rows they are in (a Latin-1 comment is fine).
 //!
 //! Output: `time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
-//! ascent_m,descent_m,flags`, one row per accepted barometer row.
+//! ascent_m,descent_m,flags`, one row per accepted barometer row. `NaN` in a numeric
+//! column means "no value": the height, speed and sigma of a flagged row before the
+//! first accepted sample (nothing to carry forward yet), and with `--filter off` the
+//! vertical speed of a log with a single accepted row. With `--filter off` the vertical
+//! speed is the height difference to the last accepted row over the time between them,
+//! whatever its size; the first accepted row, which has no row before it, shows the
+//! speed of the step after it.
 //!
 //! Exit codes: 0 success (rows may have been skipped: see the summary, which lists every
 //! bad row); 1 bad command line or a file that cannot be read or written; 2 a bad row
-//! with `--strict`; 3 no usable row at all (empty file, missing or repeated required
-//! column).
+//! with `--strict`; 3 no usable row at all (empty file, no data row, every row bad: the
+//! error lists them; missing or repeated required column).
 
 use std::collections::BTreeMap;
 use std::fs;
@@ -31,7 +42,9 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::{Parser, ValueEnum};
-use isohypse::pipeline::{Estimator, HeightModel, Output, Pipeline, Sample, Settings};
+use isohypse::pipeline::{
+    Estimator, Flags, HeightModel, Output, Pipeline, Sample, Settings, Tracking,
+};
 
 /// Replay a pressure log through the isohypse pipeline (the same per-sample pipeline
 /// the firmware runs) and write the heights, an SVG plot and a summary.
@@ -70,7 +83,8 @@ pub(crate) struct Cli {
         long,
         value_name = "K",
         allow_hyphen_values = true,
-        default_value_t = 0.0
+        default_value_t = 0.0,
+        value_parser = finite_number
     )]
     pub(crate) temperature_offset_k: f32,
     /// `off`: pointwise conversion: no smoothing, no outlier rejection, no weather hold
@@ -81,11 +95,11 @@ pub(crate) struct Cli {
     /// Height of the first row, or of the ground reference averaged over the rows at
     /// rest before motion starts; sets the datum. Without it: the standard pressure
     /// altitude (drone preset with the filter on: 0, height above the take-off point).
-    #[arg(long, value_name = "H", allow_hyphen_values = true)]
+    #[arg(long, value_name = "H", allow_hyphen_values = true, value_parser = finite_number)]
     pub(crate) start_altitude_m: Option<f32>,
     /// Latitude for gravity (sounding model, geometric heights). Without it: standard
     /// gravity 9.80665 m/s^2.
-    #[arg(long, value_name = "D", allow_hyphen_values = true)]
+    #[arg(long, value_name = "D", allow_hyphen_values = true, value_parser = finite_number)]
     pub(crate) latitude_deg: Option<f32>,
     /// Stop at the first bad row with exit code 2 instead of skipping it.
     #[arg(long)]
@@ -98,15 +112,38 @@ pub(crate) struct Cli {
 const AFTER_HELP: &str = "\
 Input columns: time_s (required), pressure_pa (required; empty only in an
 accelerometer-only row), temperature_c, humidity_pct, accel_up_mps2, known_altitude_m.
-Lines starting with # (after any blanks) are comments; blank lines are skipped.
+Names match exactly (case matters); other columns are ignored. Lines starting with #
+(after any blanks) are comments; blank lines are skipped. Blanks around fields are
+ignored; an empty optional cell means no value. Numbers like 95000, +1.01325e5; inf and
+nan are refused.
 Output columns: time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
-ascent_m,descent_m,flags.
+ascent_m,descent_m,flags. NaN means no value: a flagged row before the first accepted
+one has no height, speed or sigma. With --filter off the speed is the difference to the
+previous accepted row (the first accepted row shows the step after it).
 A bad row (wrong field count, unparsable or non-physical value, time not after the
 previous row) is reported with its line number and skipped, or stops the run with
 --strict (exit 2); line numbers count every line of the file. The first 20 messages
 are printed, the summary file lists them all. Exit codes: 0 ok, 1 usage or I/O error,
-2 bad row with --strict, 3 no usable row (or a missing or repeated column name).
+2 bad row with --strict, 3 no usable row (the error lists the bad rows) or a missing
+or repeated column name.
 Not certified for aviation, navigation or life-safety use (see SAFETY.md).";
+
+/// A numeric option value: a finite number that fits an `f32` (without this check
+/// `1e40` would become infinity and be reported as `inf`, not as what was typed).
+pub(crate) fn finite_number(text: &str) -> Result<f32, String> {
+    let v: f64 = text
+        .trim()
+        .parse()
+        .map_err(|_| format!("'{text}' is not a number"))?;
+    let f = v as f32;
+    if f.is_finite() {
+        Ok(f)
+    } else {
+        Err(format!(
+            "'{text}' is not a finite number within +-3.4e38 (NaN and infinities are refused)"
+        ))
+    }
+}
 
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
 pub(crate) enum PresetArg {
@@ -429,6 +466,12 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
     let width = headers.len();
     let mut out = Replay::default();
     let mut last_time: Option<f64> = None;
+    // What the output shows (see `shown`): the pointwise speed is the tool's own
+    // difference, and rows before the first estimate show NaN.
+    let pointwise = matches!(settings.estimator, Estimator::Off)
+        && matches!(settings.tracking, Tracking::Flight { .. });
+    let mut shown = Shown::default();
+    let mut data_rows = 0usize;
     let reject = |out: &mut Replay, line: u64, reason: &str, detail: String| {
         let message = format!("line {line}: {detail}");
         *out.rejected.entry(reason.to_string()).or_default() += 1;
@@ -439,6 +482,7 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
         Ok(())
     };
     for (line, text) in lines {
+        data_rows += 1;
         let record = match split_fields(text) {
             Ok(r) => r,
             Err(problem) => {
@@ -518,6 +562,10 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
                         *out.flag_counts.entry("accel_ignored").or_default() += 1;
                     }
                 }
+                if row.known_altitude_m.is_some() {
+                    // a fix needs the pressure of its own row; counted, not silently lost
+                    *out.flag_counts.entry("fix_ignored").or_default() += 1;
+                }
                 out.accel_rows += 1;
             }
             Some(p) => {
@@ -529,7 +577,7 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
                     accel_up_mps2: row.accel_up_mps2,
                     known_altitude_m: row.known_altitude_m,
                 };
-                let o = pipeline.process(&sample);
+                let o = shown.output(pipeline.process(&sample), pointwise);
                 for name in o.flags.names() {
                     *out.flag_counts.entry(name).or_default() += 1;
                 }
@@ -542,9 +590,111 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
         }
     }
     if out.outputs.is_empty() {
-        return Err(Failure::NoRows("no usable row with a pressure".into()));
+        let rejected: usize = out.rejected.values().sum();
+        let mut message = if data_rows == 0 {
+            format!("no data row after the header (line {header_line})")
+        } else if rejected == 0 {
+            format!(
+                "no row with a pressure ({} accelerometer-only rows)",
+                out.accel_rows
+            )
+        } else {
+            format!(
+                "no usable row: {rejected} of {data_rows} data rows rejected, {} accelerometer-only",
+                out.accel_rows
+            )
+        };
+        // the bad rows are listed here: no summary file is written for such a run
+        for m in out.messages.iter().take(20) {
+            message.push_str(&format!("\n  {m}"));
+        }
+        if out.messages.len() > 20 {
+            message.push_str(&format!("\n  ... {} more", out.messages.len() - 20));
+        }
+        return Err(Failure::NoRows(message));
+    }
+    if pointwise {
+        forward_difference_at_start(&mut out.outputs);
     }
     Ok(out)
+}
+
+/// Pointwise, the first taken row has no step behind it: once the run is over it shows
+/// the speed of the step after it (a forward difference at the start of a differenced
+/// series, as at the ends of any numerical derivative; common practice), and so do the
+/// flagged rows that carried its speed forward. A log with one taken row keeps NaN.
+fn forward_difference_at_start(outputs: &mut [(Row, Output)]) {
+    let Some(first) = outputs.iter().position(|(_, o)| o.altitude_m.is_finite()) else {
+        return;
+    };
+    let rest = outputs.get_mut(first..).unwrap_or_default();
+    let Some(speed) = rest
+        .iter()
+        .map(|(_, o)| o.vertical_speed_mps)
+        .find(|v| v.is_finite())
+    else {
+        return;
+    };
+    for (_, o) in rest
+        .iter_mut()
+        .take_while(|(_, o)| o.vertical_speed_mps.is_nan())
+    {
+        o.vertical_speed_mps = speed;
+    }
+}
+
+/// What the output table shows of the pipeline's outputs. Two departures from the raw
+/// [`Output`], both so that no number is printed that was not measured or estimated:
+///
+/// - Before the first accepted sample there is no estimate to carry forward: a flagged
+///   row there shows NaN for the height (and raw height), vertical speed and sigma,
+///   instead of the pipeline's zeroed output, which would read as a height of 0 m.
+/// - Pointwise (`--filter off`), the vertical speed of a taken sample is the difference
+///   of its height and the last taken sample's over their time step, computed here in
+///   f64. The pipeline's own difference refuses steps faster than 10 km/s or shorter
+///   than 1 ms and then repeats the last speed, which would print a stale value as if
+///   it were this step's. The first taken sample has no step: NaN here, replaced by the
+///   next step's speed once the run is over ([`forward_difference_at_start`]). A
+///   flagged sample carries the last shown values forward, as the pipeline does.
+#[derive(Debug, Default)]
+pub(crate) struct Shown {
+    /// The last taken sample (not rejected, not held back as an outlier): time and
+    /// height, and the speed shown for it.
+    last: Option<(f64, f32, f32)>,
+}
+
+impl Shown {
+    pub(crate) fn output(&mut self, mut o: Output, pointwise: bool) -> Output {
+        let taken = o.accepted() && !o.flags.contains(Flags::OUTLIER);
+        match (taken, self.last) {
+            (false, None) => {
+                // no estimate exists yet
+                o.altitude_m = f32::NAN;
+                o.raw_altitude_m = f32::NAN;
+                o.vertical_speed_mps = f32::NAN;
+                o.altitude_sigma_m = f32::NAN;
+            }
+            (false, Some((_, _, speed))) => {
+                if pointwise {
+                    o.vertical_speed_mps = speed;
+                }
+            }
+            (true, last) => {
+                if pointwise {
+                    o.vertical_speed_mps = match last {
+                        Some((t0, h0, _)) => {
+                            let v = (f64::from(o.altitude_m) - f64::from(h0)) / (o.time_s - t0);
+                            let v = v as f32;
+                            if v.is_finite() { v } else { f32::NAN }
+                        }
+                        None => f32::NAN,
+                    };
+                }
+                self.last = Some((o.time_s, o.altitude_m, o.vertical_speed_mps));
+            }
+        }
+        o
+    }
 }
 
 pub(crate) fn write_output(path: &Path, replay: &Replay) -> Result<(), Failure> {
@@ -620,10 +770,14 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> 
     if let Some((_, last)) = replay.outputs.last() {
         let _ = writeln!(
             s,
-            "totals: ascent {:.1} m, descent {:.1} m; final height {:.1} m; final phase {}",
+            "totals: ascent {:.1} m, descent {:.1} m; final height {}; final phase {}",
             last.ascent_m,
             last.descent_m,
-            last.altitude_m,
+            if last.altitude_m.is_finite() {
+                format!("{:.1} m", last.altitude_m)
+            } else {
+                "none (no accepted sample)".to_string()
+            },
             last.phase.name()
         );
         if let Some(t) = last.tendency_hpa {
@@ -697,7 +851,20 @@ pub(crate) fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<()
     let h_lo_range = range(&|p| p.1.min(p.2));
     let h_hi_range = range(&|p| p.1.max(p.2));
     let h_range = h_lo_range.start..h_hi_range.end;
-    let v_range = range(&|p| p.3);
+    // the vertical speed may be NaN (pointwise: the first row has no step)
+    let v_range = {
+        let (lo, hi) = pts
+            .iter()
+            .map(|p| p.3)
+            .filter(|v| v.is_finite())
+            .fold((f64::MAX, f64::MIN), |(a, b), v| (a.min(v), b.max(v)));
+        if lo <= hi {
+            let pad = ((hi - lo) * 0.05).max(0.5);
+            (lo - pad)..(hi + pad)
+        } else {
+            -1.0..1.0
+        }
+    };
     let root = SVGBackend::new(path, (1000, 700)).into_drawing_area();
     root.fill(&WHITE).map_err(|e| fail(e.to_string()))?;
     let (upper, lower) = root.split_vertically(430);
@@ -773,7 +940,7 @@ pub(crate) fn write_plot(path: &Path, title: &str, replay: &Replay) -> Result<()
         .map_err(|e| fail(e.to_string()))?;
     vchart
         .draw_series(LineSeries::new(
-            pts.iter().map(|p| (p.0, p.3)),
+            pts.iter().filter(|p| p.3.is_finite()).map(|p| (p.0, p.3)),
             GREEN.stroke_width(2),
         ))
         .map_err(|e| fail(e.to_string()))?
@@ -878,8 +1045,12 @@ pub(crate) const DEMOS: [Demo; 3] = [
 pub(crate) fn run(cli: &Cli) -> Result<(), Failure> {
     match &cli.input {
         Some(input) => {
-            let text = fs::read_to_string(input)
-                .map_err(|e| Failure::Io(format!("{}: {e}", input.display())))?;
+            // Bytes that are not UTF-8 (a comment written in Latin-1, a corrupt block)
+            // become U+FFFD: they spoil only the rows they are in, which are then
+            // rejected by line like any other unreadable row.
+            let bytes =
+                fs::read(input).map_err(|e| Failure::Io(format!("{}: {e}", input.display())))?;
+            let text = String::from_utf8_lossy(&bytes);
             let with = |ext: &str| PathBuf::from(format!("{}.{ext}", input.display()));
             let out = cli.out.clone().unwrap_or_else(|| with("out.csv"));
             let plot = cli.plot.clone().unwrap_or_else(|| with("svg"));

@@ -14,7 +14,9 @@ mod sim;
 
 use clap::Parser;
 use isohypse::pipeline::{Estimator, HeightModel, Output, Settings};
-use replay_tool::{Cli, DEMOS, Replay, replay, run_one, settings_for, write_output, write_plot};
+use replay_tool::{
+    Cli, DEMOS, Replay, replay, run, run_one, settings_for, write_output, write_plot,
+};
 
 fn demo(name: &str) -> (&'static str, Settings) {
     let (_, text, preset, lat, start) = DEMOS
@@ -641,4 +643,439 @@ fn pointwise_standard_output_matches_independent_us1976() {
         println!("{preset}: worst difference to the independent U.S. 1976 heights {worst:.4} m");
     }
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `log` run as the tool runs a file with the options `args` (after the file name, with
+/// `--quiet`), in a scratch directory of its own, removed after: the output table split
+/// into fields (header row first) and the summary.
+fn run_quietly(name: &str, log: &str, args: &[&str]) -> (Vec<Vec<String>>, String) {
+    let dir = scratch(name);
+    let (out, plot, summary) = (
+        dir.join("log.out.csv"),
+        dir.join("log.svg"),
+        dir.join("log.summary.txt"),
+    );
+    let mut all = vec!["log.csv", "--quiet"];
+    all.extend_from_slice(args);
+    run_one("log", log, &cli(&all), &out, &plot, &summary).unwrap();
+    let table = std::fs::read_to_string(&out).unwrap();
+    let summary = std::fs::read_to_string(&summary).unwrap();
+    // the plot is well-formed whatever the table holds (NaN included)
+    let svg = std::fs::read(&plot).unwrap();
+    resvg::usvg::Tree::from_data(&svg, &resvg::usvg::Options::default()).expect("well-formed SVG");
+    let _ = std::fs::remove_dir_all(&dir);
+    let rows = table
+        .lines()
+        .map(|l| l.split(',').map(str::to_string).collect())
+        .collect();
+    (rows, summary)
+}
+
+/// A numeric output field (`NaN` parses as NaN).
+fn num(field: &str) -> f64 {
+    field
+        .parse()
+        .unwrap_or_else(|_| panic!("not a number: {field:?}"))
+}
+
+#[test]
+fn pointwise_speed_is_the_difference_of_each_step() {
+    // Contract: `--filter off` is a pointwise conversion; the vertical speed is the
+    // height difference over the time step (the pipeline's doc of `Estimator::Off`).
+    // The pipeline's own difference refuses steps of 10 km/s or more and steps under
+    // 1 ms and then repeated the previous speed (9044 m/s printed for a 20 km step):
+    // the output must show each step's own difference. Reference heights: U.S. 1976
+    // geometric pressure altitude evaluated in f64 from the standard's constants
+    // (tests/common `US76.pressure_altitude`, U.S. Standard Atmosphere 1976 Table 4,
+    // eq. 33a/33b and eq. 18), of the pressures rounded to f32 as the tool reads them.
+    let rows: [(&str, &str); 7] = [
+        ("0", "101325"),
+        ("1", "54019.9"),
+        ("2", "5474.89"),  // +15 km in 1 s: refused by the pipeline's difference
+        ("3", "0.1"),      // above the top of U.S. 1976 (0.373 Pa): flagged
+        ("4", "868.019"),  // the step from t = 2, over 2 s
+        ("4.0005", "300"), // +7.5 km in 0.5 ms
+        ("5", "300"),
+    ];
+    let mut log = String::from("time_s,pressure_pa\n");
+    for (t, p) in rows {
+        log.push_str(&format!("{t},{p}\n"));
+    }
+    let z = |p: &str| common::US76.pressure_altitude(f64::from(p.parse::<f32>().unwrap()));
+    for preset in ["balloon", "drone", "hike"] {
+        let (table, _) = run_quietly(
+            "pointwise-speed",
+            &log,
+            &["--preset", preset, "--model", "standard", "--filter", "off"],
+        );
+        let out = &table[1..];
+        assert_eq!(out.len(), rows.len(), "{preset}");
+        assert!(out.iter().all(|r| r.len() == 9), "{preset}: {table:?}");
+        // the first row has no step behind it: it shows the step after it (a forward
+        // difference; common practice at the start of a differenced series)
+        let forward = (z(rows[1].1) - z(rows[0].1)) / 1.0;
+        let tol = common::height_limit(z(rows[1].1)) + common::height_limit(0.0) + 0.0015;
+        assert!(
+            (num(&out[0][3]) - forward).abs() <= tol,
+            "{preset}: {:?}, expected {forward} +- {tol}",
+            out[0]
+        );
+        assert_eq!(out[0][3], out[1][3], "{preset}");
+        // a log with one row has no step at all: NaN, not a made-up 0
+        let (single, _) = run_quietly(
+            "pointwise-speed-single",
+            "time_s,pressure_pa\n0,90000\n",
+            &["--preset", preset, "--model", "standard", "--filter", "off"],
+        );
+        assert_eq!(single.len(), 2, "{preset}: {single:?}");
+        assert!(num(&single[1][3]).is_nan(), "{preset}: {single:?}");
+        let mut last: Option<(f64, f64, f64)> = None; // time, height, speed shown
+        for (row, (t, p)) in out.iter().zip(rows) {
+            let t: f64 = t.parse().unwrap();
+            let speed = num(&row[3]);
+            if row[8] == "rejected_pressure" {
+                // flagged: the last speed carried forward, as the estimate is
+                assert_eq!(p, "0.1");
+                let (_, _, v) = last.unwrap();
+                assert_eq!(speed, v, "{preset}: {row:?}");
+                continue;
+            }
+            assert_eq!(row[8], "", "{preset}: {row:?}");
+            let h = z(p);
+            if let Some((t0, h0, _)) = last {
+                let expected = (h - h0) / (t - t0);
+                // each height within the crate's stated accuracy (height_limit), plus
+                // the 0.5 mm of the printed decimals, over the step; and the printed
+                // speed's own 0.5 mm/s
+                let tol = (common::height_limit(h) + common::height_limit(h0) + 0.001) / (t - t0)
+                    + 0.0005;
+                assert!(
+                    (speed - expected).abs() <= tol,
+                    "{preset}: t = {t}: {speed} m/s, expected {expected} +- {tol}"
+                );
+            }
+            last = Some((t, h, speed));
+        }
+        // the 15 km step and the 0.5 ms step are shown as they are, not as the speed
+        // before them
+        assert!(num(&out[2][3]) > 15_000.0, "{preset}: {:?}", out[2]);
+        assert!(num(&out[5][3]) > 1.0e7, "{preset}: {:?}", out[5]);
+    }
+}
+
+#[test]
+fn rows_before_the_first_estimate_show_no_number() {
+    // Contract: a valid row the filters reject still gives an output row with the
+    // estimate carried forward. Before the first accepted sample there is none: the
+    // height, speed and sigma show NaN (not 0, which reads as a height), the row keeps
+    // its nine fields and its flag. 0.1 Pa is above the top of U.S. 1976 (0.373 Pa,
+    // U.S. Standard Atmosphere 1976 Table 4 as cited at `atmosphere::US_1976`).
+    let log = "time_s,pressure_pa\n0,0.1\n1,0.2\n2,95000\n3,0.1\n4,95010\n";
+    for preset in ["balloon", "drone", "hike"] {
+        for filter in ["on", "off"] {
+            let (table, _) = run_quietly(
+                "no-estimate",
+                log,
+                &["--preset", preset, "--filter", filter],
+            );
+            let out = &table[1..];
+            assert_eq!(out.len(), 5, "{preset} {filter}: {table:?}");
+            for row in &out[..2] {
+                assert_eq!(row.len(), 9);
+                for (i, column) in [
+                    (2, "altitude_m"),
+                    (3, "vertical_speed_mps"),
+                    (4, "altitude_sigma_m"),
+                ] {
+                    assert!(
+                        num(&row[i]).is_nan(),
+                        "{preset} {filter}: {column} of a row without an estimate: {row:?}"
+                    );
+                }
+                assert_eq!(row[8], "rejected_pressure");
+                // nothing climbed yet: the totals are a true 0
+                assert_eq!((num(&row[6]), num(&row[7])), (0.0, 0.0));
+            }
+            // from the first accepted row on, numbers; the flagged row after it carries
+            // the estimate forward
+            assert!(num(&out[2][2]).is_finite() && num(&out[2][4]).is_finite());
+            assert_eq!(out[3][8], "rejected_pressure");
+            assert_eq!(out[3][2], out[2][2], "{preset} {filter}: carried forward");
+            assert_eq!(out[3][4], out[2][4]);
+            assert!(num(&out[4][2]).is_finite() && num(&out[4][3]).is_finite());
+        }
+    }
+    // every row flagged: the summary says there is no final height instead of 0 m
+    let (_, summary) = run_quietly("no-estimate-all", "time_s,pressure_pa\n0,0.1\n1,0.2\n", &[]);
+    assert!(
+        summary.contains("final height none (no accepted sample)"),
+        "{summary}"
+    );
+}
+
+#[test]
+fn number_formats_blanks_empty_cells_and_unknown_columns() {
+    // Contract: columns by name (others are not read); a row is rejected for an
+    // unparsable or non-physical value. Blanks around a field, a `+` sign and
+    // exponents are ordinary number text (Rust's and C's number syntax, common
+    // practice in CSV files); an empty optional cell means "no value" and is no reason
+    // to reject the row. inf and nan are not physical values.
+    let log = "\
+time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
+0,95000,,,start,
+1 ,  +9.5e4 ,+15, 40 ,\"blanks, signs\",
+2,\t9.5E+04\t, , ,,
+3,95000.0,1.5e1,4e1,x,
+4,inf,15,40,,
+5,95000,nan,40,,
+6,95000,15,-inf,,
+7,95000,15,100.5,,
+8,-95000,15,40,,
+9,95000,-274,40,,
+10,NaN,15,40,,
+11,95000,15,40,,1e999
+";
+    let r = replay(log, Settings::hike(), false).unwrap();
+    let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
+    assert_eq!(times, [0.0, 1.0, 2.0, 3.0], "{:?}", r.messages);
+    // rows 1 to 3 read the same pressure as row 0; empty cells are no value
+    for (row, _) in &r.outputs {
+        assert_eq!(row.pressure_pa, Some(95_000.0));
+        assert_eq!(row.known_altitude_m, None);
+    }
+    assert_eq!(r.outputs[0].0.temperature_c, None);
+    assert_eq!(r.outputs[2].0.humidity_pct, None);
+    assert_eq!(r.outputs[1].0.temperature_c, Some(15.0));
+    assert_eq!(r.outputs[3].0.humidity_pct, Some(40.0));
+    // U.S. 1976 pressure altitude of 95 000 Pa, f64 from the standard's constants
+    // (tests/common `US76`), within the crate's stated accuracy
+    let z = common::US76.pressure_altitude(95_000.0);
+    assert!((f64::from(r.outputs[0].1.altitude_m) - z).abs() <= common::height_limit(z));
+    for (line, text) in [
+        (6, "pressure_pa is not finite"),
+        (7, "temperature_c is not finite"),
+        (8, "humidity_pct is not finite"),
+        (9, "humidity_pct 100.5 outside 0..100"),
+        (10, "pressure_pa must be positive"),
+        (11, "temperature_c -274"),
+        (12, "pressure_pa is not finite"),
+        (13, "known_altitude_m is not finite"),
+    ] {
+        assert!(
+            r.messages
+                .iter()
+                .any(|m| m.starts_with(&format!("line {line}: ")) && m.contains(text)),
+            "line {line} ({text}) missing in {:?}",
+            r.messages
+        );
+    }
+    assert_eq!(r.messages.len(), 8);
+    // a known elevation in an accelerometer-only row (no pressure) cannot be used: it
+    // is counted, not dropped silently
+    let r = replay(
+        "time_s,pressure_pa,accel_up_mps2,known_altitude_m\n0,95000,0,\n0.5,,0.1,700\n1,95010,0,\n",
+        Settings::drone(),
+        false,
+    )
+    .unwrap();
+    assert_eq!((r.outputs.len(), r.accel_rows), (2, 1));
+    assert_eq!(r.flag_counts.get("fix_ignored"), Some(&1));
+}
+
+#[test]
+fn bytes_that_are_not_utf8_spoil_only_their_rows() {
+    // Contract: a bad row is rejected whole and the run goes on. A comment in Latin-1
+    // (0xB0 for the degree sign) made the whole file unreadable (exit 1); now only a
+    // row holding such bytes is rejected, with its line.
+    let dir = scratch("latin1");
+    let input = dir.join("log.csv");
+    std::fs::write(
+        &input,
+        b"# temperature in \xb0C\ntime_s,pressure_pa,temperature_c\n0,95000,10\n1,95\xb0,10\n2,95010,10\n",
+    )
+    .unwrap();
+    let input_s = input.to_string_lossy().into_owned();
+    let c = cli(&[&input_s, "--preset", "hike", "--quiet"]);
+    run(&c).unwrap();
+    let table = std::fs::read_to_string(dir.join("log.csv.out.csv")).unwrap();
+    let summary = std::fs::read_to_string(dir.join("log.csv.summary.txt")).unwrap();
+    let _ = std::fs::remove_dir_all(&dir);
+    let times: Vec<&str> = table
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap())
+        .collect();
+    assert_eq!(times, ["0", "2"], "{table}");
+    assert!(
+        summary.contains("line 4: pressure_pa is not a number"),
+        "{summary}"
+    );
+}
+
+#[test]
+fn unusable_files_say_why_and_list_their_bad_rows() {
+    // Contract: each rejected row gets a message naming its line. When no row is
+    // usable the run stops (exit 3) before any summary file is written, so the error
+    // itself must carry the messages; a header-only file says it has no data row.
+    let err = replay(
+        "time_s,pressure_pa\n0,abc\n# note\n1,-5\n",
+        Settings::hike(),
+        false,
+    )
+    .unwrap_err();
+    assert_eq!(err.code(), 3);
+    let m = err.message();
+    assert!(m.contains("2 of 2 data rows rejected"), "{m}");
+    assert!(m.contains("line 2: pressure_pa is not a number"), "{m}");
+    assert!(m.contains("line 4: pressure_pa must be positive"), "{m}");
+    let err = replay("# log 12\ntime_s,pressure_pa\n\n", Settings::hike(), false).unwrap_err();
+    assert_eq!(err.code(), 3);
+    assert!(
+        err.message()
+            .contains("no data row after the header (line 2)"),
+        "{}",
+        err.message()
+    );
+    let err = replay("\u{feff}# only comments\n# here\n", Settings::hike(), false).unwrap_err();
+    assert_eq!(err.code(), 3);
+    assert!(err.message().contains("no header row"), "{}", err.message());
+    // --strict: a bad row stops the run with 2, a flagged (valid) row does not
+    assert_eq!(
+        replay("time_s,pressure_pa\n0,95000\n1,x\n", Settings::hike(), true)
+            .unwrap_err()
+            .code(),
+        2
+    );
+    let r = replay(
+        "time_s,pressure_pa\n0,0.1\n1,95000\n",
+        Settings::hike(),
+        true,
+    )
+    .unwrap();
+    assert_eq!(r.outputs.len(), 2);
+}
+
+#[test]
+fn numeric_options_must_be_finite_numbers() {
+    // `1e40` does not fit an f32: it was read as infinity and reported as `inf`; NaN
+    // and infinities are no latitude, height or temperature offset. Refused by the
+    // command line parser (exit 1), naming what was typed.
+    for option in [
+        "--latitude-deg",
+        "--start-altitude-m",
+        "--temperature-offset-k",
+    ] {
+        for value in ["1e40", "nan", "inf", "-inf", "ten"] {
+            let err = Cli::try_parse_from(["replay", "in.csv", option, value]).unwrap_err();
+            let text = err.to_string();
+            assert!(text.contains(option) && text.contains(value), "{text}");
+            assert!(err.use_stderr());
+        }
+    }
+    let c = cli(&[
+        "in.csv",
+        "--start-altitude-m",
+        "-12.5",
+        "--latitude-deg",
+        " 47.5",
+    ]);
+    assert_eq!(
+        (c.start_altitude_m, c.latitude_deg),
+        (Some(-12.5), Some(47.5))
+    );
+}
+
+#[test]
+fn start_altitude_sets_the_datum_for_every_preset() {
+    // Contract: `--start-altitude-m H` is the height of the first row, or of the ground
+    // reference averaged over the rows at rest before motion. A log at rest (constant
+    // pressure) reads H on every row at rest, for every preset, filter on or off; with
+    // the filter off, a step to another pressure reads H plus the difference of the
+    // two U.S. 1976 pressure altitudes (f64 from the standard's constants,
+    // tests/common `US76`).
+    let mut log = String::from("time_s,pressure_pa\n");
+    for i in 0..20 {
+        log.push_str(&format!("{i},95000\n"));
+    }
+    log.push_str("20,89874.6\n");
+    let dz = common::US76.pressure_altitude(89_874.6_f32.into())
+        - common::US76.pressure_altitude(95_000.0);
+    for preset in ["balloon", "drone", "hike"] {
+        for filter in ["on", "off"] {
+            let (table, _) = run_quietly(
+                "start-altitude",
+                &log,
+                &[
+                    "--preset",
+                    preset,
+                    "--filter",
+                    filter,
+                    "--model",
+                    "standard",
+                    "--start-altitude-m",
+                    "500",
+                ],
+            );
+            let out = &table[1..];
+            assert_eq!(out.len(), 21);
+            for row in &out[..20] {
+                assert!(
+                    (num(&row[2]) - 500.0).abs() <= 0.0005,
+                    "{preset} {filter}: {row:?}"
+                );
+            }
+            if filter == "off" {
+                let got = num(&out[20][2]);
+                let tol = 2.0 * common::height_limit(1000.0) + 0.0005;
+                assert!(
+                    (got - (500.0 + dz)).abs() <= tol,
+                    "{preset}: {got}, expected {}",
+                    500.0 + dz
+                );
+            }
+        }
+    }
+}
+
+#[test]
+fn sounding_without_latitude_uses_standard_gravity() {
+    // Contract: `--model sounding` integrates layer by layer from the first row with
+    // each row's temperature and humidity; without `--latitude-deg`, gravity is the
+    // standard 9.80665 m/s^2. Independent computation: for dry air at a constant
+    // 15 degC, the hypsometric equation gives the geopotential thickness
+    // H = (R*/M0) T / g0 ln(p0/p), and geometric height z = r0 H / (r0 - H), with the
+    // U.S. 1976 constants R* = 8.31432 J/(mol K), M0 = 0.0289644 kg/mol,
+    // g0 = 9.80665 m/s^2, r0 = 6 356 766 m (U.S. Standard Atmosphere 1976, section 1.2
+    // and eq. 18). The first row at 101 325 Pa is at its pressure altitude, 0 m.
+    let log = "time_s,pressure_pa,temperature_c,humidity_pct\n0,101325,15,0\n1,95000,15,0\n2,80000,15,0\n3,60000,15,0\n";
+    let (r_air, t, g0, r0) = (8.31432 / 0.0289644, 288.15, 9.80665, 6_356_766.0);
+    let heights = |args: &[&str]| -> Vec<f64> {
+        let mut all = vec!["--model", "sounding", "--filter", "off"];
+        all.extend_from_slice(args);
+        let (table, _) = run_quietly("sounding", log, &all);
+        table[1..].iter().map(|row| num(&row[2])).collect()
+    };
+    let standard = heights(&[]);
+    assert_eq!(standard.len(), 4);
+    assert!(standard[0].abs() <= 0.0005, "{standard:?}");
+    for (z, p) in standard[1..].iter().zip([95_000.0f64, 80_000.0, 60_000.0]) {
+        let h = r_air * t / g0 * (101_325.0 / p).ln();
+        let expected = r0 * h / (r0 - h);
+        // the crate's stated accuracy (height_limit) and the printed decimals
+        assert!(
+            (z - expected).abs() <= common::height_limit(expected) + 0.0005,
+            "{p} Pa: {z} m, expected {expected} m"
+        );
+    }
+    // with a latitude the gravity follows it: less than standard at the equator, more
+    // at the poles (normal gravity about 9.780 and 9.832 m/s^2, WGS-84, from memory),
+    // so the same column is thicker at the equator and thinner at the poles
+    let equator = heights(&["--latitude-deg", "0"]);
+    let pole = heights(&["--latitude-deg", "90"]);
+    for i in 1..4 {
+        assert!(
+            equator[i] > standard[i] && standard[i] > pole[i],
+            "{equator:?} {standard:?} {pole:?}"
+        );
+    }
 }

@@ -9,7 +9,9 @@
 //! the file (bytes that are not UTF-8 are replaced, as a lossy read would).
 //!
 //! Checks, besides "never panics": every output row's numbers are finite (a rejected
-//! sample carries the previous, finite, estimate forward), and every rejected row has a
+//! sample carries the previous, finite, estimate forward) except the NaN the tool
+//! prints for "no value" (height, speed and sigma of a row before the first accepted
+//! one; a pointwise speed without a step), never infinite; and every rejected row has a
 //! message naming its line (unless the run stopped with `--strict`).
 #![no_main]
 
@@ -17,7 +19,7 @@
 #[path = "../../../examples/replay.rs"]
 mod replay;
 
-use isohypse::pipeline::{Estimator, Settings};
+use isohypse::pipeline::{Estimator, Flags, Settings};
 use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
@@ -41,13 +43,19 @@ fuzz_target!(|data: &[u8]| {
     let text = String::from_utf8_lossy(rest);
     match replay::replay(&text, settings, strict) {
         Ok(run) => {
+            let mut estimate = false;
             for (row, o) in &run.outputs {
                 assert!(row.time_s.is_finite());
-                assert!(
+                estimate |= o.accepted() && !o.flags.contains(Flags::OUTLIER);
+                assert_eq!(
+                    estimate,
                     o.altitude_m.is_finite()
                         && o.raw_altitude_m.is_finite()
-                        && o.vertical_speed_mps.is_finite()
-                        && o.altitude_sigma_m.is_finite()
+                        && o.altitude_sigma_m.is_finite(),
+                    "height and sigma are numbers exactly once an estimate exists: {o:?} for row {row:?}"
+                );
+                assert!(
+                    !o.vertical_speed_mps.is_infinite()
                         && o.ascent_m.is_finite()
                         && o.descent_m.is_finite(),
                     "non-finite output {o:?} for row {row:?}"
