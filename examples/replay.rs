@@ -792,6 +792,9 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> 
             let _ = writeln!(s, "  {phase:<8} from t = {t:.1} s at {h:.1} m");
         }
     }
+    if let Some(note) = slow_log_note(settings, replay) {
+        let _ = writeln!(s, "{note}");
+    }
     if !replay.flag_counts.is_empty() {
         let list: Vec<String> = replay
             .flag_counts
@@ -801,6 +804,37 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, replay: &Replay) -> 
         let _ = writeln!(s, "flags: {}", list.join(", "));
     }
     s
+}
+
+/// A note for a log whose barometer rows are further apart than the Kalman filter's
+/// dropout step (`VerticalKalmanConfig::max_step_s`: 0.5 s in the drone preset): each
+/// such step is a dropout, so (nearly) every sample re-acquires at its own measurement,
+/// and the height is unfiltered and the speed meaningless. The preset is the user's
+/// choice, so the run goes on; the note says why the output looks so. `None` when the
+/// median step is within the dropout step or there is no Kalman filter.
+pub(crate) fn slow_log_note(settings: &Settings, replay: &Replay) -> Option<String> {
+    let Estimator::Kalman(config) = settings.estimator else {
+        return None;
+    };
+    let mut steps: Vec<f64> = replay
+        .outputs
+        .windows(2)
+        .map(|w| w[1].0.time_s - w[0].0.time_s)
+        .collect();
+    if steps.is_empty() {
+        return None;
+    }
+    steps.sort_by(f64::total_cmp);
+    let median = steps[steps.len() / 2];
+    (median > f64::from(config.max_step_s)).then(|| {
+        format!(
+            "note: the median step between barometer rows is {median:.3} s, longer than this \
+             preset's dropout step ({} s): the filter re-acquires at nearly every sample, so \
+             heights are unfiltered and speeds not estimated; a preset for slower logs \
+             (--preset balloon or hike) suits this log",
+            config.max_step_s
+        )
+    })
 }
 
 /// (time s, raw height m, filtered height m, vertical speed m/s, total ascent m)

@@ -1079,3 +1079,37 @@ fn sounding_without_latitude_uses_standard_gravity() {
         );
     }
 }
+
+#[test]
+fn a_log_slower_than_the_dropout_step_is_noted() {
+    // The drone preset's Kalman filter treats a step over 0.5 s as a dropout
+    // (`VerticalKalmanConfig::max_step_s`), so a 1 Hz log re-acquires at every sample.
+    // The summary says so (the run itself goes on: the preset is the user's choice),
+    // and says nothing for a log at the preset's own rate. Invented log: a slow climb
+    // of about 1 m/s from 95 000 Pa (about 0.12 hPa per second near 540 m; U.S. 1976
+    // troposphere, common practice for the slope).
+    let log_at = |step_s: f64, rows: usize| {
+        let mut log = String::from("time_s,pressure_pa\n");
+        for k in 0..rows {
+            let t = k as f64 * step_s;
+            log.push_str(&format!("{t},{}\n", 95_000.0 - 11.5 * t));
+        }
+        log
+    };
+    let (slow, summary) = run_quietly("slow-log", &log_at(1.0, 60), &["--preset", "drone"]);
+    assert!(
+        summary.contains("note: the median step between barometer rows is 1.000 s"),
+        "{summary}"
+    );
+    // what the note claims: nearly every sample re-acquires
+    let reacquired = slow[1..]
+        .iter()
+        .filter(|r| r[8].contains("reacquired"))
+        .count();
+    assert!(reacquired >= 55, "{reacquired} of 60 rows re-acquired");
+    let (_, summary) = run_quietly("fast-log", &log_at(0.02, 500), &["--preset", "drone"]);
+    assert!(!summary.contains("note: the median step"), "{summary}");
+    // no Kalman filter, no note
+    let (_, summary) = run_quietly("slow-log-hike", &log_at(1.0, 60), &["--preset", "hike"]);
+    assert!(!summary.contains("note: the median step"), "{summary}");
+}
