@@ -36,6 +36,9 @@ mod with_library {
     /// pressure noise times `R T / (g p)`, about 0.085 m/Pa near the demo field.
     const KALMAN_ROW_SIGMA_M: f32 = 0.125;
 
+    /// Accelerometer period at the design notes' drone rate (200 Hz), s.
+    const ACCEL_PERIOD_S: f64 = 0.005;
+
     /// `Pipeline::process` of the drone preset, never inlined into the harness, so that
     /// the pipeline's code shows under a library symbol in the ELF (`elf_sizes.py
     /// --symbols`) and its calls can be profiled (`profile.py`).
@@ -256,6 +259,7 @@ mod with_library {
             Ok(mut drone_no_accel),
             Ok(mut drone_fresh),
             Ok(mut drone_reuse),
+            Ok(mut drone_multi),
         ) = (
             demo::drone_pipeline(),
             demo::balloon_pipeline(),
@@ -263,6 +267,7 @@ mod with_library {
             demo::drone_pipeline(),
             demo::drone_pipeline(),
             demo::drone_reuse_pipeline(),
+            demo::drone_pipeline(),
         )
         else {
             hprintln!("error: a preset failed to build");
@@ -272,6 +277,7 @@ mod with_library {
         // warm-up has no accelerometer samples either); `drone_fresh` starts cold
         warm_up(&mut drone, lib_process_drone);
         warm_up(&mut drone_reuse, lib_process_drone_reuse);
+        warm_up(&mut drone_multi, lib_process_drone);
         demo::drone_warm_up(&DRONE_PRESSURE_PA, &DRONE_ACCEL_MPS2, |s| {
             let mut s = *s;
             s.accel_up_mps2 = None;
@@ -340,6 +346,30 @@ mod with_library {
         let mut drone_reuse_inputs = drone_inputs;
         let mut drone_fresh_step =
             |i: usize| lib_process_drone(&mut drone_fresh, &drone_sample(i)).altitude_m;
+        // The design's drone rates: the accelerometer at 200 Hz, the barometer at 50 Hz.
+        // One 20 ms cycle is a barometer sample with the accelerometer sample of its
+        // instant, then three accelerometer samples 5, 10 and 15 ms later (the demo's
+        // 50 Hz accelerometer value repeated: the count does not depend on the value).
+        let mut drone_multi_step = |i: usize| {
+            let s = drone_sample(i);
+            let a = at(&DRONE_ACCEL_MPS2, i);
+            let h = lib_process_drone(&mut drone_multi, &s).altitude_m;
+            for k in 1..4 {
+                let t = s.time_s + k as f64 * ACCEL_PERIOD_S;
+                let _ = drone_multi.accelerometer(black_box(t), black_box(a));
+            }
+            h
+        };
+        let mut drone_multi_inputs = |i: usize| {
+            let s = drone_sample(i);
+            for k in 1..4 {
+                black_box((
+                    s.time_s + k as f64 * ACCEL_PERIOD_S,
+                    at(&DRONE_ACCEL_MPS2, i),
+                ));
+            }
+            black_box(&s).pressure_pa
+        };
         let mut drone_no_accel_step = |i: usize| {
             let mut s = drone_sample(i);
             s.accel_up_mps2 = None;
@@ -376,7 +406,7 @@ mod with_library {
             black_box(&s).pressure_pa
         };
 
-        let rows: [FlightRow; 9] = [
+        let rows: [FlightRow; 10] = [
             (
                 "VerticalKalman::predict + correct_with_sigma (drone config, 50 Hz hop)",
                 &mut kalman_step,
@@ -411,6 +441,12 @@ mod with_library {
                 "Pipeline::<2>::process, drone preset (p + accel, first 4 s from start)",
                 &mut drone_fresh_step,
                 &mut drone_fresh_inputs,
+                DEMO_COUNT,
+            ),
+            (
+                "one 20 ms cycle at the design's rates, drone preset: process (p + accel) then 3 x Pipeline::accelerometer (200 Hz accelerometer, 50 Hz barometer; per cycle)",
+                &mut drone_multi_step,
+                &mut drone_multi_inputs,
                 DEMO_COUNT,
             ),
             (
