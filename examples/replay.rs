@@ -131,10 +131,8 @@ Not certified for aviation, navigation or life-safety use (see SAFETY.md).";
 /// A numeric option value: a finite number that fits an `f32` (without this check
 /// `1e40` would become infinity and be reported as `inf`, not as what was typed).
 pub(crate) fn finite_number(text: &str) -> Result<f32, String> {
-    let v: f64 = text
-        .trim()
-        .parse()
-        .map_err(|_| format!("'{text}' is not a number"))?;
+    // parsed and checked as a cell is, then narrowed
+    let v = cell(Some(text), "the value")?.ok_or_else(|| "no value given".to_string())?;
     let f = v as f32;
     if f.is_finite() {
         Ok(f)

@@ -348,14 +348,22 @@ fn scratch(name: &str) -> std::path::PathBuf {
 /// `log` run as the tool runs a file (`--preset hike --quiet`) in a scratch directory of
 /// its own, which is removed after: the output table, the SVG plot and the summary.
 fn run_hike_quietly(name: &str, log: &str) -> (String, Vec<u8>, String) {
+    run_in_scratch(name, log, &["--preset", "hike"])
+}
+
+/// `log` run as the tool runs a file with the options `args` (after the file name, with
+/// `--quiet`), in a scratch directory of its own, which is removed after: the output
+/// table, the SVG plot and the summary, as written.
+fn run_in_scratch(name: &str, log: &str, args: &[&str]) -> (String, Vec<u8>, String) {
     let dir = scratch(name);
     let (out, plot, summary) = (
         dir.join("log.out.csv"),
         dir.join("log.svg"),
         dir.join("log.summary.txt"),
     );
-    let c = cli(&["log.csv", "--preset", "hike", "--quiet"]);
-    run_one("log", log, &c, &out, &plot, &summary).unwrap();
+    let mut all = vec!["log.csv", "--quiet"];
+    all.extend_from_slice(args);
+    run_one("log", log, &cli(&all), &out, &plot, &summary).unwrap();
     let files = (
         std::fs::read_to_string(&out).unwrap(),
         std::fs::read(&plot).unwrap(),
@@ -649,21 +657,9 @@ fn pointwise_standard_output_matches_independent_us1976() {
 /// `--quiet`), in a scratch directory of its own, removed after: the output table split
 /// into fields (header row first) and the summary.
 fn run_quietly(name: &str, log: &str, args: &[&str]) -> (Vec<Vec<String>>, String) {
-    let dir = scratch(name);
-    let (out, plot, summary) = (
-        dir.join("log.out.csv"),
-        dir.join("log.svg"),
-        dir.join("log.summary.txt"),
-    );
-    let mut all = vec!["log.csv", "--quiet"];
-    all.extend_from_slice(args);
-    run_one("log", log, &cli(&all), &out, &plot, &summary).unwrap();
-    let table = std::fs::read_to_string(&out).unwrap();
-    let summary = std::fs::read_to_string(&summary).unwrap();
+    let (table, svg, summary) = run_in_scratch(name, log, args);
     // the plot is well-formed whatever the table holds (NaN included)
-    let svg = std::fs::read(&plot).unwrap();
     resvg::usvg::Tree::from_data(&svg, &resvg::usvg::Options::default()).expect("well-formed SVG");
-    let _ = std::fs::remove_dir_all(&dir);
     let rows = table
         .lines()
         .map(|l| l.split(',').map(str::to_string).collect())
