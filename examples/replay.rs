@@ -45,6 +45,7 @@ use clap::{Parser, ValueEnum};
 use isohypse::pipeline::{
     Estimator, Flags, HeightModel, Output, Pipeline, Sample, Settings, Tracking,
 };
+use isohypse::time::Instant;
 
 /// Replay a pressure log through the isohypse pipeline (the same per-sample pipeline
 /// the firmware runs) and write the heights, an SVG plot and a summary.
@@ -464,6 +465,8 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
     let width = headers.len();
     let mut out = Replay::default();
     let mut last_time: Option<f64> = None;
+    // The library takes integer microseconds from an epoch: the first row's time.
+    let mut epoch: Option<f64> = None;
     // What the output shows (see `shown`): the pointwise speed is the tool's own
     // difference, and rows before the first estimate show NaN.
     let pointwise = matches!(settings.estimator, Estimator::Off)
@@ -552,11 +555,13 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
             }
         }
         last_time = Some(row.time_s);
+        let t0 = *epoch.get_or_insert(row.time_s);
+        let instant = Instant::from_micros(((row.time_s - t0) * 1.0e6).round() as u64);
         match row.pressure_pa {
             None => {
                 // accelerometer-only row
                 if let Some(a) = row.accel_up_mps2 {
-                    if pipeline.accelerometer(row.time_s, a).is_err() {
+                    if pipeline.accelerometer(instant, a).is_err() {
                         *out.flag_counts.entry("accel_ignored").or_default() += 1;
                     }
                 }
@@ -568,20 +573,23 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
             }
             Some(p) => {
                 let sample = Sample {
-                    time_s: row.time_s,
+                    time: instant,
                     pressure_pa: p,
                     temperature_c: row.temperature_c,
                     humidity_pct: row.humidity_pct,
                     accel_up_mps2: row.accel_up_mps2,
                     known_altitude_m: row.known_altitude_m,
                 };
-                let o = shown.output(pipeline.process(&sample), pointwise);
+                let o = shown.output(pipeline.process(&sample), row.time_s, pointwise);
                 for name in o.flags.names() {
                     *out.flag_counts.entry(name).or_default() += 1;
                 }
                 if let Some(e) = o.event {
-                    out.events
-                        .push((e.phase.name().to_string(), e.time_s, e.height_m));
+                    out.events.push((
+                        e.phase.name().to_string(),
+                        t0 + e.time.as_micros() as f64 * 1.0e-6,
+                        e.height_m,
+                    ));
                 }
                 out.outputs.push((row, o));
             }
@@ -662,7 +670,7 @@ pub(crate) struct Shown {
 }
 
 impl Shown {
-    pub(crate) fn output(&mut self, mut o: Output, pointwise: bool) -> Output {
+    pub(crate) fn output(&mut self, mut o: Output, time_s: f64, pointwise: bool) -> Output {
         let taken = o.accepted() && !o.flags.contains(Flags::OUTLIER);
         match (taken, self.last) {
             (false, None) => {
@@ -681,14 +689,14 @@ impl Shown {
                 if pointwise {
                     o.vertical_speed_mps = match last {
                         Some((t0, h0, _)) => {
-                            let v = (f64::from(o.altitude_m) - f64::from(h0)) / (o.time_s - t0);
+                            let v = (f64::from(o.altitude_m) - f64::from(h0)) / (time_s - t0);
                             let v = v as f32;
                             if v.is_finite() { v } else { f32::NAN }
                         }
                         None => f32::NAN,
                     };
                 }
-                self.last = Some((o.time_s, o.altitude_m, o.vertical_speed_mps));
+                self.last = Some((time_s, o.altitude_m, o.vertical_speed_mps));
             }
         }
         o

@@ -45,12 +45,16 @@ pub enum Error {
     /// A sample was finite but outside the range the receiving filter accepts as
     /// physical (for example an acceleration beyond the configured limit).
     SampleOutOfRange,
+    /// A time stamp lay further ahead of the latest one than the settings' longest gap
+    /// (a glitched clock); the sample was not taken.
+    TimeJump,
 }
 
 impl core::fmt::Display for Error {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         let text = match self {
             Error::NotFinite => "value is NaN or infinite",
+            Error::TimeJump => "time stamp too far ahead of the latest one",
             Error::PressureNotPositive => "pressure is zero or negative",
             Error::TemperatureNotPositive => "temperature is at or below absolute zero",
             Error::TemperatureOutOfRange => "temperature outside the accepted range for air",

@@ -17,11 +17,11 @@
 //!
 //! ```
 //! use isohypse::flight::{FlightPhases, Phase, PhaseSettings};
+//! use isohypse::time::Instant;
 //! let mut phases = FlightPhases::new(PhaseSettings::BALLOON)?;
-//! let mut t = 0.0;
-//! while t < 30.0 {
-//!     phases.update(t, 5.0 * t as f32, 5.0)?; // rising at 5 m/s
-//!     t += 1.0;
+//! for s in 0..30 {
+//!     let t = Instant::from_secs(s);
+//!     phases.update(t, 5.0 * s as f32, 5.0)?; // rising at 5 m/s
 //! }
 //! assert_eq!(phases.phase(), Phase::Ascent);
 //! # Ok::<(), isohypse::Error>(())
@@ -29,6 +29,7 @@
 
 use crate::Error;
 use crate::filter;
+use crate::time::Instant;
 use core::borrow::Borrow;
 
 /// The phase of a flight.
@@ -73,7 +74,7 @@ pub struct PhaseEvent {
     pub phase: Phase,
     /// Time the condition started to hold (the debounce start), s: the confirming
     /// sample's time minus the summed steps since then.
-    pub time_s: f64,
+    pub time: Instant,
     /// Height at that time, m.
     pub height_m: f32,
 }
@@ -174,11 +175,11 @@ pub struct FlightPhases<S = PhaseSettings> {
     core: PhaseCore<S>,
     /// Time of the latest sample, s, if `has_time` (8 bytes and a flag, not the 16 of an
     /// `Option`).
-    last_time_s: f64,
+    last_time: Instant,
     /// Time of the apex, s (valid while the core has an apex).
-    apex_time_s: f64,
+    apex_time: Instant,
     /// Start time of the most recent phase change, s (valid while the core has one).
-    event_time_s: f64,
+    event_time: Instant,
     has_time: bool,
 }
 
@@ -254,12 +255,15 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
         (self.apex_m > f32::NEG_INFINITY).then_some(self.apex_m)
     }
 
-    /// The most recent phase change, its start time formed from `time_s`, the time of
+    /// The most recent phase change, its start time formed from `time`, the time of
     /// the sample that confirmed it (minus the hold then).
-    pub(crate) fn event_confirmed_at(&self, time_s: f64) -> Option<PhaseEvent> {
+    pub(crate) fn event_confirmed_at(&self, time: Instant) -> Option<PhaseEvent> {
         self.event_phase.map(|phase| PhaseEvent {
             phase,
-            time_s: crate::timebits::minus_step(time_s, self.event_held_s),
+            time: time.saturating_sub(
+                crate::time::Duration::from_secs_f32(self.event_held_s)
+                    .unwrap_or(crate::time::Duration::ZERO),
+            ),
             height_m: self.event_m,
         })
     }
@@ -362,9 +366,9 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
     pub fn new(settings: S) -> Result<Self, Error> {
         Ok(Self {
             core: PhaseCore::new(settings)?,
-            last_time_s: 0.0,
-            apex_time_s: 0.0,
-            event_time_s: 0.0,
+            last_time: Instant::ZERO,
+            apex_time: Instant::ZERO,
+            event_time: Instant::ZERO,
             has_time: false,
         })
     }
@@ -386,16 +390,16 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         Ok(())
     }
 
-    /// Highest height seen since launch and its time, `(time_s, height_m)`.
-    pub fn apex(&self) -> Option<(f64, f32)> {
-        self.core.apex_m().map(|h| (self.apex_time_s, h))
+    /// Highest height seen since launch and its time, `(time, height_m)`.
+    pub fn apex(&self) -> Option<(Instant, f32)> {
+        self.core.apex_m().map(|h| (self.apex_time, h))
     }
 
     /// The most recent phase change.
     pub fn last_event(&self) -> Option<PhaseEvent> {
         self.core.event_phase.map(|phase| PhaseEvent {
             phase,
-            time_s: self.event_time_s,
+            time: self.event_time,
             height_m: self.core.event_m,
         })
     }
@@ -406,29 +410,28 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
     /// [`Error::NotFinite`], [`Error::NotIncreasing`] for time.
     pub fn update(
         &mut self,
-        time_s: f64,
+        time: Instant,
         height_m: f32,
         speed_mps: f32,
     ) -> Result<Option<PhaseEvent>, Error> {
         let dt = if self.has_time {
-            filter::step_s(self.last_time_s, time_s)?
+            filter::step_s(self.last_time, time)?
         } else {
-            filter::check_time(time_s)?;
             0.0
         };
         let step = self.core.step(dt, height_m, speed_mps)?;
-        self.last_time_s = time_s;
+        self.last_time = time;
         self.has_time = true;
         if step.apex {
-            self.apex_time_s = time_s;
+            self.apex_time = time;
         }
         let event = if step.event {
-            self.core.event_confirmed_at(time_s)
+            self.core.event_confirmed_at(time)
         } else {
             None
         };
         if let Some(e) = &event {
-            self.event_time_s = e.time_s;
+            self.event_time = e.time;
         }
         Ok(event)
     }
@@ -437,6 +440,8 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
 
     /// Feed a speed profile at 1 Hz, integrating height; collect events.
     fn run(
@@ -451,7 +456,7 @@ mod tests {
         for _ in 0..seconds {
             t += 1.0;
             *h += speed;
-            if let Some(e) = phases.update(t, *h, speed).unwrap() {
+            if let Some(e) = phases.update(at(t), *h, speed).unwrap() {
                 events.push(e.phase).unwrap();
             }
         }
@@ -499,12 +504,11 @@ mod tests {
     #[test]
     fn bad_input_leaves_state_unchanged() {
         let mut p = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
-        p.update(1.0, 0.0, 2.0).unwrap();
+        p.update(at(1.0), 0.0, 2.0).unwrap();
         let before = p.clone();
-        assert_eq!(p.update(1.0, 0.0, 2.0), Err(Error::NotIncreasing));
-        assert_eq!(p.update(0.5, 0.0, 2.0), Err(Error::NotIncreasing));
-        assert_eq!(p.update(2.0, f32::NAN, 2.0), Err(Error::NotFinite));
-        assert_eq!(p.update(f64::INFINITY, 0.0, 2.0), Err(Error::NotFinite));
+        assert_eq!(p.update(at(1.0), 0.0, 2.0), Err(Error::NotIncreasing));
+        assert_eq!(p.update(at(0.5), 0.0, 2.0), Err(Error::NotIncreasing));
+        assert_eq!(p.update(at(2.0), f32::NAN, 2.0), Err(Error::NotFinite));
         assert_eq!(p, before);
         let mut bad = PhaseSettings::BALLOON;
         bad.burst_mps = 0.5;

@@ -12,13 +12,14 @@
 //! accelerometer, outliers gated out.
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{Pipeline, Sample, Settings};
 //! let mut drone = Pipeline::<2>::new(Settings::drone())?;
-//! let mut sample = Sample::pressure(0.0, 97_700.0);
+//! let mut sample = Sample::pressure(Instant::ZERO, 97_700.0);
 //! sample.accel_up_mps2 = Some(0.0);
 //! let out = drone.process(&sample);
 //! assert!(out.accepted() && out.altitude_m.abs() < 0.1);
-//! drone.accelerometer(0.005, 0.02)?; // IMU samples between barometer samples
+//! drone.accelerometer(Instant::from_micros(5_000), 0.02)?; // IMU samples between barometer samples
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 //!
@@ -32,6 +33,7 @@
 //! every part in RAM and more flash (9 844 bytes). See [`pipeline::SettingsStore`].
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{parts, Fixed, FixedSettings, Pipeline, Sample, Settings};
 //! struct Drone;
 //! impl FixedSettings for Drone {
@@ -39,11 +41,11 @@
 //!     type Parts = parts::Drone;
 //! }
 //! let mut drone = Pipeline::<2, Fixed<Drone>>::new(Fixed::new())?;
-//! assert!(drone.process(&Sample::pressure(0.0, 97_700.0)).accepted());
+//! assert!(drone.process(&Sample::pressure(Instant::ZERO, 97_700.0)).accepted());
 //!
 //! static HIKE: Settings = Settings::hike();
 //! let mut hike = Pipeline::<2, &'static Settings>::new(&HIKE)?;
-//! assert!(hike.process(&Sample::pressure(0.0, 97_700.0)).accepted());
+//! assert!(hike.process(&Sample::pressure(Instant::ZERO, 97_700.0)).accepted());
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 //!
@@ -51,13 +53,14 @@
 //! gravity, flight phases, descent on the profile stored on the way up (here 256 levels).
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{Pipeline, Sample, Settings};
 //! let mut settings = Settings::balloon();
 //! settings.start_altitude_m = Some(310.0);
 //! settings.latitude_deg = Some(64.2);
 //! let mut balloon = Pipeline::<256>::new(settings)?;
 //! let out = balloon.process(&Sample {
-//!     time_s: 0.0,
+//!     time: Instant::ZERO,
 //!     pressure_pa: 97_300.0,
 //!     temperature_c: Some(24.5),
 //!     humidity_pct: Some(70.0),
@@ -71,10 +74,11 @@
 //! weather drift at rest, known-elevation fixes, the 3-hour pressure tendency.
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{Pipeline, Sample, Settings};
 //! let mut hike = Pipeline::<2>::new(Settings::hike())?;
 //! let out = hike.process(&Sample {
-//!     time_s: 0.0,
+//!     time: Instant::ZERO,
 //!     pressure_pa: 93_500.0,
 //!     known_altitude_m: Some(652.0), // the trailhead sign
 //!     ..Sample::default()
@@ -153,7 +157,7 @@ pub mod sensor;
 #[cfg(feature = "embedded-hal-async")]
 pub mod sensor_async;
 pub mod sounding;
-mod timebits;
+pub mod time;
 pub mod track;
 pub mod units;
 

@@ -12,11 +12,11 @@
 //! Nothing here panics or allocates.
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{Pipeline, Sample, Settings};
 //! let mut drone = Pipeline::<2>::new(Settings::drone())?;
-//! let mut t = 0.0;
-//! for _ in 0..200 {
-//!     t += 0.02;
+//! for k in 1..=200 {
+//!     let t = Instant::from_millis(20 * k);
 //!     let out = drone.process(&Sample::pressure(t, 98_000.0));
 //!     assert!(out.accepted());
 //! }
@@ -29,7 +29,7 @@ use crate::bits::Bits;
 use crate::datum::AltimeterSetting;
 use crate::filter::{
     GroundReference, GroundReferenceConfig, KalmanOutcome, Step, VerticalKalman,
-    VerticalKalmanConfig, finite_time, step_between,
+    VerticalKalmanConfig, step_between,
 };
 use crate::flight::{Phase, PhaseCore, PhaseEvent, PhaseSettings};
 use crate::geopotential::Gravity;
@@ -39,6 +39,7 @@ use crate::humidity::MixingRatio;
 use crate::model::{AirSample, ColumnModel, Reference, TemperatureModel};
 #[cfg(feature = "pipeline-sounding")]
 use crate::sounding::{PendingStep, Sounding};
+use crate::time::Instant;
 use crate::track::AscentTotals;
 #[cfg(feature = "pipeline-hike")]
 use crate::track::HikeConfig;
@@ -56,7 +57,7 @@ use parts::{Parts, Presence};
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Sample {
     /// Time, s, strictly increasing between accepted samples (any origin).
-    pub time_s: f64,
+    pub time: Instant,
     /// Static pressure, Pa.
     pub pressure_pa: f32,
     /// Air temperature, degC.
@@ -74,9 +75,9 @@ pub struct Sample {
 
 impl Sample {
     /// A sample with time and pressure only.
-    pub const fn pressure(time_s: f64, pressure_pa: f32) -> Self {
+    pub const fn pressure(time: Instant, pressure_pa: f32) -> Self {
         Self {
-            time_s,
+            time,
             pressure_pa,
             temperature_c: None,
             humidity_pct: None,
@@ -126,8 +127,13 @@ impl Flags {
     pub const FALLING_PRESSURE: Flags = Flags(1 << 14);
     /// The ground reference is still being averaged.
     pub const GROUND_AVERAGING: Flags = Flags(1 << 15);
+    /// The clock stepped back or jumped ahead by more than [`Settings::max_gap_s`]
+    /// (a counter wrap, a restart, a glitched stamp): the sample was taken as the start
+    /// of a new time base. The estimator re-acquired; stored profile, totals and datum
+    /// were kept.
+    pub const CLOCK_FAULT: Flags = Flags(1 << 16);
 
-    const NAMES: [(Flags, &'static str); 16] = [
+    const NAMES: [(Flags, &'static str); 17] = [
         (Flags::REJECTED_TIME, "rejected_time"),
         (Flags::REJECTED_PRESSURE, "rejected_pressure"),
         (Flags::REJECTED_MODEL, "rejected_model"),
@@ -144,6 +150,7 @@ impl Flags {
         (Flags::AT_REST, "at_rest"),
         (Flags::FALLING_PRESSURE, "falling_pressure"),
         (Flags::GROUND_AVERAGING, "ground_averaging"),
+        (Flags::CLOCK_FAULT, "clock_fault"),
     ];
 
     /// True if every bit of `other` is set.
@@ -174,7 +181,7 @@ impl Flags {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Output {
     /// Time of the sample, s.
-    pub time_s: f64,
+    pub time: Instant,
     /// Height, m (geometric; above mean sea level, or above the ground reference when
     /// the start altitude is 0).
     pub altitude_m: f32,
@@ -304,6 +311,10 @@ pub struct Settings {
     /// the last five accepted heights is an outlier, carried forward and flagged; after
     /// five outliers in a row the next sample is taken (a real step). `None`: no gate.
     pub spike_gate_m: Option<f32>,
+    /// Longest step between two samples taken as a normal step, s. A longer step
+    /// forward or a step back (a counter wrap, a restart, a glitched stamp) is a clock
+    /// fault: the sample starts a new time base, flagged [`Flags::CLOCK_FAULT`].
+    pub max_gap_s: f32,
 }
 
 impl Settings {
@@ -341,6 +352,8 @@ impl Settings {
             temperature_uncertainty_k: 0.5,
             fix_time_constant_s: 10.0,
             spike_gate_m: None,
+            // a tracker that sleeps between fixes still reports every few minutes
+            max_gap_s: 600.0,
         }
     }
 
@@ -363,6 +376,8 @@ impl Settings {
             temperature_uncertainty_k: 2.0,
             fix_time_constant_s: 2.0,
             spike_gate_m: None,
+            // a drone samples at 50 Hz; ten seconds without one is a fault, not a flight
+            max_gap_s: 10.0,
         }
     }
 
@@ -387,6 +402,8 @@ impl Settings {
             fix_time_constant_s: 30.0,
             // walking moves a few metres between samples; a spike moves tens to hundreds
             spike_gate_m: Some(15.0),
+            // a walker may switch the device off for a few hours
+            max_gap_s: 21_600.0,
         }
     }
 
@@ -402,6 +419,9 @@ impl Settings {
             && (0.0..=MAX_PRESSURE_NOISE_PA).contains(&self.pressure_noise_pa)
             && (0.0..=MAX_TEMPERATURE_UNCERTAINTY_K).contains(&self.temperature_uncertainty_k)
             && self.spike_gate_m.is_none_or(|g| g.is_finite() && g > 0.0)
+            && self.max_gap_s.is_finite()
+            && self.max_gap_s > 0.0
+            && self.max_gap_s <= MAX_GAP_LIMIT_S
             && self.fix_time_constant_s.is_finite()
             && self.fix_time_constant_s >= 0.0
             && self
@@ -499,10 +519,11 @@ enum EstimatorState<P: Presence, K: parts::Holdable> {
 /// code of unused options left out).
 ///
 /// ```
+/// use isohypse::time::Instant;
 /// use isohypse::pipeline::{Pipeline, Sample, Settings};
 /// static DRONE: Settings = Settings::drone();
 /// let mut pipe = Pipeline::<2, &'static Settings>::new(&DRONE)?;
-/// let out = pipe.process(&Sample::pressure(0.0, 98_000.0));
+/// let out = pipe.process(&Sample::pressure(Instant::ZERO, 98_000.0));
 /// assert!(out.accepted());
 /// # Ok::<(), isohypse::Error>(())
 /// ```
@@ -580,6 +601,7 @@ pub trait FixedSettings {
 /// (start altitude, altimeter setting, fixes) work as with any store.
 ///
 /// ```
+/// use isohypse::time::Instant;
 /// use isohypse::pipeline::{parts, Fixed, FixedSettings, Pipeline, Sample, Settings};
 /// struct Drone;
 /// impl FixedSettings for Drone {
@@ -588,7 +610,7 @@ pub trait FixedSettings {
 ///     type Parts = parts::Drone;
 /// }
 /// let mut pipe = Pipeline::<2, Fixed<Drone>>::new(Fixed::new())?;
-/// let out = pipe.process(&Sample::pressure(0.0, 98_000.0));
+/// let out = pipe.process(&Sample::pressure(Instant::ZERO, 98_000.0));
 /// assert!(out.accepted());
 /// # Ok::<(), isohypse::Error>(())
 /// ```
@@ -706,6 +728,7 @@ type HikeOf<S> = <<S as SettingsStore>::Parts as Parts>::Hike;
 const GROUND_FROZEN: u8 = 1;
 const HAS_TIME: u8 = 2;
 const LAST_EVENT: u8 = 4;
+const LAST_CLOCK_FAULT: u8 = 8;
 
 /// The ground part of a [`Pipeline`]: the ground reference and the start altitude it
 /// ties to it (the run-time value: [`Pipeline::set_start_altitude`]). A layout without
@@ -727,16 +750,6 @@ struct Carried {
     vertical_speed_mps: f32,
     altitude_sigma_m: f32,
 }
-
-// Every flag fits the 16 bits the pipeline keeps of the last output's flags.
-// (Evaluated by the compiler: a flag beyond bit 15 fails the build, not a run.)
-const _: () = {
-    let mut rest: &[(Flags, &str)] = &Flags::NAMES;
-    while let Some((first, tail)) = rest.split_first() {
-        assert!(first.0.0 <= u16::MAX as u32);
-        rest = tail;
-    }
-};
 
 /// The composed per-sample pipeline; `N` is the capacity of the balloon's stored
 /// profile (use 2 for the other presets: the profile is then unused and small); `S`
@@ -765,7 +778,7 @@ pub struct Pipeline<const N: usize, S: SettingsStore = Settings> {
     offset_target_m: f32,
     /// Time of the last sample taken, s, if `HAS_TIME` is set (8 bytes and a bit, not
     /// the 16 of an `Option`).
-    last_time_s: f64,
+    last_time: Instant,
     #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
     last_temperature: Option<<<S::Parts as Parts>::Model as Presence>::Slot<Temperature>>,
     last_pressure_pa: f32,
@@ -829,7 +842,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             track,
             offset_m: 0.0,
             offset_target_m: 0.0,
-            last_time_s: 0.0,
+            last_time: Instant::ZERO,
             #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
             last_temperature: None,
             last_pressure_pa: 0.0,
@@ -849,9 +862,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
     /// The last output (of the last sample taken; a zeroed output before any).
     pub fn last_output(&self) -> Output {
-        let mut out = self.carry(self.last_time().unwrap_or(0.0), self.last_flags());
+        let mut out = self.carry(self.last_time().unwrap_or(Instant::ZERO), self.last_flags());
         if self.bits.get(LAST_EVENT) {
-            out.event = self.phases.event_confirmed_at(self.last_time_s);
+            out.event = self.phases.event_confirmed_at(self.last_time);
         }
         out
     }
@@ -864,25 +877,32 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
 
     /// The last output's flags.
     fn last_flags(&self) -> Flags {
-        Flags(u32::from(self.last_flags))
+        let mut flags = Flags(u32::from(self.last_flags));
+        if self.bits.get(LAST_CLOCK_FAULT) {
+            flags.set(Flags::CLOCK_FAULT);
+        }
+        flags
     }
 
-    /// Keeps `flags` as the last output's (all below bit 16: see `last_flags`).
+    /// Keeps `flags` as the last output's: bits 0 to 15 in `last_flags`, the clock
+    /// fault in `bits` (so that the state stays within 256 bytes).
     fn set_last_flags(&mut self, flags: Flags) {
         self.last_flags = flags.0 as u16;
+        self.bits
+            .set(LAST_CLOCK_FAULT, flags.contains(Flags::CLOCK_FAULT));
     }
 
     /// Time of the last sample taken, s.
-    fn last_time(&self) -> Option<f64> {
+    fn last_time(&self) -> Option<Instant> {
         // A flag, not a test of the time against a sentinel: the compiler turns a bit
         // test against an infinity into an `f64` comparison, a library call on the
         // Cortex-M4F (56 instructions a call, measured).
-        self.bits.get(HAS_TIME).then_some(self.last_time_s)
+        self.bits.get(HAS_TIME).then_some(self.last_time)
     }
 
-    /// The last output carried forward to `time_s` with `flags` (a rejected sample, or
+    /// The last output carried forward to `time` with `flags` (a rejected sample, or
     /// an outlier the spike gate held back).
-    fn carry(&self, time_s: f64, flags: Flags) -> Output {
+    fn carry(&self, time: Instant, flags: Flags) -> Output {
         let (ascent_m, descent_m, tendency_hpa) = match &self.track {
             TrackState::Flight(totals, _) => (totals.ascent_m(), totals.descent_m(), None),
             #[cfg(feature = "pipeline-hike")]
@@ -896,7 +916,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             }
         };
         Output {
-            time_s,
+            time,
             altitude_m: self.last.altitude_m,
             raw_altitude_m: self.last.raw_altitude_m,
             vertical_speed_mps: self.last.vertical_speed_mps,
@@ -996,6 +1016,17 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         Ok(())
     }
 
+    /// The device's clock was restarted on purpose (after a brown-out with the state
+    /// kept, or a new epoch): the next sample starts a new time base without a
+    /// [`Flags::CLOCK_FAULT`]. The estimator re-acquires from it; the stored profile,
+    /// totals, phase and datum are kept.
+    pub fn restart_clock(&mut self) {
+        self.bits.set(HAS_TIME, false);
+        if let EstimatorState::Kalman(k) = &mut self.estimator {
+            KalmanOf::<S>::get_mut(k).reset();
+        }
+    }
+
     /// Re-zero: the next samples at rest become the new ground reference (drone
     /// re-arming).
     pub fn rezero(&mut self) {
@@ -1016,9 +1047,16 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
     /// An accelerometer sample between pressure samples (earth-frame vertical
     /// acceleration with gravity removed, m/s^2). Errors, state unchanged: those of
     /// [`VerticalKalman::predict`]; `Ok` and ignored without a Kalman estimator.
-    pub fn accelerometer(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
+    pub fn accelerometer(&mut self, time: Instant, accel_up_mps2: f32) -> Result<(), Error> {
+        if let Some(last) = self.last_time() {
+            if let Step::Later(dt) = step_between(last, time) {
+                if dt > self.store.settings().max_gap_s {
+                    return Err(Error::TimeJump);
+                }
+            }
+        }
         match &mut self.estimator {
-            EstimatorState::Kalman(k) => KalmanOf::<S>::get_mut(k).predict(time_s, accel_up_mps2),
+            EstimatorState::Kalman(k) => KalmanOf::<S>::get_mut(k).predict(time, accel_up_mps2),
             EstimatorState::Pointwise(_) => Ok(()),
         }
     }
@@ -1029,21 +1067,22 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         let mut flags = Flags::default();
         // 1. Validation of the required channels. The step from the last sample is
         //    formed once and reused below.
-        if !finite_time(sample.time_s) {
-            return self.carry(sample.time_s, Flags::REJECTED_TIME);
-        }
-        let step = self
-            .last_time()
-            .map(|last| step_between(last, sample.time_s));
-        let dt = match step {
-            None => None,
-            Some(Step::Later(dt)) => Some(dt),
-            Some(_) => return self.carry(sample.time_s, Flags::REJECTED_TIME),
+        let step = self.last_time().map(|last| step_between(last, sample.time));
+        // A repeated stamp is a duplicate and refused; a step back or a jump beyond
+        // the longest gap starts a new time base (`clock_fault`, no step: `dt` None).
+        let (dt, clock_fault) = match step {
+            None => (None, false),
+            Some(Step::Later(dt)) if dt <= self.store.settings().max_gap_s => (Some(dt), false),
+            Some(Step::Same) => return self.carry(sample.time, Flags::REJECTED_TIME),
+            Some(_) => (None, true),
         };
+        if clock_fault {
+            flags.set(Flags::CLOCK_FAULT);
+        }
         let (lo, hi) = self.store.settings().pressure_range_pa;
         let pressure = match Pressure::from_pa(sample.pressure_pa) {
             Ok(p) if p.pa() >= lo && p.pa() <= hi => p,
-            _ => return self.carry(sample.time_s, Flags::REJECTED_PRESSURE),
+            _ => return self.carry(sample.time, Flags::REJECTED_PRESSURE),
         };
         // Optional channels: an invalid value is ignored and flagged.
         let temperature = match sample.temperature_c.map(Temperature::from_celsius) {
@@ -1093,7 +1132,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             &mut model_change,
         );
         let Ok((model_m, column_t)) = model else {
-            return self.carry(sample.time_s, Flags::REJECTED_MODEL);
+            return self.carry(sample.time, Flags::REJECTED_MODEL);
         };
 
         // 3. Datum: the ground reference averaged so far (this sample joins it below,
@@ -1144,7 +1183,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         }
         let raw_m = model_m + offset;
         let Ok(raw) = Height::from_meters(raw_m) else {
-            return self.carry(sample.time_s, Flags::REJECTED_MODEL);
+            return self.carry(sample.time, Flags::REJECTED_MODEL);
         };
 
         // 4. Estimator (with its outlier gate), or the pointwise height behind a median
@@ -1154,12 +1193,16 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         #[cfg(feature = "pipeline-hike")]
         if let TrackState::Hike(_) = &self.track {
             if HikeState::check_pressure(self.store.settings().tracking.hike(), pressure).is_err() {
-                return self.carry(sample.time_s, Flags::REJECTED_MODEL);
+                return self.carry(sample.time, Flags::REJECTED_MODEL);
             }
         }
         // the spike gate's new state, committed with the rest
         let mut new_spikes = None;
-        let known_step = self.last_time().zip(step);
+        let known_step = if clock_fault {
+            None
+        } else {
+            self.last_time().zip(step)
+        };
         // `held_back_s`: seconds covered by samples the spike gate held back since the
         // last sample taken (the phase and hike trackers see only the samples that
         // are taken): the gate's age, which sums the same steps from the same start;
@@ -1173,15 +1216,21 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     0.0
                 };
                 if let Some(gate) = self.store.settings().spike_gate_m {
-                    let mut spikes = *gate_state;
+                    // after a clock fault the heights behind the gate are of another
+                    // time: it starts again from this sample
+                    let mut spikes = if clock_fault {
+                        SpikeGate::new()
+                    } else {
+                        *gate_state
+                    };
                     let gap = dt.unwrap_or(0.0);
-                    if spikes.is_spike(gap, model_m, gate) {
+                    if !clock_fault && spikes.is_spike(gap, model_m, gate) {
                         // carried forward; the gate counts toward re-acquiring
                         gate_state.hold(gap);
                         let flags = Flags(flags.0 | Flags::OUTLIER.0);
-                        let out = self.carry(sample.time_s, flags);
+                        let out = self.carry(sample.time, flags);
                         // taken (flagged), so its time counts as the last one
-                        self.last_time_s = sample.time_s;
+                        self.last_time = sample.time;
                         self.bits.set(HAS_TIME, true);
                         self.set_last_flags(flags);
                         self.bits.set(LAST_EVENT, false);
@@ -1207,8 +1256,22 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     held_back_s,
                 )
             }
-            EstimatorState::Kalman(k) => {
-                let k = KalmanOf::<S>::get_mut(k);
+            EstimatorState::Kalman(slot) => {
+                let held = KalmanOf::<S>::get_mut(slot);
+                // After a clock fault, or with the filter's clock ahead of this sample,
+                // the filter starts again from this sample (its time base is gone): on
+                // a copy, committed only if the sample is taken.
+                let mut fresh = None;
+                if clock_fault || held.is_ahead_of(sample.time) {
+                    let mut k = *held;
+                    k.reset();
+                    fresh = Some(k);
+                    flags.set(Flags::REACQUIRED);
+                }
+                let k = match fresh.as_mut() {
+                    Some(k) => k,
+                    None => &mut *held,
+                };
                 // Height noise of this sample from the sensor's pressure noise.
                 let sigma = pressure_sigma_m(self.store.settings(), pressure, column_t);
                 let sigma = if sigma > 1.0e-3 { sigma } else { 1.0e-3 };
@@ -1216,9 +1279,9 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 // In place: the filter takes the accelerometer and barometer samples
                 // as one and changes nothing when it refuses the barometer sample, and
                 // nothing after this step can refuse the sample.
-                let step_k = k.step_reusing(sample.time_s, known_step);
+                let step_k = k.step_reusing(sample.time, known_step);
                 let (predicted, corrected) =
-                    k.predict_correct(sample.time_s, step_k, accel, raw, sigma);
+                    k.predict_correct(sample.time, step_k, accel, raw, sigma);
                 if predicted.is_err() {
                     flags.set(Flags::ACCEL_IGNORED);
                 }
@@ -1226,9 +1289,13 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                     Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
                     Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
                     Ok(_) => {}
-                    Err(_) => return self.carry(sample.time_s, Flags::REJECTED_MODEL),
+                    Err(_) => return self.carry(sample.time, Flags::REJECTED_MODEL),
                 }
-                match k.height_speed_variance() {
+                let estimate = k.height_speed_variance();
+                if let Some(k) = fresh {
+                    *held = k;
+                }
+                match estimate {
                     Some((h, v, var_h)) => (h, v, crate::math::sigma_from_variance(var_h), 0.0),
                     None => (raw_m, 0.0, self.model_sigma(pressure, column_t, raw_m), 0.0),
                 }
@@ -1265,7 +1332,14 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
                 let hike = HikeOf::<S>::get_mut(part);
                 let config = self.store.settings().tracking.hike();
                 // it sees only the samples that are taken (like the phase tracker)
-                let since = dt.unwrap_or(0.0) + held_back_s;
+                // after a clock fault the time elapsed is unknown: the tracker takes
+                // it as the longest gap (it follows the new height and lets stale
+                // tendency values go)
+                let since = if clock_fault {
+                    self.store.settings().max_gap_s
+                } else {
+                    dt.unwrap_or(0.0) + held_back_s
+                };
                 let mut r = hike.step(config, since, raw_m);
                 if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
                     // the first fix of a walk applies at once, later ones slew
@@ -1306,7 +1380,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             .phases
             .step(dt.unwrap_or(0.0) + held_back_s, out_height, speed_mps)
         {
-            Ok(step) if step.event => self.phases.event_confirmed_at(sample.time_s),
+            Ok(step) if step.event => self.phases.event_confirmed_at(sample.time),
             _ => None,
         };
 
@@ -1335,7 +1409,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
             ground_sample,
             GroundOf::<S>::field_mut(&mut self.ground).map(|g| &mut g.reference),
         ) {
-            let _ = ground.push(sample.time_s, height_or_zero(m));
+            let _ = ground.push_after(dt.unwrap_or(0.0), sample.time, height_or_zero(m));
             if let Ok(mean) = ground.mean().or_else(|_| ground.running_mean()) {
                 offset_target = start - mean.meters();
                 offset = offset_target;
@@ -1349,7 +1423,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         {
             *gate_state = spikes;
         }
-        self.last_time_s = sample.time_s;
+        self.last_time = sample.time;
         self.bits.set(HAS_TIME, true);
         #[cfg(any(feature = "pipeline-sounding", feature = "pipeline-column"))]
         if let Some(t) = temperature {
@@ -1364,7 +1438,7 @@ impl<const N: usize, S: SettingsStore> Pipeline<N, S> {
         self.set_last_flags(flags);
         self.bits.set(LAST_EVENT, event.is_some());
         Output {
-            time_s: sample.time_s,
+            time: sample.time,
             altitude_m: out_height,
             raw_altitude_m: raw_m,
             vertical_speed_mps: speed_mps,
@@ -1569,6 +1643,9 @@ fn model_sigma(
 /// Largest accepted [`Settings::pressure_noise_pa`], Pa (10 hPa: beyond any working
 /// barometer; larger values would overflow the height sigma).
 pub const MAX_PRESSURE_NOISE_PA: f32 = 1_000.0;
+
+/// Largest [`Settings::max_gap_s`], s (a week).
+pub const MAX_GAP_LIMIT_S: f32 = 604_800.0;
 /// Largest accepted [`Settings::temperature_uncertainty_k`], K.
 pub const MAX_TEMPERATURE_UNCERTAINTY_K: f32 = 100.0;
 

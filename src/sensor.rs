@@ -15,6 +15,7 @@
 //! as a flagged, rejected [`Output`] (see [`crate::pipeline::Flags`]). Nothing panics.
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{Pipeline, Settings};
 //! use isohypse::sensor::{BarometricSensor, Reading, SensorDriver};
 //!
@@ -34,7 +35,13 @@
 //!
 //! let pipeline = Pipeline::<2>::new(Settings::drone())?;
 //! let mut driver = SensorDriver::new(Steady, NoWait, pipeline);
-//! let summary = driver.run_for(100, 20, |_time_s, result| {
+//! // the clock: a monotonic timer on a device; here one that steps 20 ms a reading
+//! let mut ms = 0;
+//! let mut clock = || {
+//!     ms += 20;
+//!     Instant::from_millis(ms)
+//! };
+//! let summary = driver.run_for(100, 20, &mut clock, |_time, result| {
 //!     if let Ok(out) = result {
 //!         assert!(out.altitude_m.abs() < 0.1);
 //!     }
@@ -43,6 +50,7 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 
+use crate::time::{Clock, Instant};
 use embedded_hal::delay::DelayNs;
 use embedded_hal::i2c::I2c;
 
@@ -62,10 +70,10 @@ pub struct Reading {
 }
 
 impl Reading {
-    /// The pipeline sample of this reading, taken at `time_s` (s).
-    pub const fn to_sample(&self, time_s: f64) -> Sample {
+    /// The pipeline sample of this reading, taken at `time` (s).
+    pub const fn to_sample(&self, time: Instant) -> Sample {
         Sample {
-            time_s,
+            time,
             pressure_pa: self.pressure_pa,
             temperature_c: self.temperature_c,
             humidity_pct: self.humidity_pct,
@@ -136,28 +144,22 @@ impl RunSummary {
     }
 }
 
-/// Feed the result of one read to the pipeline as taken at `time_s`: a reading is
+/// Feed the result of one read to the pipeline as taken at `time`: a reading is
 /// processed; a failed read is counted in `read_errors` and leaves the pipeline alone.
 /// Shared by the blocking and the async driver.
 pub(crate) fn feed<E, const N: usize>(
     pipeline: &mut Pipeline<N>,
     read_errors: &mut u32,
-    time_s: f64,
+    time: Instant,
     read: Result<Reading, E>,
 ) -> Result<Output, DriverError<E>> {
     match read {
-        Ok(reading) => Ok(pipeline.process(&reading.to_sample(time_s))),
+        Ok(reading) => Ok(pipeline.process(&reading.to_sample(time))),
         Err(e) => {
             *read_errors = read_errors.saturating_add(1);
             Err(DriverError::Sensor(e))
         }
     }
-}
-
-/// Time of the next reading of a run: one period after the last reading, 0 s for the
-/// very first.
-pub(crate) fn next_time(last_time_s: Option<f64>, period_ms: u32) -> f64 {
-    last_time_s.map_or(0.0, |t| t + f64::from(period_ms) / 1000.0)
 }
 
 /// Drives a [`BarometricSensor`] through a [`Pipeline`] at a chosen rate.
@@ -170,7 +172,7 @@ pub struct SensorDriver<S, D, const N: usize> {
     sensor: S,
     delay: D,
     pipeline: Pipeline<N>,
-    last_time_s: Option<f64>,
+    last_time: Option<Instant>,
     read_errors: u32,
 }
 
@@ -181,9 +183,9 @@ impl<S, D, const N: usize> defmt::Format for SensorDriver<S, D, N> {
     fn format(&self, f: defmt::Formatter<'_>) {
         defmt::write!(
             f,
-            "SensorDriver {{ pipeline: {}, last_time_s: {}, read_errors: {} }}",
+            "SensorDriver {{ pipeline: {}, last_time: {}, read_errors: {} }}",
             self.pipeline,
-            self.last_time_s,
+            self.last_time,
             self.read_errors
         );
     }
@@ -196,36 +198,43 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
             sensor,
             delay,
             pipeline,
-            last_time_s: None,
+            last_time: None,
             read_errors: 0,
         }
     }
 
-    /// Read the sensor once and feed the reading to the pipeline as taken at `time_s`
+    /// Read the sensor once and feed the reading to the pipeline as taken at `time`
     /// (s). `Ok`: the pipeline's output, which may be flagged or rejected (see
     /// [`Output::accepted`]). `Err`: the read failed and the pipeline was not touched.
-    pub fn step(&mut self, time_s: f64) -> Result<Output, DriverError<S::Error>> {
-        self.last_time_s = Some(time_s);
+    pub fn step(&mut self, time: Instant) -> Result<Output, DriverError<S::Error>> {
+        self.last_time = Some(time);
         let read = self.sensor.read();
-        feed(&mut self.pipeline, &mut self.read_errors, time_s, read)
+        feed(&mut self.pipeline, &mut self.read_errors, time, read)
     }
 
-    /// Take `samples` readings `period_ms` apart: each one is [`Self::step`]ped at the
-    /// driver's clock (one period after the previous reading; 0 s for the very first),
-    /// handed to `each` with its time, and followed by `delay.delay_ms(period_ms)`. The
-    /// time the read and the pipeline take adds to the delay; for an exact rate, call
-    /// [`Self::step`] from a timer instead. Failed reads are counted and the loop goes
-    /// on.
-    pub fn run_for<F>(&mut self, samples: u32, period_ms: u32, mut each: F) -> RunSummary
+    /// Take `samples` readings `period_ms` apart: each one is stamped with
+    /// `clock.now()` just before the read, [`Self::step`]ped, handed to `each` with its
+    /// time, and followed by `delay.delay_ms(period_ms)`. The time the read and the
+    /// pipeline take adds to the delay (the stamps stay true: they come from the
+    /// clock); for an exact rate, call [`Self::step`] from a timer instead. Failed reads
+    /// are counted and the loop goes on.
+    pub fn run_for<C, F>(
+        &mut self,
+        samples: u32,
+        period_ms: u32,
+        clock: &mut C,
+        mut each: F,
+    ) -> RunSummary
     where
-        F: FnMut(f64, Result<Output, DriverError<S::Error>>),
+        C: Clock,
+        F: FnMut(Instant, Result<Output, DriverError<S::Error>>),
     {
         let mut summary = RunSummary::default();
         for _ in 0..samples {
-            let time_s = next_time(self.last_time_s, period_ms);
-            let result = self.step(time_s);
+            let time = clock.now();
+            let result = self.step(time);
             summary.count(&result);
-            each(time_s, result);
+            each(time, result);
             self.delay.delay_ms(period_ms);
         }
         summary
@@ -253,8 +262,8 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
     }
 
     /// Time of the last reading taken (or attempted), s.
-    pub const fn last_time_s(&self) -> Option<f64> {
-        self.last_time_s
+    pub const fn last_time(&self) -> Option<Instant> {
+        self.last_time
     }
 
     /// Take the parts back.

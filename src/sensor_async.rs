@@ -6,6 +6,7 @@
 //! touched by it.
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::pipeline::{Pipeline, Settings};
 //! use isohypse::sensor::Reading;
 //! use isohypse::sensor_async::{AsyncBarometricSensor, AsyncSensorDriver};
@@ -30,15 +31,22 @@
 //! # }
 //! let pipeline = Pipeline::<2>::new(Settings::hike())?;
 //! let mut driver = AsyncSensorDriver::new(Steady, NoWait, pipeline);
-//! let summary = block_on(driver.run_for(10, 1000, |_, _| {}));
+//! // the executor's clock on a device; here one that steps a second a reading
+//! let mut s = 0;
+//! let mut clock = || {
+//!     s += 1;
+//!     Instant::from_secs(s)
+//! };
+//! let summary = block_on(driver.run_for(10, 1000, &mut clock, |_, _| {}));
 //! assert_eq!(summary.accepted, 10);
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 
+use crate::time::{Clock, Instant};
 use embedded_hal_async::delay::DelayNs;
 
 use crate::pipeline::{Output, Pipeline};
-use crate::sensor::{DriverError, Reading, RunSummary, feed, next_time};
+use crate::sensor::{DriverError, Reading, RunSummary, feed};
 
 /// Anything that yields pressure and temperature (and optionally humidity),
 /// asynchronously. The async counterpart of [`crate::sensor::BarometricSensor`].
@@ -60,7 +68,7 @@ pub struct AsyncSensorDriver<S, D, const N: usize> {
     sensor: S,
     delay: D,
     pipeline: Pipeline<N>,
-    last_time_s: Option<f64>,
+    last_time: Option<Instant>,
     read_errors: u32,
 }
 
@@ -70,9 +78,9 @@ impl<S, D, const N: usize> defmt::Format for AsyncSensorDriver<S, D, N> {
     fn format(&self, f: defmt::Formatter<'_>) {
         defmt::write!(
             f,
-            "AsyncSensorDriver {{ pipeline: {}, last_time_s: {}, read_errors: {} }}",
+            "AsyncSensorDriver {{ pipeline: {}, last_time: {}, read_errors: {} }}",
             self.pipeline,
-            self.last_time_s,
+            self.last_time,
             self.read_errors
         );
     }
@@ -85,31 +93,39 @@ impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, 
             sensor,
             delay,
             pipeline,
-            last_time_s: None,
+            last_time: None,
             read_errors: 0,
         }
     }
 
-    /// Read the sensor once and feed the reading to the pipeline as taken at `time_s`
+    /// Read the sensor once and feed the reading to the pipeline as taken at `time`
     /// (s). `Err`: the read failed and the pipeline was not touched.
-    pub async fn step(&mut self, time_s: f64) -> Result<Output, DriverError<S::Error>> {
-        self.last_time_s = Some(time_s);
+    pub async fn step(&mut self, time: Instant) -> Result<Output, DriverError<S::Error>> {
+        self.last_time = Some(time);
         let read = self.sensor.read().await;
-        feed(&mut self.pipeline, &mut self.read_errors, time_s, read)
+        feed(&mut self.pipeline, &mut self.read_errors, time, read)
     }
 
     /// Take `samples` readings `period_ms` apart (see
-    /// [`crate::sensor::SensorDriver::run_for`]), awaiting the delay after each.
-    pub async fn run_for<F>(&mut self, samples: u32, period_ms: u32, mut each: F) -> RunSummary
+    /// [`crate::sensor::SensorDriver::run_for`]: each reading stamped with
+    /// `clock.now()`), awaiting the delay after each.
+    pub async fn run_for<C, F>(
+        &mut self,
+        samples: u32,
+        period_ms: u32,
+        clock: &mut C,
+        mut each: F,
+    ) -> RunSummary
     where
-        F: FnMut(f64, Result<Output, DriverError<S::Error>>),
+        C: Clock,
+        F: FnMut(Instant, Result<Output, DriverError<S::Error>>),
     {
         let mut summary = RunSummary::default();
         for _ in 0..samples {
-            let time_s = next_time(self.last_time_s, period_ms);
-            let result = self.step(time_s).await;
+            let time = clock.now();
+            let result = self.step(time).await;
             summary.count(&result);
-            each(time_s, result);
+            each(time, result);
             self.delay.delay_ms(period_ms).await;
         }
         summary

@@ -26,7 +26,10 @@ use isohypse::sounding::{Level, Profile};
 use isohypse::track::{AscentTotals, HikeConfig, HikeTracker};
 use isohypse::{Error, Height, Pressure, RelativeHumidity, Temperature};
 mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use common::{h, k, p_at, pa};
+use isohypse::time::Instant;
 
 /// Outcome of one case: whether it matched, and what was observed.
 type Observed = (bool, String);
@@ -73,7 +76,7 @@ fn finite(o: &Output) -> bool {
 fn warmed<const N: usize>(settings: Settings, z: f32, n: usize, rate_hz: f64) -> Pipeline<N> {
     let mut p = Pipeline::<N>::new(settings).unwrap();
     for i in 0..n {
-        let out = p.process(&Sample::pressure(i as f64 / rate_hz, p_at(z)));
+        let out = p.process(&Sample::pressure(at(i as f64 / rate_hz), p_at(z)));
         assert!(out.accepted());
     }
     p
@@ -87,7 +90,7 @@ fn drone_hovering() -> Pipeline<2> {
     for i in 0..500 {
         let z = 300.0 + (i as f32 * 0.02).min(10.0);
         t = 2.0 + i as f64 * 0.02;
-        assert!(p.process(&Sample::pressure(t, p_at(z))).accepted());
+        assert!(p.process(&Sample::pressure(at(t), p_at(z))).accepted());
     }
     assert_ne!(p.phase(), isohypse::flight::Phase::Ground);
     assert!(
@@ -382,8 +385,8 @@ fn cases() -> Vec<Case> {
             expected: "Err(NotIncreasing), unchanged",
             run: || {
                 let mut f = OnePole::new(1.0).unwrap();
-                f.update(10.0, 1.0).unwrap();
-                refused(&mut f, Error::NotIncreasing, |f| f.update(9.0, 2.0))
+                f.update(at(10.0), 1.0).unwrap();
+                refused(&mut f, Error::NotIncreasing, |f| f.update(at(9.0), 2.0))
             },
         },
         Case {
@@ -392,8 +395,8 @@ fn cases() -> Vec<Case> {
             expected: "Err(NotIncreasing), unchanged",
             run: || {
                 let mut f = OnePole::new(1.0).unwrap();
-                f.update(10.0, 1.0).unwrap();
-                refused(&mut f, Error::NotIncreasing, |f| f.update(10.0, 2.0))
+                f.update(at(10.0), 1.0).unwrap();
+                refused(&mut f, Error::NotIncreasing, |f| f.update(at(10.0), 2.0))
             },
         },
         Case {
@@ -409,13 +412,13 @@ fn cases() -> Vec<Case> {
             run: || err_is(AlphaBeta::new(1.5, 0.1, 1.0), Error::InvalidSetting),
         },
         Case {
-            name: "alpha-beta: NaN time",
+            name: "alpha-beta: repeated time",
             layer: "filter",
-            expected: "Err(NotFinite), unchanged",
+            expected: "Err(NotIncreasing), unchanged",
             run: || {
                 let mut f = AlphaBeta::new(0.5, 0.1, 1.0).unwrap();
-                f.update(0.0, h(10.0)).unwrap();
-                refused(&mut f, Error::NotFinite, |f| f.update(f64::NAN, h(11.0)))
+                f.update(at(0.0), h(10.0)).unwrap();
+                refused(&mut f, Error::NotIncreasing, |f| f.update(at(0.0), h(11.0)))
             },
         },
         Case {
@@ -424,9 +427,9 @@ fn cases() -> Vec<Case> {
             expected: "Err(SampleOutOfRange), unchanged",
             run: || {
                 let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
-                kf.correct(0.0, h(100.0)).unwrap();
+                kf.correct(at(0.0), h(100.0)).unwrap();
                 refused(&mut kf, Error::SampleOutOfRange, |kf| {
-                    kf.predict(0.01, 1_000.0)
+                    kf.predict(at(0.01), 1_000.0)
                 })
             },
         },
@@ -436,9 +439,9 @@ fn cases() -> Vec<Case> {
             expected: "Err(AboveModelTop), unchanged",
             run: || {
                 let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
-                kf.correct(0.0, h(100.0)).unwrap();
+                kf.correct(at(0.0), h(100.0)).unwrap();
                 refused(&mut kf, Error::AboveModelTop, |kf| {
-                    kf.correct(0.02, h(100_000.0))
+                    kf.correct(at(0.02), h(100_000.0))
                 })
             },
         },
@@ -461,10 +464,10 @@ fn cases() -> Vec<Case> {
             run: || {
                 let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
                 for i in 0..100 {
-                    kf.correct(i as f64 * 0.02, h(300.0)).unwrap();
+                    kf.correct(at(i as f64 * 0.02), h(300.0)).unwrap();
                 }
                 let before = kf.estimate().unwrap().height.meters();
-                let r = kf.correct(2.0, h(1_100.0)).unwrap();
+                let r = kf.correct(at(2.0), h(1_100.0)).unwrap();
                 let after = kf.estimate().unwrap().height.meters();
                 let ok = matches!(r, KalmanOutcome::Rejected { .. })
                     && (after - before).abs() < 0.05
@@ -540,9 +543,9 @@ fn cases() -> Vec<Case> {
             expected: "Err(NotIncreasing), unchanged",
             run: || {
                 let mut t = HikeTracker::new(HikeConfig::default()).unwrap();
-                t.update(5.0, pa(95_000.0)).unwrap();
+                t.update(at(5.0), pa(95_000.0)).unwrap();
                 refused(&mut t, Error::NotIncreasing, |t| {
-                    t.update(5.0, pa(94_990.0))
+                    t.update(at(5.0), pa(94_990.0))
                 })
             },
         },
@@ -552,9 +555,9 @@ fn cases() -> Vec<Case> {
             expected: "Err(AboveModelTop), unchanged",
             run: || {
                 let mut t = HikeTracker::new(HikeConfig::default()).unwrap();
-                t.update(5.0, pa(95_000.0)).unwrap();
+                t.update(at(5.0), pa(95_000.0)).unwrap();
                 refused(&mut t, Error::AboveModelTop, |t| {
-                    t.update(6.0, pa(20_000.0))
+                    t.update(at(6.0), pa(20_000.0))
                 })
             },
         },
@@ -564,8 +567,10 @@ fn cases() -> Vec<Case> {
             expected: "Err(NotFinite), unchanged",
             run: || {
                 let mut f = FlightPhases::new(PhaseSettings::BALLOON).unwrap();
-                f.update(0.0, 100.0, 0.0).unwrap();
-                refused(&mut f, Error::NotFinite, |f| f.update(1.0, 100.0, f32::NAN))
+                f.update(at(0.0), 100.0, 0.0).unwrap();
+                refused(&mut f, Error::NotFinite, |f| {
+                    f.update(at(1.0), 100.0, f32::NAN)
+                })
             },
         },
         // ---- pipeline: rejected samples --------------------------------------------
@@ -577,7 +582,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
                 pipeline_rejects(
                     &mut p,
-                    Sample::pressure(2.0, f32::NAN),
+                    Sample::pressure(at(2.0), f32::NAN),
                     Flags::REJECTED_PRESSURE,
                 )
             },
@@ -590,7 +595,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
                 pipeline_rejects(
                     &mut p,
-                    Sample::pressure(2.0, f32::NEG_INFINITY),
+                    Sample::pressure(at(2.0), f32::NEG_INFINITY),
                     Flags::REJECTED_PRESSURE,
                 )
             },
@@ -603,7 +608,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
                 pipeline_rejects(
                     &mut p,
-                    Sample::pressure(100.0, 0.0),
+                    Sample::pressure(at(100.0), 0.0),
                     Flags::REJECTED_PRESSURE,
                 )
             },
@@ -616,7 +621,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
                 pipeline_rejects(
                     &mut p,
-                    Sample::pressure(100.0, -95_000.0),
+                    Sample::pressure(at(100.0), -95_000.0),
                     Flags::REJECTED_PRESSURE,
                 )
             },
@@ -629,47 +634,56 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
                 pipeline_rejects(
                     &mut p,
-                    Sample::pressure(30.0, 125_000.0),
+                    Sample::pressure(at(30.0), 125_000.0),
                     Flags::REJECTED_PRESSURE,
                 )
             },
         },
         Case {
-            name: "pipeline: time NaN",
+            name: "pipeline: time going backwards (clock restarted)",
             layer: "pipeline",
-            expected: "rejected_time, unchanged",
+            expected: "accepted as a new time base: clock_fault, reacquired at the sample (within 0.5 m), finite",
+            run: || {
+                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
+                let out = p.process(&Sample::pressure(at(0.5), p_at(305.0)));
+                let ok = out.accepted()
+                    && out.flags.contains(Flags::CLOCK_FAULT)
+                    && out.flags.contains(Flags::REACQUIRED)
+                    && (out.altitude_m - out.raw_altitude_m).abs() < 0.5
+                    && finite(&out);
+                (
+                    ok,
+                    format!(
+                        "flags {}; height {:.2} m",
+                        flag_names(out.flags),
+                        out.altitude_m
+                    ),
+                )
+            },
+        },
+        Case {
+            name: "pipeline: glitched stamp far ahead, then normal stamps",
+            layer: "pipeline",
+            expected: "the glitch and the next sample flagged clock_fault; every sample accepted",
             run: || {
                 let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
-                pipeline_rejects(
-                    &mut p,
-                    Sample::pressure(f64::NAN, p_at(300.0)),
-                    Flags::REJECTED_TIME,
-                )
-            },
-        },
-        Case {
-            name: "pipeline: time +inf",
-            layer: "pipeline",
-            expected: "rejected_time, unchanged",
-            run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
-                pipeline_rejects(
-                    &mut p,
-                    Sample::pressure(f64::INFINITY, p_at(300.0)),
-                    Flags::REJECTED_TIME,
-                )
-            },
-        },
-        Case {
-            name: "pipeline: time going backwards",
-            layer: "pipeline",
-            expected: "rejected_time, unchanged",
-            run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
-                pipeline_rejects(
-                    &mut p,
-                    Sample::pressure(0.5, p_at(300.0)),
-                    Flags::REJECTED_TIME,
+                let glitch = p.process(&Sample::pressure(at(20.0 + 4_294_967.296), p_at(300.0)));
+                let back = p.process(&Sample::pressure(at(21.0), p_at(305.0)));
+                let next = p.process(&Sample::pressure(at(22.0), p_at(310.0)));
+                let ok = glitch.accepted()
+                    && glitch.flags.contains(Flags::CLOCK_FAULT)
+                    && back.accepted()
+                    && back.flags.contains(Flags::CLOCK_FAULT)
+                    && next.accepted()
+                    && !next.flags.contains(Flags::CLOCK_FAULT);
+                (
+                    ok,
+                    format!(
+                        "flags {} / {} / {}",
+                        flag_names(glitch.flags),
+                        flag_names(back.flags),
+                        flag_names(next.flags)
+                    ),
                 )
             },
         },
@@ -681,7 +695,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
                 pipeline_rejects(
                     &mut p,
-                    Sample::pressure(59.0, p_at(300.0)),
+                    Sample::pressure(at(59.0), p_at(300.0)),
                     Flags::REJECTED_TIME,
                 )
             },
@@ -692,7 +706,9 @@ fn cases() -> Vec<Case> {
             expected: "Err(NotIncreasing), unchanged",
             run: || {
                 let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
-                refused(&mut p, Error::NotIncreasing, |p| p.accelerometer(0.5, 0.1))
+                refused(&mut p, Error::NotIncreasing, |p| {
+                    p.accelerometer(at(0.5), 0.1)
+                })
             },
         },
         // ---- pipeline: optional channels, ignored and flagged ------------------------
@@ -704,7 +720,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
                 let s = Sample {
                     temperature_c: Some(-300.0),
-                    ..Sample::pressure(20.0, p_at(301.0))
+                    ..Sample::pressure(at(20.0), p_at(301.0))
                 };
                 pipeline_flags(&mut p, s, Flags::TEMPERATURE_IGNORED)
             },
@@ -717,7 +733,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
                 let s = Sample {
                     temperature_c: Some(150.0),
-                    ..Sample::pressure(20.0, p_at(301.0))
+                    ..Sample::pressure(at(20.0), p_at(301.0))
                 };
                 pipeline_flags(&mut p, s, Flags::TEMPERATURE_IGNORED)
             },
@@ -731,7 +747,7 @@ fn cases() -> Vec<Case> {
                 let s = Sample {
                     temperature_c: Some(15.0),
                     humidity_pct: Some(130.0),
-                    ..Sample::pressure(20.0, p_at(301.0))
+                    ..Sample::pressure(at(20.0), p_at(301.0))
                 };
                 pipeline_flags(&mut p, s, Flags::HUMIDITY_IGNORED)
             },
@@ -744,7 +760,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
                 let s = Sample {
                     humidity_pct: Some(-5.0),
-                    ..Sample::pressure(20.0, p_at(301.0))
+                    ..Sample::pressure(at(20.0), p_at(301.0))
                 };
                 pipeline_flags(&mut p, s, Flags::HUMIDITY_IGNORED)
             },
@@ -757,7 +773,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
                 let s = Sample {
                     accel_up_mps2: Some(f32::NAN),
-                    ..Sample::pressure(1.2, p_at(300.0))
+                    ..Sample::pressure(at(1.2), p_at(300.0))
                 };
                 pipeline_flags(&mut p, s, Flags::ACCEL_IGNORED)
             },
@@ -770,7 +786,7 @@ fn cases() -> Vec<Case> {
                 let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
                 let s = Sample {
                     known_altitude_m: Some(f32::INFINITY),
-                    ..Sample::pressure(60.0, p_at(300.0))
+                    ..Sample::pressure(at(60.0), p_at(300.0))
                 };
                 pipeline_flags(&mut p, s, Flags::FIX_IGNORED)
             },
@@ -838,9 +854,9 @@ fn cases() -> Vec<Case> {
             run: || {
                 let mut p = drone_hovering();
                 let before = p.last_output().altitude_m;
-                let t = p.last_output().time_s;
-                let spike = p.process(&Sample::pressure(t + 0.02, p_at(310.0) + 10_000.0));
-                let next = p.process(&Sample::pressure(t + 0.04, p_at(310.0)));
+                let t = secs(p.last_output().time);
+                let spike = p.process(&Sample::pressure(at(t + 0.02), p_at(310.0) + 10_000.0));
+                let next = p.process(&Sample::pressure(at(t + 0.04), p_at(310.0)));
                 let ok = spike.accepted()
                     && spike.flags.contains(Flags::OUTLIER)
                     && (spike.altitude_m - before).abs() < 0.1
@@ -866,7 +882,7 @@ fn cases() -> Vec<Case> {
             expected: "accepted, reacquired at the new height (within 0.5 m), finite",
             run: || {
                 let mut p = warmed::<2>(Settings::drone(), 300.0, 100, 50.0);
-                let out = p.process(&Sample::pressure(1.0e6, p_at(350.0)));
+                let out = p.process(&Sample::pressure(at(1.0e6), p_at(350.0)));
                 let ok = out.accepted()
                     && out.flags.contains(Flags::REACQUIRED)
                     && (out.altitude_m - out.raw_altitude_m).abs() < 0.5
@@ -885,11 +901,14 @@ fn cases() -> Vec<Case> {
         Case {
             name: "pipeline (hike): huge time gap (30 days)",
             layer: "pipeline",
-            expected: "accepted, finite, height within 1 m of the new pressure altitude",
+            expected: "accepted as a clock fault, finite, height within 1 m of the new pressure altitude",
             run: || {
                 let mut p = warmed::<2>(Settings::hike(), 300.0, 120, 1.0);
-                let out = p.process(&Sample::pressure(30.0 * 86_400.0, p_at(800.0)));
-                let ok = out.accepted() && finite(&out) && (out.altitude_m - 800.0).abs() < 1.0;
+                let out = p.process(&Sample::pressure(at(30.0 * 86_400.0), p_at(800.0)));
+                let ok = out.accepted()
+                    && out.flags.contains(Flags::CLOCK_FAULT)
+                    && finite(&out)
+                    && (out.altitude_m - 800.0).abs() < 1.0;
                 (
                     ok,
                     format!(
@@ -909,7 +928,7 @@ fn cases() -> Vec<Case> {
                 let first = p.last_output().altitude_m;
                 let (mut worst, mut max_sigma, mut all_ok) = (0.0f32, 0.0f32, true);
                 for i in 100..10_100 {
-                    let out = p.process(&Sample::pressure(i as f64 / 50.0, p_at(300.0)));
+                    let out = p.process(&Sample::pressure(at(i as f64 / 50.0), p_at(300.0)));
                     all_ok &= out.accepted() && finite(&out);
                     worst = worst.max((out.altitude_m - first).abs());
                     max_sigma = max_sigma.max(out.altitude_sigma_m);
@@ -930,7 +949,7 @@ fn cases() -> Vec<Case> {
                 let mut out = p.last_output();
                 let mut all_ok = true;
                 for i in 10..21_600 {
-                    out = p.process(&Sample::pressure(i as f64, p_at(300.0)));
+                    out = p.process(&Sample::pressure(at(i as f64), p_at(300.0)));
                     all_ok &= out.accepted() && finite(&out);
                 }
                 let ok = all_ok
@@ -960,14 +979,14 @@ fn cases() -> Vec<Case> {
                 // 5 m/s up to 30 km, then 20 m/s down to 5 km
                 let mut z = 100.0f32;
                 while z < 30_000.0 {
-                    last = p.process(&Sample::pressure(t, p_at(z)));
+                    last = p.process(&Sample::pressure(at(t), p_at(z)));
                     all_ok &= last.accepted() && finite(&last);
                     t += 1.0;
                     z += 5.0;
                 }
                 let mut on_profile = false;
                 while z > 5_000.0 {
-                    last = p.process(&Sample::pressure(t, p_at(z)));
+                    last = p.process(&Sample::pressure(at(t), p_at(z)));
                     all_ok &= last.accepted() && finite(&last);
                     on_profile |= last.flags.contains(Flags::ON_PROFILE);
                     t += 1.0;
@@ -1031,11 +1050,11 @@ fn pointwise_speed_finite_for_tiny_time_steps() {
     for mut settings in [Settings::drone(), Settings::balloon()] {
         settings.estimator = Estimator::Off;
         let mut p = Pipeline::<2>::new(settings).unwrap();
-        p.process(&Sample::pressure(0.0, 95_000.0));
-        let same = p.process(&Sample::pressure(1.0e-320, 95_000.0));
+        p.process(&Sample::pressure(at(0.0), 95_000.0));
+        let same = p.process(&Sample::pressure(Instant::from_micros(1), 95_000.0));
         assert!(same.accepted());
         assert!(same.vertical_speed_mps.is_finite(), "{same:?}"); // NaN before the fix
-        let moved = p.process(&Sample::pressure(2.0e-320 + 1.0e-40, 94_000.0));
+        let moved = p.process(&Sample::pressure(Instant::from_micros(2), 94_000.0));
         assert!(moved.vertical_speed_mps.is_finite(), "{moved:?}"); // inf before the fix
     }
 }
@@ -1050,12 +1069,12 @@ fn pointwise_speed_finite_for_tiny_time_steps() {
 #[test]
 fn drone_spike_on_ground_leaves_zero_alone() {
     let mut p = warmed::<2>(Settings::drone(), 300.0, 100, 50.0);
-    let spike = p.process(&Sample::pressure(2.0, p_at(300.0) + 10_000.0));
+    let spike = p.process(&Sample::pressure(at(2.0), p_at(300.0) + 10_000.0));
     assert!(spike.flags.contains(Flags::OUTLIER));
-    let next = p.process(&Sample::pressure(2.02, p_at(300.0)));
+    let next = p.process(&Sample::pressure(at(2.02), p_at(300.0)));
     assert!(!next.flags.contains(Flags::OUTLIER), "{next:?}"); // outlier before the fix
     for i in 2..60 {
-        let o = p.process(&Sample::pressure(2.0 + i as f64 * 0.02, p_at(300.0)));
+        let o = p.process(&Sample::pressure(at(2.0 + i as f64 * 0.02), p_at(300.0)));
         assert!(o.altitude_m.abs() < 0.1, "{i}: {o:?}"); // +7.5 m before the fix
     }
 }
@@ -1067,11 +1086,11 @@ fn drone_spike_on_ground_leaves_zero_alone() {
 #[test]
 fn hike_single_spike_does_not_reach_totals() {
     let mut p = warmed::<2>(Settings::hike(), 300.0, 600, 1.0);
-    let spike = p.process(&Sample::pressure(600.0, p_at(300.0) + 10_000.0));
+    let spike = p.process(&Sample::pressure(at(600.0), p_at(300.0) + 10_000.0));
     assert!(finite(&spike));
     let mut last = spike;
     for i in 601..1_200 {
-        last = p.process(&Sample::pressure(i as f64, p_at(300.0)));
+        last = p.process(&Sample::pressure(at(i as f64), p_at(300.0)));
     }
     assert!(finite(&last) && (last.altitude_m - 300.0).abs() < 0.5);
     assert!(last.ascent_m <= 3.0 && last.descent_m <= 3.0, "{last:?}"); // 274.45 m before the fix
@@ -1094,8 +1113,8 @@ fn huge_noise_settings_are_refused_or_harmless() {
         match Pipeline::<2>::new(s) {
             Err(e) => assert_eq!(e, Error::InvalidSetting),
             Ok(mut p) => {
-                p.process(&Sample::pressure(0.0, 95_000.0));
-                let out = p.process(&Sample::pressure(1.0, 90_000.0));
+                p.process(&Sample::pressure(at(0.0), 95_000.0));
+                let out = p.process(&Sample::pressure(at(1.0), 90_000.0));
                 assert!(out.accepted() && finite(&out), "{out:?}"); // sigma inf before the fix
             }
         }
@@ -1112,8 +1131,8 @@ fn huge_noise_settings_are_refused_or_harmless() {
 #[test]
 fn kalman_takes_accelerometer_and_baro_after_sub_f32_step() {
     let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
-    assert!(p.process(&Sample::pressure(0.0, 95_000.0)).accepted());
-    let mut s = Sample::pressure(1.0e-300, 95_007.6);
+    assert!(p.process(&Sample::pressure(at(0.0), 95_000.0)).accepted());
+    let mut s = Sample::pressure(Instant::from_micros(1), 95_007.6);
     s.accel_up_mps2 = Some(0.0);
     let before = p.clone();
     let out = p.process(&s);

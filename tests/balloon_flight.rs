@@ -68,6 +68,9 @@
 // Constants keep the digits of their sources.
 #![allow(clippy::excessive_precision)]
 
+mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use isohypse::atmosphere::pressure_altitude;
 use isohypse::geopotential::Gravity;
 use isohypse::sounding::{Profile, Sounding};

@@ -6,6 +6,9 @@
 //! `--features defmt` (or `--all-features`).
 #![cfg(feature = "defmt")]
 
+mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -179,7 +182,7 @@ fn pipeline_output_and_state_format() {
     let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
     take();
     let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
-    let out: Output = p.process(&Sample::pressure(0.0, 97_700.0));
+    let out: Output = p.process(&Sample::pressure(at(0.0), 97_700.0));
     defmt::println!("{}", out);
     let frame = take();
     assert!(out.altitude_sigma_m > 0.0);

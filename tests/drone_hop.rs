@@ -26,6 +26,9 @@
 //!
 //! Run with `cargo test --test drone_hop -- --nocapture` to see the tables.
 
+mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use isohypse::atmosphere::US_1976;
 use isohypse::filter::{
     AlphaBeta, GroundReference, GroundReferenceConfig, KalmanOutcome, Median, MovingAverage,
@@ -252,13 +255,13 @@ fn run_kalman(o: &Options, s: &Streams) -> KalmanRun {
     while i < s.baro.len() {
         if j < s.accel.len() && s.accel[j].0 <= s.baro[i].t {
             let (t, a) = s.accel[j];
-            kf.predict(t, a).unwrap();
+            kf.predict(at(t), a).unwrap();
             j += 1;
             continue;
         }
         let b = &s.baro[i];
         kf.set_baro_disturbed(o.flag_wash && o.in_wash(b.t));
-        let outcome = kf.correct(b.t, b.height).unwrap();
+        let outcome = kf.correct(at(b.t), b.height).unwrap();
         // Inside a flagged disturbance the gate is wider on purpose.
         if b.spike && !(o.flag_wash && o.in_wash(b.t)) {
             spikes += 1;
@@ -295,7 +298,7 @@ fn run_one_pole(s: &Streams, fc: f32, median: bool) -> Track {
         if median {
             z = m.push(z).unwrap();
         }
-        let y = lp.update(b.t, z).unwrap() as f64 - FIELD_M;
+        let y = lp.update(at(b.t), z).unwrap() as f64 - FIELD_M;
         let v = match out.last() {
             Some(&(t0, y0, _)) => (y - y0) / (b.t - t0),
             None => 0.0,
@@ -312,7 +315,7 @@ fn run_alpha_beta(s: &Streams) -> Track {
         .iter()
         .map(|b| {
             let z = m.push(b.height.meters()).unwrap();
-            ab.update(b.t, Height::from_meters(z).unwrap()).unwrap();
+            ab.update(at(b.t), Height::from_meters(z).unwrap()).unwrap();
             (
                 b.t,
                 ab.height().unwrap().meters() as f64 - FIELD_M,
@@ -559,7 +562,7 @@ fn ground_reference_from_rest_before_take_off() {
         let (mut i, mut j) = (0, 0);
         while i < s.baro.len() {
             if j < s.accel.len() && s.accel[j].0 <= s.baro[i].t {
-                kf.predict(s.accel[j].0, s.accel[j].1).unwrap();
+                kf.predict(at(s.accel[j].0), s.accel[j].1).unwrap();
                 j += 1;
                 continue;
             }
@@ -567,12 +570,12 @@ fn ground_reference_from_rest_before_take_off() {
             i += 1;
             // Spikes are excluded from the reference by the Kalman gate.
             let accepted = !matches!(
-                kf.correct(b.t, b.height).unwrap(),
+                kf.correct(at(b.t), b.height).unwrap(),
                 KalmanOutcome::Rejected { .. }
             );
             if b.t < CLIMB.0 {
                 if accepted {
-                    g.push(b.t, b.height).unwrap();
+                    g.push(at(b.t), b.height).unwrap();
                 }
                 continue;
             }

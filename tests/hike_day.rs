@@ -17,6 +17,9 @@
 //! (m), and for comparison the ascent error and end error with the weather held at rest
 //! but not extrapolated while walking.
 
+mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use isohypse::atmosphere::US_1976;
 use isohypse::track::{HikeConfig, HikeTracker};
 use isohypse::{Height, Pressure};
@@ -275,7 +278,7 @@ fn run_with(day: &Day, seed: u64, fixes: &[usize], config: HikeConfig) -> Outcom
             naive_ascent += (raw - prev).max(0.0);
         }
         previous_raw = Some(raw);
-        let report = tracker.update(i as f64, p).unwrap();
+        let report = tracker.update(at(i as f64), p).unwrap();
         if fixes.contains(&i) {
             tracker
                 .fix_elevation(Height::from_meters(day.truth[i] as f32).unwrap())
@@ -462,7 +465,7 @@ fn night_at_rest_attributes_weather_and_raises_alert() {
         // -600 Pa over the night, fastest 1.5 hPa/h.
         let front = -300.0 * (1.0 + ((t - 18_000.0) / 7200.0).tanh());
         let p = Pressure::from_pa((base + front + 2.0 * rng.normal()) as f32).unwrap();
-        let r = tracker.update(t, p).unwrap();
+        let r = tracker.update(at(t), p).unwrap();
         if i == 200 {
             first_height = Some(r.height.meters() as f64);
         }
@@ -513,7 +516,7 @@ fn slow_climbs_after_a_rest() {
                 .unwrap()
                 .pa() as f64;
             let p = Pressure::from_pa((p + 2.0 * rng.normal()) as f32).unwrap();
-            last = Some(tracker.update(i as f64, p).unwrap());
+            last = Some(tracker.update(at(i as f64), p).unwrap());
         }
         let r = last.unwrap();
         println!("{rate:>10.0} {:>10.1} {:>10.1}", r.ascent_m, 100.0);
@@ -547,7 +550,7 @@ fn steady_pressure_falls_at_rest() {
             let p = base - rate_hpa_per_h * 100.0 * i as f64 / 3600.0 + 2.0 * rng.normal();
             last = Some(
                 tracker
-                    .update(i as f64, Pressure::from_pa(p as f32).unwrap())
+                    .update(at(i as f64), Pressure::from_pa(p as f32).unwrap())
                     .unwrap(),
             );
         }

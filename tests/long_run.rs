@@ -16,6 +16,8 @@ use isohypse::track::HikeConfig;
 use isohypse::{Height, Pressure};
 mod common;
 use common::p_at;
+#[allow(unused_imports)]
+use common::{at, secs};
 
 struct Noise(u64);
 
@@ -62,7 +64,7 @@ fn week_at_rest_hike_totals_do_not_drift() {
     let mut last = None;
     for s in 0..seconds {
         let p = (p_true + 1.5 * noise.gaussian()) as f32;
-        let out = pipe.process(&Sample::pressure(s as f64, p));
+        let out = pipe.process(&Sample::pressure(at(s as f64), p));
         assert!(out.accepted(), "{s}: {out:?}");
         assert!(
             out.altitude_m.is_finite() && out.vertical_speed_mps.is_finite(),
@@ -120,7 +122,7 @@ fn week_at_rest_hike_with_weather_drift() {
         // triangle wave: -150 Pa .. +150 Pa over a day
         let weather = 150.0 * (1.0 - 4.0 * (day_phase - 0.5).abs()).clamp(-1.0, 1.0);
         let p = (p_mean + weather + 1.5 * noise.gaussian()) as f32;
-        let out = pipe.process(&Sample::pressure(s as f64, p));
+        let out = pipe.process(&Sample::pressure(at(s as f64), p));
         assert!(out.accepted() && out.altitude_m.is_finite(), "{s}: {out:?}");
         worst_speed = worst_speed.max(out.vertical_speed_mps.abs());
         let h0 = *first.get_or_insert(out.altitude_m);
@@ -197,7 +199,7 @@ fn three_hour_balloon_flight_error_does_not_grow() {
             .unwrap();
         let p = state.pressure.pa() as f64 + 2.0 * noise.gaussian();
         let sample = Sample {
-            time_s: t,
+            time: at(t),
             pressure_pa: Pressure::from_pa(p as f32).unwrap().pa(),
             temperature_c: Some(state.temperature.celsius()),
             humidity_pct: Some(0.0),
@@ -291,7 +293,7 @@ fn balloon_ascent_within_goal() {
             .unwrap();
         let p = state.pressure.pa() as f64 + 2.0 * noise.gaussian();
         let out = pipe.process(&Sample {
-            time_s: t,
+            time: at(t),
             pressure_pa: p as f32,
             temperature_c: Some(state.temperature.celsius()),
             humidity_pct: Some(0.0),

@@ -10,6 +10,9 @@ use isohypse::pipeline::{
 use isohypse::{Error, Pressure};
 mod common;
 use common::p_at;
+#[allow(unused_imports)]
+use common::{at, secs};
+use isohypse::time::Instant;
 
 #[test]
 fn pipeline_state_sizes() {
@@ -105,7 +108,7 @@ fn pointwise_standard_is_pressure_altitude() {
         .iter()
         .enumerate()
     {
-        let out = pipe.process(&Sample::pressure(i as f64, *p));
+        let out = pipe.process(&Sample::pressure(at(i as f64), *p));
         assert!(out.accepted());
         let expect = atmosphere::pressure_altitude(Pressure::from_pa(*p).unwrap()).unwrap();
         assert_eq!(out.altitude_m, expect.meters());
@@ -117,20 +120,18 @@ fn rejected_samples_change_nothing() {
     for settings in [Settings::balloon(), Settings::drone(), Settings::hike()] {
         let mut pipe = Pipeline::<16>::new(settings).unwrap();
         for i in 0..100 {
-            let mut s = Sample::pressure(i as f64 * 0.1, p_at(200.0 + 0.01 * i as f32));
+            let mut s = Sample::pressure(at(i as f64 * 0.1), p_at(200.0 + 0.01 * i as f32));
             s.temperature_c = Some(15.0);
             pipe.process(&s);
         }
         let before = pipe.clone();
         let bad = [
-            Sample::pressure(9.9, 98_000.0),       // time repeats
-            Sample::pressure(5.0, 98_000.0),       // time goes back
-            Sample::pressure(f64::NAN, 98_000.0),  // time NaN
-            Sample::pressure(20.0, f32::NAN),      // pressure NaN
-            Sample::pressure(20.0, -1.0),          // negative pressure
-            Sample::pressure(20.0, 0.0),           // zero pressure
-            Sample::pressure(20.0, 130_000.0),     // above 1200 hPa
-            Sample::pressure(20.0, f32::INFINITY), // infinite pressure
+            Sample::pressure(at(9.9), 98_000.0),       // time repeats
+            Sample::pressure(at(20.0), f32::NAN),      // pressure NaN
+            Sample::pressure(at(20.0), -1.0),          // negative pressure
+            Sample::pressure(at(20.0), 0.0),           // zero pressure
+            Sample::pressure(at(20.0), 130_000.0),     // above 1200 hPa
+            Sample::pressure(at(20.0), f32::INFINITY), // infinite pressure
         ];
         for s in bad {
             let out = pipe.process(&s);
@@ -143,7 +144,7 @@ fn rejected_samples_change_nothing() {
 #[test]
 fn invalid_optional_channels_are_flagged_and_ignored() {
     let mut pipe = Pipeline::<16>::new(Settings::balloon()).unwrap();
-    let mut s = Sample::pressure(0.0, 95_000.0);
+    let mut s = Sample::pressure(at(0.0), 95_000.0);
     s.temperature_c = Some(-300.0);
     s.humidity_pct = Some(130.0);
     s.accel_up_mps2 = Some(f32::NAN);
@@ -172,7 +173,7 @@ fn invalid_settings_are_refused_and_old_ones_kept() {
     bad.latitude_deg = Some(120.0);
     assert!(Pipeline::<2>::new(bad).is_err());
     let mut pipe = Pipeline::<2>::new(Settings::drone()).unwrap();
-    pipe.process(&Sample::pressure(0.0, 98_000.0));
+    pipe.process(&Sample::pressure(at(0.0), 98_000.0));
     let before = pipe.clone();
     assert_eq!(
         pipe.set_start_altitude(Some(f32::NAN)),
@@ -192,7 +193,7 @@ fn drone_ground_reference_zeroes_height() {
     let ground = p_at(437.0);
     let mut last = None;
     for i in 0..100 {
-        last = Some(pipe.process(&Sample::pressure(i as f64 * 0.02, ground)));
+        last = Some(pipe.process(&Sample::pressure(at(i as f64 * 0.02), ground)));
     }
     let out = last.unwrap();
     assert_eq!(out.phase, Phase::Ground);
@@ -207,7 +208,7 @@ fn sounding_preset_starts_at_start_altitude() {
     let mut pipe = Pipeline::<64>::new(s).unwrap();
     let mut out = None;
     for i in 0..30 {
-        let mut sample = Sample::pressure(i as f64, 97_000.0);
+        let mut sample = Sample::pressure(at(i as f64), 97_000.0);
         sample.temperature_c = Some(20.0);
         sample.humidity_pct = Some(60.0);
         out = Some(pipe.process(&sample));
@@ -230,7 +231,7 @@ fn sea_level_setting_and_run_time_change() {
     };
     let mut pipe = Pipeline::<2>::new(s).unwrap();
     let p = p_at(300.0);
-    let out = pipe.process(&Sample::pressure(0.0, p));
+    let out = pipe.process(&Sample::pressure(at(0.0), p));
     assert!(
         (out.altitude_m - 300.0 - 83.0).abs() < 2.0,
         "{}",
@@ -240,7 +241,7 @@ fn sea_level_setting_and_run_time_change() {
     let before = out.altitude_m;
     pipe.set_altimeter_setting(AltimeterSetting::Standard)
         .unwrap();
-    let next = pipe.process(&Sample::pressure(0.02, p));
+    let next = pipe.process(&Sample::pressure(at(0.02), p));
     assert!(
         (next.altitude_m - before).abs() < 1.0,
         "jumped to {}",
@@ -248,7 +249,7 @@ fn sea_level_setting_and_run_time_change() {
     );
     let mut last = next;
     for i in 2..2000 {
-        last = pipe.process(&Sample::pressure(i as f64 * 0.02, p));
+        last = pipe.process(&Sample::pressure(at(i as f64 * 0.02), p));
     }
     assert!(
         (last.altitude_m - 300.0).abs() < 0.05,
@@ -270,11 +271,12 @@ fn sea_level_setting_and_run_time_change() {
 fn huge_time_gaps_keep_outputs_finite() {
     // Regression test for a fuzzer find: with the hike preset a gap of 1e77 s made the
     // vertical-speed smoother compute inf / inf (NaN); the datum slew had the same form.
+    // Gaps now reach 584 542 years at the most (the whole range of an instant).
     for settings in [Settings::balloon(), Settings::drone(), Settings::hike()] {
         let mut pipe = Pipeline::<8>::new(settings).unwrap();
-        pipe.process(&Sample::pressure(0.0, 95_000.0));
-        for t in [1.0e10, 2.316e77, 1.0e300] {
-            let out = pipe.process(&Sample::pressure(t, 95_000.0));
+        pipe.process(&Sample::pressure(at(0.0), 95_000.0));
+        for t in [10_000_000_000_000_000, u64::MAX / 2, u64::MAX] {
+            let out = pipe.process(&Sample::pressure(Instant::from_micros(t), 95_000.0));
             assert!(out.accepted(), "{out:?}");
             assert!(
                 out.altitude_m.is_finite()
@@ -290,13 +292,13 @@ fn huge_time_gaps_keep_outputs_finite() {
 fn tiny_time_steps_keep_hike_speed_finite() {
     // Regression test for a fuzzer find: the hike preset's speed smoother divided a
     // height change by a step of 5e-166 s and turned the f64 quotient into an f32
-    // infinity.
+    // infinity. The smallest step is now one microsecond.
     let mut pipe = Pipeline::<2>::new(Settings::hike()).unwrap();
-    let mut first = Sample::pressure(-5.0e-166, 71_072.34);
+    let mut first = Sample::pressure(Instant::from_micros(0), 71_072.34);
     first.known_altitude_m = Some(-7_000.0 + 100.0);
     pipe.process(&first);
-    for t in [3.3e-312, 1.0e-300, 2.0e-300] {
-        let out = pipe.process(&Sample::pressure(t, 71_072.34));
+    for t in [1, 2, 3] {
+        let out = pipe.process(&Sample::pressure(Instant::from_micros(t), 71_072.34));
         assert!(
             out.accepted() && out.vertical_speed_mps.is_finite(),
             "{out:?}"
@@ -322,11 +324,11 @@ fn column_models_through_the_pipeline() {
     s.spike_gate_m = None;
     s.start_altitude_m = Some(500.0);
     let mut pipe = Pipeline::<2>::new(s).unwrap();
-    let mut first = Sample::pressure(0.0, 95_000.0);
+    let mut first = Sample::pressure(at(0.0), 95_000.0);
     first.temperature_c = Some(15.0);
     let out0 = pipe.process(&first);
     assert!((out0.altitude_m - 500.0).abs() < 1e-3, "{out0:?}");
-    let mut second = Sample::pressure(1.0, 90_000.0);
+    let mut second = Sample::pressure(at(1.0), 90_000.0);
     second.temperature_c = Some(10.0);
     let out = pipe.process(&second);
     // R = 287.053 07 J/(kg K), g0 = 9.806 65 m/s^2, r0 = 6 356 766 m: U.S. Standard
@@ -356,8 +358,9 @@ fn column_models_through_the_pipeline() {
         s.estimator = Estimator::Off;
         s.start_altitude_m = None;
         let mut pipe = Pipeline::<2>::new(s).unwrap();
-        pipe.process(&Sample::pressure(0.0, 100_000.0));
-        pipe.process(&Sample::pressure(1.0, 80_000.0)).altitude_m
+        pipe.process(&Sample::pressure(at(0.0), 100_000.0));
+        pipe.process(&Sample::pressure(at(1.0), 80_000.0))
+            .altitude_m
     };
     let warm = height_for(HeightModel::Column(TemperatureModel::StandardOffset {
         delta_k: 10.0,
@@ -390,7 +393,7 @@ fn demo_samples(text: &str) -> Vec<Sample> {
         for (name, field) in header.iter().zip(line.split(',')) {
             let v: Option<f64> = field.trim().parse().ok();
             match (*name, v) {
-                ("time_s", Some(v)) => s.time_s = v,
+                ("time_s", Some(v)) => s.time = at(v),
                 ("pressure_pa", Some(v)) => s.pressure_pa = v as f32,
                 ("temperature_c", v) => s.temperature_c = v.map(|v| v as f32),
                 ("humidity_pct", v) => s.humidity_pct = v.map(|v| v as f32),
@@ -444,8 +447,8 @@ fn borrowed_settings_give_the_same_outputs() {
                 // an accelerometer-only row (the drone log's 200 Hz channel)
                 let accel = s.accel_up_mps2.unwrap();
                 assert_eq!(
-                    owned.accelerometer(s.time_s, accel),
-                    borrowed.accelerometer(s.time_s, accel)
+                    owned.accelerometer(at(secs(s.time)), accel),
+                    borrowed.accelerometer(at(secs(s.time)), accel)
                 );
                 continue;
             }
@@ -507,7 +510,7 @@ fn same_outputs<const N: usize, T: FixedSettings>(samples: &[Sample]) {
         assert_eq!(fixed, before);
     }
     let last = samples.last().unwrap();
-    let next = Sample::pressure(last.time_s + 1.0, last.pressure_pa);
+    let next = Sample::pressure(at(secs(last.time) + 1.0), last.pressure_pa);
     assert_eq!(owned.process(&next), fixed.process(&next));
 }
 
@@ -522,7 +525,7 @@ fn fixed_settings_give_the_same_outputs() {
             } else {
                 (f64::from(i) - 100.0) * 0.2
             };
-            let mut s = Sample::pressure(t, p_at(h as f32));
+            let mut s = Sample::pressure(at(t), p_at(h as f32));
             if i == 150 {
                 s.pressure_pa -= 400.0;
             }
@@ -622,7 +625,7 @@ fn lean_layouts_are_smaller_and_compute_the_same() {
         .map(|i| {
             let t = f64::from(i);
             let h = 300.0 + if i < 200 { f64::from(i) * 0.3 } else { 60.0 };
-            let mut s = Sample::pressure(t, p_at(h as f32));
+            let mut s = Sample::pressure(at(t), p_at(h as f32));
             if i == 250 {
                 s.known_altitude_m = Some(371.0);
             }
@@ -656,7 +659,7 @@ fn drone_settles_and_matches_the_full_filter() {
                 _ => (12.0, 0.0),
             };
             let noise = f64::from((i * 7) % 13) / 4.0 - 1.5;
-            let mut s = Sample::pressure(t, p_at(200.0 + z as f32) + noise as f32);
+            let mut s = Sample::pressure(at(t), p_at(200.0 + z as f32) + noise as f32);
             s.accel_up_mps2 = Some(a as f32);
             s
         })
@@ -674,7 +677,7 @@ fn drone_settles_and_matches_the_full_filter() {
         assert!(!full.estimator_settled());
         if reuse.estimator_settled() {
             settled += 1;
-            first.get_or_insert(s.time_s);
+            first.get_or_insert(secs(s.time));
         }
         assert_eq!(a.flags, b.flags);
         dh = dh.max((a.altitude_m - b.altitude_m).abs());

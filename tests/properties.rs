@@ -21,6 +21,8 @@ use isohypse::pipeline::{Flags, Output, Pipeline, Sample, Settings};
 use isohypse::track::AscentTotals;
 use proptest::prelude::*;
 mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use common::{h, k, pa};
 
 /// Proptest settings: `n` cases, no failure-persistence files (a failing case is printed
@@ -404,7 +406,7 @@ proptest! {
             t += dt;
             lo = lo.min(x);
             hi = hi.max(x);
-            let y = lp.update(t, x).unwrap();
+            let y = lp.update(at(t), x).unwrap();
             let tol = ulps(c.abs() + b);
             prop_assert!(y.is_finite() && y >= lo - tol && y <= hi + tol, "{y} outside [{lo}, {hi}]");
         }
@@ -425,7 +427,7 @@ proptest! {
         prop_assume!(gain.is_some());
         let gain = gain.unwrap() as f32;
         for (i, x) in u.iter().map(|u| c + b * u).enumerate() {
-            ab.update(i as f64 / rate_hz, h(x)).unwrap();
+            ab.update(at(i as f64 / rate_hz), h(x)).unwrap();
             let y = ab.height().unwrap().meters();
             // rounding: relative 1e-5 of the magnitude per unit of gain (f32 recursion)
             let tol = gain * (b + 1.0e-5 * (c.abs() + b)) + ulps(c);
@@ -449,9 +451,9 @@ proptest! {
         for (i, (x, a)) in u.iter().map(|u| c + b * u).zip(&accel).enumerate() {
             let t = i as f64 * 0.02;
             if let Some(a) = a {
-                kf.predict(t - 0.01, *a).unwrap();
+                kf.predict(at(t - 0.01), *a).unwrap();
             }
-            let outcome = kf.correct(t, h(x)).unwrap();
+            let outcome = kf.correct(at(t), h(x)).unwrap();
             if i == 0 {
                 prop_assert_eq!(outcome, KalmanOutcome::Initialized);
             }
@@ -575,7 +577,7 @@ fn step_strategy() -> impl Strategy<Value = Step> {
 }
 
 fn output_finite(o: &Output) -> bool {
-    o.time_s.is_finite()
+    secs(o.time).is_finite()
         && o.altitude_m.is_finite()
         && o.raw_altitude_m.is_finite()
         && o.vertical_speed_mps.is_finite()
@@ -598,7 +600,7 @@ fn run_pipeline<const N: usize>(
     let mut started = false;
     for (i, s) in steps.iter().enumerate() {
         let mut sample = Sample {
-            time_s: t + s.dt,
+            time: at(t + s.dt),
             pressure_pa: (p * (1.0 + s.dp)).clamp(lo, hi),
             temperature_c: s.temperature_c,
             humidity_pct: s.humidity_pct,
@@ -607,9 +609,11 @@ fn run_pipeline<const N: usize>(
         };
         match s.poison {
             1 => sample.pressure_pa = f32::NAN,
-            2 => sample.time_s = f64::NAN,
-            3 => sample.time_s = t, // repeated time
-            4 => sample.time_s = t - 1.0,
+            // a glitched stamp far ahead, and a step back (a restart): clock faults,
+            // taken as a new time base and flagged
+            2 => sample.time = at(t + 1.0e6),
+            3 => sample.time = at(t), // repeated time
+            4 => sample.time = at(t - 1.0),
             5 => sample.pressure_pa = -sample.pressure_pa,
             6 => sample.pressure_pa = hi * 1.5,
             7 => sample.pressure_pa = f32::INFINITY,
@@ -617,8 +621,15 @@ fn run_pipeline<const N: usize>(
             9 => sample.known_altitude_m = Some(f32::INFINITY),
             _ => {}
         }
-        // a repeated or earlier time is only wrong after a first accepted sample
-        let invalid = matches!(s.poison, 1 | 2 | 5..=7) || (started && matches!(s.poison, 3 | 4));
+        // a repeated time is only wrong after a first accepted sample
+        let invalid = matches!(s.poison, 1 | 5..=7) || (started && s.poison == 3);
+        // a step back, or forward beyond the settings' longest gap, starts a new time base
+        let clock_fault = started
+            && s.poison != 3
+            && sample
+                .time
+                .checked_duration_since(at(t))
+                .is_none_or(|d| d.as_secs_f32() > settings.max_gap_s);
         let before = pipe.clone();
         let out = pipe.process(&sample);
         if out.flags.rejected() {
@@ -639,12 +650,13 @@ fn run_pipeline<const N: usize>(
             }
         } else {
             prop_assert!(!invalid, "step {i}: invalid sample {sample:?} accepted");
+            prop_assert_eq!(out.flags.contains(Flags::CLOCK_FAULT), clock_fault);
             started = true;
             prop_assert!(
                 output_finite(&out),
                 "step {i}: non-finite output {out:?} for {sample:?}"
             );
-            t = sample.time_s;
+            t = secs(sample.time);
             p = sample.pressure_pa;
         }
     }

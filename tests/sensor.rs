@@ -4,6 +4,9 @@
 //! demo data. Run with `--features embedded-hal` (or `--all-features`).
 #![cfg(feature = "embedded-hal")]
 
+mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use embedded_hal::i2c::ErrorKind;
 use embedded_hal_mock::eh1::delay::{CheckedDelay, NoopDelay, Transaction as DelayTransaction};
 use embedded_hal_mock::eh1::i2c::{Mock as I2cMock, Transaction};
@@ -91,13 +94,23 @@ fn good_reads_give_the_same_outputs_as_the_pipeline_fed_directly() {
     );
     let mut reference = Pipeline::<2>::new(Settings::drone()).unwrap();
     let mut seen = Vec::new();
-    let summary = driver.run_for(3, 20, |t, r| seen.push((t, r)));
+    // a clock that reads 7 ms, then 27 ms, 47 ms: the stamps come from it
+    let mut ms = 7u64;
+    let mut clock = || {
+        ms += 20;
+        isohypse::time::Instant::from_millis(ms - 20)
+    };
+    let summary = driver.run_for(3, 20, &mut clock, |t, r| seen.push((t, r)));
     assert_eq!(summary.accepted, 3);
     assert_eq!((summary.rejected, summary.read_errors), (0, 0));
     for (i, ((t, result), &(p, tc, h))) in seen.into_iter().zip(readings.iter()).enumerate() {
-        assert_eq!(t, 0.02 * i as f64, "one period (20 ms) per reading");
+        assert_eq!(
+            t.as_millis(),
+            7 + 20 * i as u64,
+            "each reading stamped by the clock"
+        );
         let expected = reference.process(&Sample {
-            time_s: t,
+            time: t,
             pressure_pa: p,
             temperature_c: Some(tc),
             humidity_pct: h,
@@ -106,7 +119,10 @@ fn good_reads_give_the_same_outputs_as_the_pipeline_fed_directly() {
         assert_eq!(result.unwrap(), expected);
     }
     assert_eq!(driver.pipeline(), &reference);
-    assert_eq!(driver.last_time_s(), Some(0.04));
+    assert_eq!(
+        driver.last_time(),
+        Some(isohypse::time::Instant::from_millis(47))
+    );
     drop(driver);
     i2c.done();
 }
@@ -123,11 +139,11 @@ fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
         NoopDelay::new(),
         Pipeline::<2>::new(Settings::drone()).unwrap(),
     );
-    let first = driver.step(0.0).unwrap();
+    let first = driver.step(at(0.0)).unwrap();
     assert!(first.accepted());
     let before = driver.pipeline().clone();
 
-    let failed = driver.step(0.02);
+    let failed = driver.step(at(0.02));
     assert_eq!(
         failed,
         Err(DriverError::Sensor(ExampleBarometerError::Bus(
@@ -149,9 +165,9 @@ fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
     let mut reference = before.clone();
     let expected = reference.process(&Sample {
         temperature_c: Some(21.5),
-        ..Sample::pressure(0.04, 97_699.0)
+        ..Sample::pressure(at(0.04), 97_699.0)
     });
-    let after = driver.step(0.04).unwrap();
+    let after = driver.step(at(0.04)).unwrap();
     assert!(after.accepted());
     assert_eq!(after, expected);
     assert_eq!(driver.pipeline(), &reference);
@@ -193,7 +209,7 @@ fn non_physical_reading_is_a_flagged_rejected_sample_not_an_error() {
         Pipeline::<2>::new(Settings::hike()).unwrap(),
     );
     let mut outs = Vec::new();
-    let summary = driver.run_for(2, 1000, |_, r| outs.push(r.unwrap()));
+    let summary = driver.run_for(2, 1000, &mut second_ticks(), |_, r| outs.push(r.unwrap()));
     assert_eq!(
         (summary.accepted, summary.rejected, summary.read_errors),
         (1, 1, 0)
@@ -225,11 +241,20 @@ fn run_for_paces_with_the_delay_and_goes_on_after_errors() {
         Pipeline::<2>::new(Settings::drone()).unwrap(),
     );
     let mut times = Vec::new();
-    let first = driver.run_for(2, 50, |t, _| times.push(t));
-    let second = driver.run_for(2, 50, |t, _| times.push(t));
+    let mut ms = 0u64;
+    let mut clock = || {
+        ms += 50;
+        isohypse::time::Instant::from_millis(ms - 50)
+    };
+    let first = driver.run_for(2, 50, &mut clock, |t, _| times.push(t.as_millis()));
+    let second = driver.run_for(2, 50, &mut clock, |t, _| times.push(t.as_millis()));
     assert_eq!((first.accepted, first.read_errors), (1, 1));
     assert_eq!((second.accepted, second.read_errors), (2, 0));
-    assert_eq!(times, vec![0.0, 0.05, 0.05 + 0.05, 0.05 + 0.05 + 0.05]);
+    assert_eq!(
+        times,
+        vec![0, 50, 100, 150],
+        "each reading stamped by the clock, ms"
+    );
     drop(driver);
     delay.done();
     i2c.done();
@@ -254,8 +279,17 @@ fn any_sensor_works_through_a_mutable_reference() {
         NoopDelay::new(),
         Pipeline::<2>::new(Settings::hike()).unwrap(),
     );
-    let summary = driver.run_for(5, 1000, |_, _| {});
+    let summary = driver.run_for(5, 1000, &mut second_ticks(), |_, _| {});
     assert_eq!(summary.accepted, 5);
     drop(driver);
     assert_eq!(sensor.0, 5);
+}
+
+/// A clock for the tests: 0 s, 1 s, 2 s... at each reading.
+fn second_ticks() -> impl FnMut() -> isohypse::time::Instant {
+    let mut s = 0u64;
+    move || {
+        s += 1;
+        isohypse::time::Instant::from_secs(s - 1)
+    }
 }

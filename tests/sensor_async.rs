@@ -2,6 +2,9 @@
 //! pipeline, a failed read is counted and leaves the pipeline as it was, reading recovers.
 #![cfg(feature = "embedded-hal-async")]
 
+mod common;
+#[allow(unused_imports)]
+use common::{at, secs};
 use core::future::Future;
 use core::pin::pin;
 use core::task::{Context, Poll, Waker};
@@ -66,17 +69,17 @@ fn good_reads_bus_error_and_recovery() {
         AsyncSensorDriver::new(Scripted { script, next: 0 }, CountingDelay(0), pipeline);
     // two good reads
     for t in [0.0, 1.0] {
-        let out = block_on(driver.step(t)).unwrap();
+        let out = block_on(driver.step(at(t))).unwrap();
         assert!(out.accepted());
     }
     // a failed read: typed error, counted, pipeline unchanged
     let before = driver.pipeline().clone();
-    let err = block_on(driver.step(2.0)).unwrap_err();
+    let err = block_on(driver.step(at(2.0))).unwrap_err();
     assert!(matches!(err, DriverError::Sensor("bus")));
     assert_eq!(driver.read_errors(), 1);
     assert_eq!(driver.pipeline(), &before);
     // recovery
-    let out = block_on(driver.step(3.0)).unwrap();
+    let out = block_on(driver.step(at(3.0))).unwrap();
     assert!(out.accepted());
 }
 
@@ -87,10 +90,18 @@ fn run_for_paces_with_the_delay() {
     let mut driver =
         AsyncSensorDriver::new(Scripted { script, next: 0 }, CountingDelay(0), pipeline);
     let mut times = Vec::new();
-    let summary = block_on(driver.run_for(9, 500, |t, _| times.push(t)));
+    let mut ms = 0u64;
+    let mut clock = || {
+        ms += 500;
+        isohypse::time::Instant::from_millis(ms - 500)
+    };
+    let summary = block_on(driver.run_for(9, 500, &mut clock, |t, _| times.push(t.as_millis())));
     assert_eq!(summary.accepted, 6);
     assert_eq!(summary.read_errors, 3);
-    assert_eq!(times, [0.0, 0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0]);
+    assert_eq!(
+        times,
+        [0, 500, 1_000, 1_500, 2_000, 2_500, 3_000, 3_500, 4_000]
+    );
     let (_, delay, _) = driver.release();
     assert_eq!(delay.0, 9 * 500 * 1_000_000);
 }

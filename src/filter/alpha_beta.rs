@@ -1,6 +1,7 @@
 //! Alpha-beta (g-h) filter for height and vertical speed.
 
 use super::step_s;
+use crate::time::Instant;
 use crate::{Error, Height, VerticalSpeed};
 
 /// Alpha-beta filter: fixed-gain tracker of height and vertical speed from height
@@ -31,11 +32,12 @@ use crate::{Error, Height, VerticalSpeed};
 /// * State: 32 bytes (`f64` time, five `f32`, one flag, padded).
 ///
 /// ```
+/// use isohypse::time::Instant;
 /// use isohypse::{filter::AlphaBeta, Height};
 /// let mut ab = AlphaBeta::new(0.5, 0.1, 1.0)?;
 /// for k in 0..200 {
-///     let t = k as f64 * 0.02;
-///     ab.update(t, Height::from_meters(100.0 + 2.0 * t as f32)?)?;
+///     let t = Instant::from_millis(k * 20);
+///     ab.update(t, Height::from_meters(100.0 + 2.0 * 0.02 * k as f32)?)?;
 /// }
 /// assert!((ab.vertical_speed().unwrap().mps() - 2.0).abs() < 1e-3);
 /// # Ok::<(), isohypse::Error>(())
@@ -48,7 +50,7 @@ pub struct AlphaBeta {
     max_gap_s: f32,
     height_m: f32,
     speed_mps: f32,
-    last_time_s: f64,
+    last_time: Instant,
     started: bool,
 }
 
@@ -75,7 +77,7 @@ impl AlphaBeta {
             max_gap_s,
             height_m: 0.0,
             speed_mps: 0.0,
-            last_time_s: 0.0,
+            last_time: Instant::ZERO,
             started: false,
         })
     }
@@ -96,20 +98,19 @@ impl AlphaBeta {
         )
     }
 
-    /// Feeds a height sample taken at `time_s` (s).
+    /// Feeds a height sample taken at `time` (s).
     ///
     /// Errors: [`Error::NotFinite`] (time), [`Error::NotIncreasing`] (time not after
     /// the previous sample). The filter is unchanged on error.
-    pub fn update(&mut self, time_s: f64, height: Height) -> Result<(), Error> {
+    pub fn update(&mut self, time: Instant, height: Height) -> Result<(), Error> {
         let z = height.meters();
         if !self.started {
-            super::check_time(time_s)?;
-            self.restart(time_s, z);
+            self.restart(time, z);
             return Ok(());
         }
-        let dt = step_s(self.last_time_s, time_s)?;
+        let dt = step_s(self.last_time, time)?;
         if dt > self.max_gap_s {
-            self.restart(time_s, z);
+            self.restart(time, z);
             return Ok(());
         }
         let predicted = self.height_m + self.speed_mps * dt;
@@ -121,14 +122,14 @@ impl AlphaBeta {
         }
         self.height_m = h;
         self.speed_mps = v;
-        self.last_time_s = time_s;
+        self.last_time = time;
         Ok(())
     }
 
-    fn restart(&mut self, time_s: f64, z: f32) {
+    fn restart(&mut self, time: Instant, z: f32) {
         self.height_m = z;
         self.speed_mps = 0.0;
-        self.last_time_s = time_s;
+        self.last_time = time;
         self.started = true;
     }
 
@@ -155,13 +156,15 @@ impl AlphaBeta {
         self.started = false;
         self.height_m = 0.0;
         self.speed_mps = 0.0;
-        self.last_time_s = 0.0;
+        self.last_time = Instant::ZERO;
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
 
     fn h(m: f32) -> Height {
         Height::from_meters(m).unwrap()
@@ -177,7 +180,7 @@ mod tests {
         let mut t = 0.0f64;
         for k in 0..2000 {
             t += steps[k % steps.len()];
-            ab.update(t, h(300.0 + rate * t as f32)).unwrap();
+            ab.update(at(t), h(300.0 + rate * t as f32)).unwrap();
         }
         let truth = 300.0 + rate * t as f32;
         assert!((ab.height().unwrap().meters() - truth).abs() < 2e-4);
@@ -215,10 +218,10 @@ mod tests {
         let mut ab = AlphaBeta::new(0.5, 0.1, 0.5).unwrap();
         for k in 0..100 {
             let t = k as f64 * 0.02;
-            ab.update(t, h(10.0 * t as f32)).unwrap();
+            ab.update(at(t), h(10.0 * t as f32)).unwrap();
         }
         // 30 s gap: restart at the sample instead of extrapolating 10 m/s.
-        ab.update(32.0, h(25.0)).unwrap();
+        ab.update(at(32.0), h(25.0)).unwrap();
         assert_eq!(ab.height().unwrap().meters(), 25.0);
         assert_eq!(ab.vertical_speed().unwrap().mps(), 0.0);
     }
@@ -226,14 +229,12 @@ mod tests {
     #[test]
     fn bad_time_leaves_state_unchanged() {
         let mut ab = AlphaBeta::new(0.5, 0.1, 1.0).unwrap();
-        assert_eq!(ab.update(f64::NAN, h(1.0)), Err(Error::NotFinite));
         assert_eq!(ab.height(), None);
-        ab.update(0.0, h(1.0)).unwrap();
-        ab.update(0.1, h(1.2)).unwrap();
+        ab.update(at(0.0), h(1.0)).unwrap();
+        ab.update(at(0.1), h(1.2)).unwrap();
         let before = ab;
-        assert_eq!(ab.update(0.1, h(1.3)), Err(Error::NotIncreasing));
-        assert_eq!(ab.update(-5.0, h(1.3)), Err(Error::NotIncreasing));
-        assert_eq!(ab.update(f64::NAN, h(1.3)), Err(Error::NotFinite));
+        assert_eq!(ab.update(at(0.1), h(1.3)), Err(Error::NotIncreasing));
+        assert_eq!(ab.update(at(-5.0), h(1.3)), Err(Error::NotIncreasing));
         assert_eq!(ab, before);
     }
 }

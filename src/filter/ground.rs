@@ -1,6 +1,7 @@
 //! Ground reference: the mean height at rest before take-off.
 
 use super::step_s;
+use crate::time::Instant;
 use crate::{Error, Height};
 
 /// When a [`GroundReference`] has seen enough samples to be trusted.
@@ -44,9 +45,11 @@ impl Default for GroundReferenceConfig {
 /// * State: 40 bytes (an `f64` time, five `f32`, two counts, a flag).
 ///
 /// ```
+/// use isohypse::time::Instant;
 /// use isohypse::{filter::{GroundReference, GroundReferenceConfig}, Height};
 /// let mut g = GroundReference::new(GroundReferenceConfig { min_samples: 3, min_duration_s: 0.0 })?;
-/// for (t, h) in [(0.0, 120.1), (0.1, 119.9), (0.2, 120.0)] {
+/// for (ms, h) in [(0, 120.1), (100, 119.9), (200, 120.0)] {
+///     let t = Instant::from_millis(ms);
 ///     g.push(t, Height::from_meters(h)?)?;
 /// }
 /// g.arm()?;
@@ -59,7 +62,7 @@ impl Default for GroundReferenceConfig {
 pub struct GroundReference {
     config: GroundReferenceConfig,
     /// Time of the latest sample, s.
-    last_time_s: f64,
+    last_time: Instant,
     /// Time from the first sample to the latest, s, summed in `f32` steps (no `f64`
     /// time kept for it, no `f64` comparison per sample).
     span_s: f32,
@@ -93,7 +96,7 @@ impl GroundReference {
     const fn empty(config: GroundReferenceConfig) -> Self {
         Self {
             config,
-            last_time_s: 0.0,
+            last_time: Instant::ZERO,
             span_s: 0.0,
             anchor_m: 0.0,
             sum: 0.0,
@@ -103,21 +106,26 @@ impl GroundReference {
         }
     }
 
-    /// Adds a height measured at rest at `time_s` (s). Ignored (returns `Ok(false)`)
+    /// Adds a height measured at rest at `time` (s). Ignored (returns `Ok(false)`)
     /// once armed; `Ok(true)` when the sample was averaged.
     ///
     /// Errors: [`Error::NotFinite`], [`Error::NotIncreasing`] (time); the state is
     /// unchanged.
-    pub fn push(&mut self, time_s: f64, height: Height) -> Result<bool, Error> {
-        let z = height.meters();
+    pub fn push(&mut self, time: Instant, height: Height) -> Result<bool, Error> {
         let dt = if self.count == 0 {
-            super::check_time(time_s)?;
             0.0
         } else {
-            step_s(self.last_time_s, time_s)?
+            step_s(self.last_time, time)?
         };
+        Ok(self.push_after(dt, time, height))
+    }
+
+    /// [`Self::push`] with the step since the previous sample given (`dt`, s; the
+    /// pipeline's own, 0 after a clock fault), so that it never refuses.
+    pub(crate) fn push_after(&mut self, dt: f32, time: Instant, height: Height) -> bool {
+        let z = height.meters();
         if self.armed {
-            return Ok(false);
+            return false;
         }
         if self.count == 0 {
             self.anchor_m = z;
@@ -133,8 +141,8 @@ impl GroundReference {
         self.comp += c;
         self.count = self.count.saturating_add(1);
         self.span_s += dt;
-        self.last_time_s = time_s;
-        Ok(true)
+        self.last_time = time;
+        true
     }
 
     /// Whether enough samples over a long enough span have been averaged.
@@ -219,6 +227,8 @@ impl GroundReference {
 #[cfg(test)]
 mod tests {
     use super::*;
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
 
     fn h(m: f32) -> Height {
         Height::from_meters(m).unwrap()
@@ -227,7 +237,7 @@ mod tests {
     #[test]
     fn single_sample_is_not_a_reference() {
         let mut g = GroundReference::new(GroundReferenceConfig::default()).unwrap();
-        g.push(0.0, h(250.0)).unwrap();
+        g.push(at(0.0), h(250.0)).unwrap();
         assert!(!g.is_ready());
         let before = g;
         assert_eq!(g.arm(), Err(Error::NotEnoughData));
@@ -251,10 +261,10 @@ mod tests {
         let mut g = GroundReference::new(cfg).unwrap();
         // 20 samples in 0.19 s: enough samples, not enough time.
         for k in 0..20 {
-            g.push(k as f64 * 0.01, h(100.0)).unwrap();
+            g.push(at(k as f64 * 0.01), h(100.0)).unwrap();
         }
         assert!(!g.is_ready());
-        g.push(2.5, h(100.0)).unwrap();
+        g.push(at(2.5), h(100.0)).unwrap();
         assert!(g.is_ready());
     }
 
@@ -264,12 +274,12 @@ mod tests {
         let mut g = GroundReference::new(GroundReferenceConfig::default()).unwrap();
         for k in 0..100 {
             let noise = if k % 2 == 0 { 0.2 } else { -0.2 };
-            g.push(k as f64 * 0.02, h(431.7 + noise)).unwrap();
+            g.push(at(k as f64 * 0.02), h(431.7 + noise)).unwrap();
         }
         let r = g.arm().unwrap();
         assert!((r.meters() - 431.7).abs() < 1e-4);
         // Samples after arming are ignored.
-        assert!(!g.push(3.0, h(500.0)).unwrap());
+        assert!(!g.push(at(3.0), h(500.0)).unwrap());
         assert_eq!(g.reference(), Some(r));
         assert!((g.height_above(h(441.7)).unwrap().meters() - 10.0).abs() < 1e-4);
         g.rezero();
@@ -281,11 +291,9 @@ mod tests {
     #[test]
     fn bad_time_leaves_state_unchanged() {
         let mut g = GroundReference::new(GroundReferenceConfig::default()).unwrap();
-        assert_eq!(g.push(f64::NAN, h(1.0)), Err(Error::NotFinite));
-        g.push(1.0, h(1.0)).unwrap();
+        g.push(at(1.0), h(1.0)).unwrap();
         let before = g;
-        assert_eq!(g.push(1.0, h(1.0)), Err(Error::NotIncreasing));
-        assert_eq!(g.push(f64::INFINITY, h(1.0)), Err(Error::NotFinite));
+        assert_eq!(g.push(at(1.0), h(1.0)), Err(Error::NotIncreasing));
         assert_eq!(g, before);
     }
 }

@@ -3,6 +3,7 @@
 use super::Step;
 use crate::bits::Bits;
 use crate::math;
+use crate::time::Instant;
 use crate::{Error, Height, VerticalSpeed};
 use core::borrow::Borrow;
 
@@ -219,7 +220,7 @@ pub enum KalmanOutcome {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct VerticalEstimate {
     /// Time of the estimate, s.
-    pub time_s: f64,
+    pub time: Instant,
     /// Height, m (same reference as the barometric heights fed in).
     pub height: Height,
     /// Vertical speed, positive up.
@@ -390,11 +391,12 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 /// host, of which 64 are the configuration).
 ///
 /// ```
+/// use isohypse::time::Instant;
 /// use isohypse::{filter::{KalmanOutcome, VerticalKalman, VerticalKalmanConfig}, Height};
 /// let mut kf = VerticalKalman::new(VerticalKalmanConfig::default())?;
-/// assert_eq!(kf.correct(0.0, Height::from_meters(120.0)?)?, KalmanOutcome::Initialized);
+/// assert_eq!(kf.correct(Instant::ZERO, Height::from_meters(120.0)?)?, KalmanOutcome::Initialized);
 /// for k in 1..=100 {
-///     let t = k as f64 * 0.005;
+///     let t = Instant::from_micros(k * 5_000);
 ///     kf.predict(t, 0.0)?; // at rest: zero vertical acceleration
 ///     if k % 4 == 0 {
 ///         kf.correct(t, Height::from_meters(120.0)?)?;
@@ -413,18 +415,18 @@ pub struct VerticalKalman<C = VerticalKalmanConfig> {
     core: Core,
     /// Time of `core`, s, once initialised; before that, the time of the latest
     /// accelerometer sample (if `accel_age_s` is finite).
-    time_s: f64,
+    time: Instant,
     /// Latest accelerometer sample, m/s^2.
     accel_mps2: f32,
-    /// Age of the latest accelerometer sample at `time_s`, s; infinite before the first.
+    /// Age of the latest accelerometer sample at `time`, s; infinite before the first.
     /// Ages are `f32` so that only one step between `f64` times is formed per call.
     accel_age_s: f32,
-    /// Age of the latest accepted barometer sample at `time_s`, s.
+    /// Age of the latest accepted barometer sample at `time`, s.
     accepted_age_s: f32,
     /// Yes/no state, one bit each (see the `*_AT_CORE`, `INITIALIZED`, ... masks): the
-    /// latest barometer / accelerometer sample is at `time_s`, initialised, barometer
+    /// latest barometer / accelerometer sample is at `time`, initialised, barometer
     /// disturbed, re-acquisition pending. (Whether the accelerometer sample is at
-    /// `time_s` is a flag, not `accel_age_s == 0`: a step below the smallest normal
+    /// `time` is a flag, not `accel_age_s == 0`: a step below the smallest normal
     /// `f32`, 1.2e-38 s, is later but adds 0 to the age.)
     bits: Bits,
     consecutive_rejections: u16,
@@ -457,7 +459,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
                     bb: 0.0,
                 },
             },
-            time_s: 0.0,
+            time: Instant::ZERO,
             accel_mps2: 0.0,
             accel_age_s: f32::INFINITY,
             accepted_age_s: 0.0,
@@ -475,7 +477,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     }
 
     /// Prediction with an accelerometer sample: earth-frame vertical acceleration
-    /// `accel_up_mps2` (m/s^2, gravity removed, positive up) taken at `time_s` (s).
+    /// `accel_up_mps2` (m/s^2, gravity removed, positive up) taken at `time` (s).
     /// The sample is taken as the mean acceleration over the step since the previous
     /// sample of either stream, and is held for the prediction to the next barometer
     /// sample. Before the first barometer sample it is only remembered.
@@ -484,18 +486,18 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// [`Error::SampleOutOfRange`] (|a| above `max_accel_mps2`), [`Error::NotIncreasing`]
     /// (time not after the previous accelerometer sample, or before the latest
     /// barometer sample).
-    pub fn predict(&mut self, time_s: f64, accel_up_mps2: f32) -> Result<(), Error> {
-        let t = super::check_time(time_s)?;
+    pub fn predict(&mut self, time: Instant, accel_up_mps2: f32) -> Result<(), Error> {
+        let t = time;
         self.predict_step(t, self.step_to(t), accel_up_mps2)
     }
 
     /// [`Self::predict`] with the step from the filter's time to `t` already formed
-    /// (`step_between(self.time_s, t)`; anything when the filter has no time yet), so
+    /// (`step_between(self.time, t)`; anything when the filter has no time yet), so
     /// that a caller which has it does not form the step a second time. `t` is
     /// finite.
     pub(crate) fn predict_step(
         &mut self,
-        t: f64,
+        t: Instant,
         step: Step,
         accel_up_mps2: f32,
     ) -> Result<(), Error> {
@@ -509,7 +511,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         };
         if !self.bits.get(INITIALIZED) {
             // before the first barometer sample the accelerometer is only remembered
-            self.time_s = t;
+            self.time = t;
             self.hold_accel_at_core(accel_up_mps2);
             return Ok(());
         }
@@ -526,7 +528,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             self.reuse.r = 0.0;
             self.bits.set(SETTLED, false);
         }
-        self.time_s = t;
+        self.time = t;
         self.hold_accel_at_core(accel_up_mps2);
         self.accepted_age_s += dt;
         if matches!(step, Step::Later(_)) {
@@ -555,30 +557,36 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     }
 
     /// Correction with a barometric height `height` (m, any fixed reference, e.g.
-    /// pressure altitude) taken at `time_s` (s). The state is first predicted to
-    /// `time_s` with the latest accelerometer sample if it is fresh, else with the
+    /// pressure altitude) taken at `time` (s). The state is first predicted to
+    /// `time` with the latest accelerometer sample if it is fresh, else with the
     /// constant-velocity model.
     ///
     /// Errors, state unchanged: [`Error::NotFinite`] (time),
     /// [`Error::BelowModelBottom`] / [`Error::AboveModelTop`] (height outside
     /// `min_height_m..=max_height_m`), [`Error::NotIncreasing`] (time not after the
     /// previous barometer sample, or before the latest accelerometer sample).
-    pub fn correct(&mut self, time_s: f64, height: Height) -> Result<KalmanOutcome, Error> {
-        let t = super::check_time(time_s)?;
+    pub fn correct(&mut self, time: Instant, height: Height) -> Result<KalmanOutcome, Error> {
+        let t = time;
         let r = self.sample_variance(self.config().baro_sigma_m)?;
         self.correct_with_variance(t, self.step_to(t), height, r)
     }
 
     /// The filter has a time: it is initialised, or has remembered an accelerometer
     /// sample.
+    /// The filter's time is after `t` (an accelerometer sample stamped later than a
+    /// barometer sample that follows it: the pipeline then starts the filter again).
+    pub(crate) fn is_ahead_of(&self, t: Instant) -> bool {
+        self.has_time() && self.time > t
+    }
+
     fn has_time(&self) -> bool {
         self.bits.get(INITIALIZED) || self.accel_age_s.is_finite()
     }
 
     /// The step from the filter's time to `t` (`Later(0)` before it has a time).
-    fn step_to(&self, t: f64) -> Step {
+    fn step_to(&self, t: Instant) -> Step {
         if self.has_time() {
-            super::step_between(self.time_s, t)
+            super::step_between(self.time, t)
         } else {
             Step::Later(0.0)
         }
@@ -594,11 +602,11 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// otherwise as [`Self::correct`]. The state is unchanged on error.
     pub fn correct_with_sigma(
         &mut self,
-        time_s: f64,
+        time: Instant,
         height: Height,
         sigma_m: f32,
     ) -> Result<KalmanOutcome, Error> {
-        let t = super::check_time(time_s)?;
+        let t = time;
         self.correct_step(t, self.step_to(t), height, sigma_m)
     }
 
@@ -606,7 +614,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// formed (see [`Self::predict_step`]). `t` is finite.
     pub(crate) fn correct_step(
         &mut self,
-        t: f64,
+        t: Instant,
         step: Step,
         height: Height,
         sigma_m: f32,
@@ -661,7 +669,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// its error is the first result.
     pub(crate) fn predict_correct(
         &mut self,
-        t: f64,
+        t: Instant,
         step: Step,
         accel_up_mps2: Option<f32>,
         height: Height,
@@ -791,7 +799,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     #[inline(always)]
     fn reuse_settled(
         &mut self,
-        t: f64,
+        t: Instant,
         step: Step,
         accel: Option<f32>,
         z: f32,
@@ -848,7 +856,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         }
         // Commit: as the full cycle commits an accepted sample.
         self.core = core;
-        self.time_s = t;
+        self.time = t;
         self.bits.set(BARO_AT_CORE, true);
         match accel {
             Some(a) => self.hold_accel_at_core(a),
@@ -864,20 +872,16 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
 
     /// The step from the filter's time to `t`, reusing `known` (the step from the time
     /// `known.0` to `t`) when the filter's time is that time.
-    pub(crate) fn step_reusing(&self, t: f64, known: Option<(f64, Step)>) -> Step {
+    pub(crate) fn step_reusing(&self, t: Instant, known: Option<(Instant, Step)>) -> Step {
         match known {
-            Some((from, step))
-                if self.bits.get(INITIALIZED) && from.to_bits() == self.time_s.to_bits() =>
-            {
-                step
-            }
+            Some((from, step)) if self.bits.get(INITIALIZED) && from == self.time => step,
             _ => self.step_to(t),
         }
     }
 
     fn correct_with_variance(
         &mut self,
-        t: f64,
+        t: Instant,
         step: Step,
         height: Height,
         r: f32,
@@ -900,7 +904,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// Error, state unchanged: [`Error::NotFinite`].
     fn apply_correct(
         &mut self,
-        t: f64,
+        t: Instant,
         step: Step,
         z: f32,
         r: f32,
@@ -926,7 +930,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
                     bb: c.initial_bias_sigma_mps2 * c.initial_bias_sigma_mps2,
                 },
             };
-            self.time_s = t;
+            self.time = t;
             self.accel_age_s = age;
             self.bits.set(BARO_AT_CORE, true);
             if matches!(step, Step::Later(_)) {
@@ -998,7 +1002,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         }
         // Commit.
         self.core = core;
-        self.time_s = t;
+        self.time = t;
         self.bits.set(BARO_AT_CORE, true);
         match accel_at_t {
             Some(a) => self.hold_accel_at_core(a),
@@ -1164,7 +1168,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         }
         let c = &self.core;
         Some(VerticalEstimate {
-            time_s: self.time_s,
+            time: self.time,
             height: Height::from_meters(c.h).ok()?,
             vertical_speed: VerticalSpeed::from_mps(c.v).ok()?,
             accel_bias_mps2: c.b,
@@ -1217,6 +1221,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
 
     fn h(m: f32) -> Height {
         Height::from_meters(m).unwrap()
@@ -1225,13 +1231,13 @@ mod tests {
     /// A filter at rest at 100 m after 2 s of clean samples (accel 200 Hz, baro 50 Hz).
     fn settled() -> (VerticalKalman, f64) {
         let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
-        kf.correct(0.0, h(100.0)).unwrap();
+        kf.correct(at(0.0), h(100.0)).unwrap();
         let mut t = 0.0;
         for k in 1..=400 {
             t = k as f64 * 0.005;
-            kf.predict(t, 0.0).unwrap();
+            kf.predict(at(t), 0.0).unwrap();
             if k % 4 == 0 {
-                kf.correct(t, h(100.0)).unwrap();
+                kf.correct(at(t), h(100.0)).unwrap();
             }
         }
         (kf, t)
@@ -1241,27 +1247,30 @@ mod tests {
     fn bad_input_leaves_state_unchanged() {
         let (mut kf, t) = settled();
         let before = kf;
-        assert_eq!(kf.predict(t + 0.005, f32::NAN), Err(Error::NotFinite));
-        assert_eq!(kf.predict(f64::NAN, 0.0), Err(Error::NotFinite));
-        assert_eq!(kf.predict(f64::INFINITY, 0.0), Err(Error::NotFinite));
-        assert_eq!(kf.predict(t + 0.005, 1.0e3), Err(Error::SampleOutOfRange));
-        assert_eq!(kf.predict(t, 0.0), Err(Error::NotIncreasing));
-        assert_eq!(kf.predict(t - 1.0, 0.0), Err(Error::NotIncreasing));
-        assert_eq!(kf.correct(t, h(100.0)), Err(Error::NotIncreasing));
-        assert_eq!(kf.correct(t - 0.5, h(100.0)), Err(Error::NotIncreasing));
-        assert_eq!(kf.correct(f64::NAN, h(100.0)), Err(Error::NotFinite));
+        assert_eq!(kf.predict(at(t + 0.005), f32::NAN), Err(Error::NotFinite));
         assert_eq!(
-            kf.correct(t + 0.02, h(-6000.0)),
+            kf.predict(at(t + 0.005), 1.0e3),
+            Err(Error::SampleOutOfRange)
+        );
+        assert_eq!(kf.predict(at(t), 0.0), Err(Error::NotIncreasing));
+        assert_eq!(kf.predict(at(t - 1.0), 0.0), Err(Error::NotIncreasing));
+        assert_eq!(kf.correct(at(t), h(100.0)), Err(Error::NotIncreasing));
+        assert_eq!(kf.correct(at(t - 0.5), h(100.0)), Err(Error::NotIncreasing));
+        assert_eq!(
+            kf.correct(at(t + 0.02), h(-6000.0)),
             Err(Error::BelowModelBottom)
         );
-        assert_eq!(kf.correct(t + 0.02, h(90_000.0)), Err(Error::AboveModelTop));
+        assert_eq!(
+            kf.correct(at(t + 0.02), h(90_000.0)),
+            Err(Error::AboveModelTop)
+        );
         assert_eq!(kf, before);
         // Before initialisation too.
         let mut fresh = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
-        fresh.predict(1.0, 0.0).unwrap();
+        fresh.predict(at(1.0), 0.0).unwrap();
         let before = fresh;
-        assert_eq!(fresh.correct(0.5, h(1.0)), Err(Error::NotIncreasing));
-        assert_eq!(fresh.predict(1.0, 0.0), Err(Error::NotIncreasing));
+        assert_eq!(fresh.correct(at(0.5), h(1.0)), Err(Error::NotIncreasing));
+        assert_eq!(fresh.predict(at(1.0), 0.0), Err(Error::NotIncreasing));
         assert_eq!(fresh, before);
         assert_eq!(fresh.estimate(), None);
     }
@@ -1298,11 +1307,11 @@ mod tests {
         let mut rejected = 0;
         for k in 1..=200 {
             t += 0.005;
-            kf.predict(t, 0.0).unwrap();
+            kf.predict(at(t), 0.0).unwrap();
             if k % 4 == 0 {
                 // Every 10th baro sample is a 3 m spike.
                 let z = if k % 40 == 0 { 103.0 } else { 100.0 };
-                if let KalmanOutcome::Rejected { nis } = kf.correct(t, h(z)).unwrap() {
+                if let KalmanOutcome::Rejected { nis } = kf.correct(at(t), h(z)).unwrap() {
                     assert!(nis > 10.83);
                     rejected += 1;
                 }
@@ -1322,9 +1331,9 @@ mod tests {
         let mut outcomes = [KalmanOutcome::Initialized; 16];
         for o in outcomes.iter_mut() {
             t += 0.02;
-            kf.predict(t, 0.0).unwrap();
+            kf.predict(at(t), 0.0).unwrap();
             // A real 20 m step the accelerometer did not see (e.g. a changed datum).
-            *o = kf.correct(t, h(120.0)).unwrap();
+            *o = kf.correct(at(t), h(120.0)).unwrap();
         }
         for o in &outcomes[..usize::from(n) - 1] {
             assert!(matches!(o, KalmanOutcome::Rejected { .. }));
@@ -1343,11 +1352,11 @@ mod tests {
         assert!(kf.is_baro_disturbed());
         // 0.8 m off: an outlier for 0.15 m noise, acceptable for 0.6 m noise.
         assert!(matches!(
-            quiet.correct(t + 0.02, h(100.8)).unwrap(),
+            quiet.correct(at(t + 0.02), h(100.8)).unwrap(),
             KalmanOutcome::Rejected { .. }
         ));
         assert!(matches!(
-            kf.correct(t + 0.02, h(100.8)).unwrap(),
+            kf.correct(at(t + 0.02), h(100.8)).unwrap(),
             KalmanOutcome::Accepted { .. }
         ));
     }
@@ -1360,7 +1369,7 @@ mod tests {
         let mut t = 0.0f64;
         for k in 0..1000 {
             t = k as f64 * 0.02;
-            kf.correct(t, h(50.0 + 1.5 * t as f32)).unwrap();
+            kf.correct(at(t), h(50.0 + 1.5 * t as f32)).unwrap();
         }
         let e = kf.estimate().unwrap();
         assert!((e.height.meters() - (50.0 + 1.5 * t as f32)).abs() < 1e-3);
@@ -1372,8 +1381,11 @@ mod tests {
         let (mut kf, t) = settled();
         // 1000 s of silence, then the vehicle is 37 m higher.
         let t2 = t + 1000.0;
-        kf.predict(t2, 0.0).unwrap();
-        assert_eq!(kf.correct(t2, h(137.0)).unwrap(), KalmanOutcome::Reacquired);
+        kf.predict(at(t2), 0.0).unwrap();
+        assert_eq!(
+            kf.correct(at(t2), h(137.0)).unwrap(),
+            KalmanOutcome::Reacquired
+        );
         let e = kf.estimate().unwrap();
         assert_eq!(e.height.meters(), 137.0);
         assert!(e.height_sigma_m < 0.2);
@@ -1456,6 +1468,7 @@ mod tests {
     /// One sample of each kind, accelerometer with barometer, through the pipeline's
     /// entry point.
     fn both(kf: &mut VerticalKalman, t: f64, a: Option<f32>, z: f32) -> KalmanOutcome {
+        let t = at(t);
         let step = kf.step_to(t);
         let (_, outcome) = kf.predict_correct(t, step, a, h(z), 0.14);
         outcome.unwrap()
@@ -1522,14 +1535,14 @@ mod tests {
         let (mut kf, samples, i) = settled_with_accel();
         let (t, _, zm, am) = samples[i];
         let before = kf;
-        let step = kf.step_to(t);
+        let step = kf.step_to(at(t));
         // too high, a time not after the last, an unusable sigma
-        let (_, r) = kf.predict_correct(t, step, Some(am), h(90_000.0), 0.14);
+        let (_, r) = kf.predict_correct(at(t), step, Some(am), h(90_000.0), 0.14);
         assert_eq!(r, Err(Error::AboveModelTop));
         let last = samples[i - 1].0;
-        let (_, r) = kf.predict_correct(last, kf.step_to(last), Some(am), h(zm), 0.14);
+        let (_, r) = kf.predict_correct(at(last), kf.step_to(at(last)), Some(am), h(zm), 0.14);
         assert_eq!(r, Err(Error::NotIncreasing));
-        let (_, r) = kf.predict_correct(t, step, Some(am), h(zm), f32::NAN);
+        let (_, r) = kf.predict_correct(at(t), step, Some(am), h(zm), f32::NAN);
         assert_eq!(r, Err(Error::InvalidSetting));
         assert_eq!(kf, before);
         // and the next good sample still takes the reuse path
@@ -1568,7 +1581,7 @@ mod tests {
         // an accelerometer sample on its own (the 200 Hz pattern) ends reuse too
         let (mut kf, samples, i) = settled_with_accel();
         let (t, _, zm, am) = samples[i];
-        kf.predict(t - 0.01, am).unwrap();
+        kf.predict(at(t - 0.01), am).unwrap();
         assert!(!kf.bits.get(SETTLED));
         let p = kf.core.p;
         both(&mut kf, t, Some(am), zm);
@@ -1589,14 +1602,14 @@ mod tests {
         ];
         for (name, t, a, sigma) in cases {
             let mut k = kf;
-            let (_, r) = k.predict_correct(t, k.step_to(t), a, h(zm), sigma);
+            let (_, r) = k.predict_correct(at(t), k.step_to(at(t)), a, h(zm), sigma);
             assert!(matches!(r, Ok(KalmanOutcome::Accepted { .. })), "{name}");
             assert_ne!(k.core.p, kf.core.p, "{name}");
         }
         // within the tolerance it is reused
         let mut k = kf;
         let t = t + 0.0001;
-        let (_, r) = k.predict_correct(t, k.step_to(t), Some(am), h(zm), 0.14 * 1.004);
+        let (_, r) = k.predict_correct(at(t), k.step_to(at(t)), Some(am), h(zm), 0.14 * 1.004);
         assert!(matches!(r, Ok(KalmanOutcome::Accepted { .. })));
         assert_eq!(k.core.p, kf.core.p);
         assert!(k.bits.get(SETTLED));
@@ -1627,7 +1640,7 @@ mod tests {
             .map(|x| u64::from(x.to_bits()))
             .collect();
         v.extend([
-            kf.time_s.to_bits(),
+            kf.time.as_micros(),
             (0..7).map(|i| u64::from(kf.bits.get(1 << i)) << i).sum(),
             u64::from(kf.consecutive_rejections),
             u64::from(kf.rejected),
@@ -1664,14 +1677,14 @@ mod tests {
             };
             if k % 50 == 7 {
                 // an accelerometer sample at this time already applied on its own
-                assert_eq!(one.predict(t, am), two.predict(t, am));
+                assert_eq!(one.predict(at(t), am), two.predict(at(t), am));
             }
-            let (p1, c1) = one.predict_correct(t, one.step_to(t), a, h(z), 0.14);
+            let (p1, c1) = one.predict_correct(at(t), one.step_to(at(t)), a, h(z), 0.14);
             let p2 = match a {
-                Some(a) => two.predict(t, a),
+                Some(a) => two.predict(at(t), a),
                 None => Ok(()),
             };
-            let c2 = two.correct_with_sigma(t, h(z), 0.14);
+            let c2 = two.correct_with_sigma(at(t), h(z), 0.14);
             assert_eq!((p1, c1), (p2, c2), "sample {k}");
             assert_eq!(bits_of(&one), bits_of(&two), "sample {k}");
             if p1 == Err(Error::NotIncreasing) {

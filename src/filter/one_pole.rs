@@ -3,6 +3,7 @@
 use super::step_s;
 use crate::Error;
 use crate::math;
+use crate::time::Instant;
 
 /// First-order (one-pole) low-pass filter, exact for any time step.
 ///
@@ -23,10 +24,11 @@ use crate::math;
 /// * State: 24 bytes (`f64` time, two `f32`, one flag, padded).
 ///
 /// ```
+/// use isohypse::time::Instant;
 /// use isohypse::filter::OnePole;
 /// let mut lp = OnePole::new(1.0)?; // 1 Hz cut-off
-/// lp.update(0.0, 0.0)?;
-/// let y = lp.update(0.1, 1.0)?;
+/// lp.update(Instant::ZERO, 0.0)?;
+/// let y = lp.update(Instant::from_millis(100), 1.0)?;
 /// assert!((y - (1.0 - (-0.2f32 * core::f32::consts::PI).exp())).abs() < 1e-6);
 /// # Ok::<(), isohypse::Error>(())
 /// ```
@@ -35,7 +37,7 @@ use crate::math;
 pub struct OnePole {
     cutoff_hz: f32,
     output: f32,
-    last_time_s: f64,
+    last_time: Instant,
     started: bool,
 }
 
@@ -48,7 +50,7 @@ impl OnePole {
         Ok(Self {
             cutoff_hz,
             output: 0.0,
-            last_time_s: 0.0,
+            last_time: Instant::ZERO,
             started: false,
         })
     }
@@ -61,29 +63,28 @@ impl OnePole {
         }
     }
 
-    /// Feeds sample `x` taken at `time_s` (seconds, `f64`) and returns the output.
+    /// Feeds sample `x` taken at `time` (seconds, `f64`) and returns the output.
     ///
     /// Errors: [`Error::NotFinite`] (NaN or infinite `x` or time),
     /// [`Error::NotIncreasing`] (time not after the previous sample). The filter is
     /// unchanged on error.
-    pub fn update(&mut self, time_s: f64, x: f32) -> Result<f32, Error> {
+    pub fn update(&mut self, time: Instant, x: f32) -> Result<f32, Error> {
         if !x.is_finite() {
             return Err(Error::NotFinite);
         }
         if !self.started {
-            super::check_time(time_s)?;
             self.output = x;
-            self.last_time_s = time_s;
+            self.last_time = time;
             self.started = true;
             return Ok(x);
         }
-        let dt = step_s(self.last_time_s, time_s)?;
+        let dt = step_s(self.last_time, time)?;
         let y = self.output + self.alpha(dt) * (x - self.output);
         if !y.is_finite() {
             return Err(Error::NotFinite);
         }
         self.output = y;
-        self.last_time_s = time_s;
+        self.last_time = time;
         Ok(y)
     }
 
@@ -119,13 +120,15 @@ impl OnePole {
     pub fn reset(&mut self) {
         self.started = false;
         self.output = 0.0;
-        self.last_time_s = 0.0;
+        self.last_time = Instant::ZERO;
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
 
     #[test]
     fn step_response_matches_closed_form_with_irregular_steps() {
@@ -134,14 +137,14 @@ mod tests {
         let fc = 2.0f32;
         let tau = 1.0 / (2.0 * core::f64::consts::PI * fc as f64);
         let mut lp = OnePole::new(fc).unwrap();
-        assert_eq!(lp.update(10.0, 0.0).unwrap(), 0.0);
+        assert_eq!(lp.update(at(10.0), 0.0).unwrap(), 0.0);
         let mut t = 10.0f64;
         let steps = [
             0.001, 0.02, 0.005, 0.013, 0.05, 0.0007, 0.1, 0.03, 0.2, 0.011,
         ];
         for k in 0..60 {
             t += steps[k % steps.len()];
-            let y = lp.update(t, 1.0).unwrap() as f64;
+            let y = lp.update(at(t), 1.0).unwrap() as f64;
             let reference = 1.0 - (-(t - 10.0) / tau).exp();
             assert!((y - reference).abs() < 2e-6, "t {t}: {y} vs {reference}");
         }
@@ -156,8 +159,8 @@ mod tests {
     #[test]
     fn long_gap_jumps_to_input() {
         let mut lp = OnePole::new(1.0).unwrap();
-        lp.update(0.0, 5.0).unwrap();
-        assert_eq!(lp.update(1.0e9, -3.0).unwrap(), -3.0);
+        lp.update(at(0.0), 5.0).unwrap();
+        assert_eq!(lp.update(at(1.0e9), -3.0).unwrap(), -3.0);
     }
 
     #[test]
@@ -165,14 +168,12 @@ mod tests {
         let mut lp = OnePole::new(1.0).unwrap();
         assert_eq!(OnePole::new(0.0), Err(Error::InvalidSetting));
         assert_eq!(OnePole::new(f32::NAN), Err(Error::InvalidSetting));
-        assert_eq!(lp.update(f64::NAN, 1.0), Err(Error::NotFinite));
-        lp.update(1.0, 1.0).unwrap();
-        lp.update(1.5, 2.0).unwrap();
+        lp.update(at(1.0), 1.0).unwrap();
+        lp.update(at(1.5), 2.0).unwrap();
         let before = lp;
-        assert_eq!(lp.update(1.5, 3.0), Err(Error::NotIncreasing));
-        assert_eq!(lp.update(1.2, 3.0), Err(Error::NotIncreasing));
-        assert_eq!(lp.update(2.0, f32::NAN), Err(Error::NotFinite));
-        assert_eq!(lp.update(f64::INFINITY, 1.0), Err(Error::NotFinite));
+        assert_eq!(lp.update(at(1.5), 3.0), Err(Error::NotIncreasing));
+        assert_eq!(lp.update(at(1.2), 3.0), Err(Error::NotIncreasing));
+        assert_eq!(lp.update(at(2.0), f32::NAN), Err(Error::NotFinite));
         assert_eq!(lp.set_cutoff_hz(-1.0), Err(Error::InvalidSetting));
         assert_eq!(lp, before);
     }

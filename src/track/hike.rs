@@ -102,13 +102,14 @@
 //! the tendency.
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::{track::{HikeConfig, HikeTracker}, atmosphere::US_1976, Height, Pressure};
 //! let mut tracker = HikeTracker::new(HikeConfig::default())?;
 //! for second in 0..600 {
 //!     // Climb 0.2 m/s from 500 m for 5 minutes, then stand still.
 //!     let z = 500.0 + 0.2 * (second.min(300) as f32);
 //!     let p = US_1976.pressure_at(Height::from_meters(z)?)?;
-//!     let report = tracker.update(second as f64, p)?;
+//!     let report = tracker.update(Instant::from_secs(second), p)?;
 //!     if second == 599 {
 //!         assert!((report.ascent_m - 60.0).abs() < 1.0);
 //!         assert!(report.resting);
@@ -118,6 +119,7 @@
 //! ```
 
 use crate::atmosphere::{SEA_LEVEL_PRESSURE_PA, US_1976};
+use crate::time::Instant;
 use crate::track::rest::{RestConfig, RestDetector, RestEvent, RestState};
 use crate::track::tendency::{PressureTendency, TendencyConfig, TendencyRing};
 use crate::track::totals::AscentTotals;
@@ -224,7 +226,7 @@ pub struct HikeTracker {
     /// Pressure altitudes of the pressure limits: (lowest, highest) accepted, m.
     height_limits_m: (f32, f32),
     /// Time of the last accepted sample, s (valid once started).
-    last_time_s: f64,
+    last_time: Instant,
     state: HikeState,
 }
 
@@ -262,7 +264,7 @@ impl HikeTracker {
         Ok(Self {
             config,
             height_limits_m: (lowest.meters(), highest.meters()),
-            last_time_s: 0.0,
+            last_time: Instant::ZERO,
             state,
         })
     }
@@ -274,11 +276,11 @@ impl HikeTracker {
     /// [`Error::NotIncreasing`] (time not after the previous accepted sample),
     /// [`Error::AboveModelTop`] (pressure below [`HikeConfig::min_pressure_pa`]),
     /// [`Error::BelowModelBottom`] (pressure above [`HikeConfig::max_pressure_pa`]).
-    pub fn update(&mut self, time_s: f64, pressure: Pressure) -> Result<HikeReport, Error> {
-        self.check_time(time_s)?;
+    pub fn update(&mut self, time: Instant, pressure: Pressure) -> Result<HikeReport, Error> {
+        self.check_time(time)?;
         HikeState::check_pressure(&self.config, pressure)?;
         let h = US_1976.pressure_altitude(pressure)?;
-        Ok(self.step(time_s, h.meters()))
+        Ok(self.step(time, h.meters()))
     }
 
     /// One sample given as a height the caller has already computed (and possibly
@@ -287,10 +289,10 @@ impl HikeTracker {
     /// pressure altitudes of the configured pressure limits.
     pub fn update_pressure_altitude(
         &mut self,
-        time_s: f64,
+        time: Instant,
         height: Height,
     ) -> Result<HikeReport, Error> {
-        self.check_time(time_s)?;
+        self.check_time(time)?;
         let h = height.meters();
         if h < self.height_limits_m.0 {
             return Err(Error::BelowModelBottom);
@@ -298,24 +300,21 @@ impl HikeTracker {
         if h > self.height_limits_m.1 {
             return Err(Error::AboveModelTop);
         }
-        Ok(self.step(time_s, h))
+        Ok(self.step(time, h))
     }
 
-    fn check_time(&self, time_s: f64) -> Result<(), Error> {
-        if !time_s.is_finite() {
-            return Err(Error::NotFinite);
-        }
-        if self.state.started() && time_s <= self.last_time_s {
+    fn check_time(&self, time: Instant) -> Result<(), Error> {
+        if self.state.started() && time <= self.last_time {
             return Err(Error::NotIncreasing);
         }
         Ok(())
     }
 
     /// The infallible part of a sample: inputs validated.
-    fn step(&mut self, time_s: f64, h: f32) -> HikeReport {
+    fn step(&mut self, time: Instant, h: f32) -> HikeReport {
         // Interval in f32 (validated > 0; unused for the first sample).
-        let dt = (time_s - self.last_time_s) as f32;
-        self.last_time_s = time_s;
+        let dt = crate::filter::step_s(self.last_time, time).unwrap_or(0.0);
+        self.last_time = time;
         self.state.step(&self.config, dt, h)
     }
 
@@ -364,7 +363,7 @@ impl HikeTracker {
     pub fn tendency(&self) -> PressureTendency {
         PressureTendency::from_ring(
             self.config.tendency,
-            self.last_time_s,
+            self.last_time,
             self.state.tendency.clone(),
         )
     }
@@ -560,6 +559,8 @@ fn one_pole_gain(dt: f32, tau: f32) -> f32 {
 
 #[cfg(test)]
 mod tests {
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
     extern crate std;
     use super::*;
     use crate::track::{AscentTotals, PressureTendency, RestConfig};
@@ -599,30 +600,24 @@ mod tests {
     fn bad_samples_leave_state_unchanged() {
         let mut t = HikeTracker::new(HikeConfig::default()).unwrap();
         for i in 0..100 {
-            t.update(f64::from(i), p_at(800.0 + i as f32 * 0.1))
+            t.update(at(f64::from(i)), p_at(800.0 + i as f32 * 0.1))
                 .unwrap();
         }
         let before = t.clone();
-        assert_eq!(t.update(f64::NAN, p_at(800.0)), Err(Error::NotFinite));
-        assert_eq!(t.update(f64::INFINITY, p_at(800.0)), Err(Error::NotFinite));
-        assert_eq!(t.update(99.0, p_at(800.0)), Err(Error::NotIncreasing));
-        assert_eq!(t.update(50.0, p_at(800.0)), Err(Error::NotIncreasing));
+        assert_eq!(t.update(at(99.0), p_at(800.0)), Err(Error::NotIncreasing));
+        assert_eq!(t.update(at(50.0), p_at(800.0)), Err(Error::NotIncreasing));
         let too_low = Pressure::from_pa(20_000.0).unwrap();
-        assert_eq!(t.update(100.0, too_low), Err(Error::AboveModelTop));
+        assert_eq!(t.update(at(100.0), too_low), Err(Error::AboveModelTop));
         let too_high = Pressure::from_pa(120_000.0).unwrap();
-        assert_eq!(t.update(100.0, too_high), Err(Error::BelowModelBottom));
+        assert_eq!(t.update(at(100.0), too_high), Err(Error::BelowModelBottom));
         let height_too_high = Height::from_meters(20_000.0).unwrap();
         assert_eq!(
-            t.update_pressure_altitude(100.0, height_too_high),
+            t.update_pressure_altitude(at(100.0), height_too_high),
             Err(Error::AboveModelTop)
-        );
-        assert_eq!(
-            t.update_pressure_altitude(f64::NAN, Height::ZERO),
-            Err(Error::NotFinite)
         );
         assert_eq!(t, before);
         // and it goes on normally
-        assert!(t.update(100.0, p_at(810.0)).is_ok());
+        assert!(t.update(at(100.0), p_at(810.0)).is_ok());
     }
 
     #[test]
@@ -699,10 +694,10 @@ mod tests {
     #[test]
     fn set_elevation_moves_height_not_totals() {
         let mut t = HikeTracker::new(HikeConfig::default()).unwrap();
-        t.update(0.0, p_at(500.0)).unwrap();
+        t.update(at(0.0), p_at(500.0)).unwrap();
         t.set_elevation(Height::from_meters(700.0).unwrap())
             .unwrap();
-        let r = t.update(1.0, p_at(500.0)).unwrap();
+        let r = t.update(at(1.0), p_at(500.0)).unwrap();
         assert!((r.height.meters() - 700.0).abs() < 0.01);
         assert_eq!(r.ascent_m, 0.0);
         // A slewed fix of -40 m while climbing: height follows, totals count only the
@@ -715,7 +710,7 @@ mod tests {
                 t.fix_elevation(Height::from_meters(shown - 40.0).unwrap())
                     .unwrap();
             }
-            last = t.update(f64::from(i), p_at(z)).unwrap();
+            last = t.update(at(f64::from(i)), p_at(z)).unwrap();
         }
         // Truth at the end 560 m, displayed = 560 + 200 - 40 minus smoothing lag (0.2 m).
         assert!(
@@ -730,15 +725,15 @@ mod tests {
     #[test]
     fn declared_rest_holds_height_and_totals() {
         let mut t = HikeTracker::new(HikeConfig::default()).unwrap();
-        t.update(0.0, p_at(1000.0)).unwrap();
+        t.update(at(0.0), p_at(1000.0)).unwrap();
         t.declare_rest();
         // Weather: station pressure falls 1.5 hPa per hour throughout.
-        let weather = |time_s: f32| -150.0 * time_s / 3600.0;
+        let weather = |time: f32| -150.0 * time / 3600.0;
         let p0 = p_at(1000.0).pa();
-        let mut r = t.update(1.0, p_at(1000.0)).unwrap();
+        let mut r = t.update(at(1.0), p_at(1000.0)).unwrap();
         for i in 2..7200 {
             let p = Pressure::from_pa(p0 + weather(i as f32)).unwrap();
-            r = t.update(f64::from(i), p).unwrap();
+            r = t.update(at(f64::from(i)), p).unwrap();
             assert!(r.resting);
         }
         assert!((r.height.meters() - 1000.0).abs() < 0.01);
@@ -754,7 +749,7 @@ mod tests {
         // Still not moving: stays at rest, height held.
         for i in 7200..7300 {
             let p = Pressure::from_pa(p0 + weather(i as f32)).unwrap();
-            let r = t.update(f64::from(i), p).unwrap();
+            let r = t.update(at(f64::from(i)), p).unwrap();
             assert!(r.resting);
             assert!((r.height.meters() - 1000.0).abs() < 0.1);
         }
@@ -764,7 +759,7 @@ mod tests {
             let time = 7300.0 + i as f32;
             let z = 1000.0 + 0.2 * i as f32;
             let p = Pressure::from_pa(p_at(z).pa() + weather(time)).unwrap();
-            r = t.update(f64::from(time), p).unwrap();
+            r = t.update(at(f64::from(time)), p).unwrap();
         }
         assert!(!r.resting);
         assert!((r.ascent_m - 50.0).abs() < 1.0, "{}", r.ascent_m);

@@ -42,12 +42,13 @@
 //! O(1) per call: a gap of k slots writes k markers, bounded by [`SLOTS`].
 //!
 //! ```
+//! use isohypse::time::Instant;
 //! use isohypse::{track::{PressureTendency, TendencyConfig}, Pressure};
 //! let mut tendency = PressureTendency::new(TendencyConfig::default())?;
 //! // A barometer at rest on a table, pressure falling 1.2 hPa per hour, one reading a minute.
 //! for minute in 0..=180 {
 //!     let p = Pressure::from_hpa(1012.0 - 1.2 * minute as f32 / 60.0)?;
-//!     tendency.update(minute as f64 * 60.0, p)?;
+//!     tendency.update(Instant::from_secs(minute * 60), p)?;
 //! }
 //! let change = tendency.tendency_hpa().unwrap();
 //! assert!((change + 3.6).abs() < 0.01);
@@ -55,6 +56,7 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 
+use crate::time::Instant;
 use crate::{Error, Pressure};
 
 /// Seconds between stored values (10 minutes).
@@ -110,7 +112,7 @@ impl TendencyConfig {
 pub struct PressureTendency {
     config: TendencyConfig,
     /// Time of the last accepted call, s (valid once the ring has started).
-    last_time_s: f64,
+    last_time: Instant,
     ring: TendencyRing,
 }
 
@@ -279,55 +281,52 @@ impl PressureTendency {
     /// An empty tracker. Errors: as [`TendencyConfig::validate`].
     pub fn new(config: TendencyConfig) -> Result<Self, Error> {
         config.validate()?;
-        Ok(Self::from_ring(config, 0.0, TendencyRing::new()))
+        Ok(Self::from_ring(config, Instant::ZERO, TendencyRing::new()))
     }
 
-    /// A tracker around a ring (its last call at `last_time_s`) and checked settings.
+    /// A tracker around a ring (its last call at `last_time`) and checked settings.
     pub(crate) const fn from_ring(
         config: TendencyConfig,
-        last_time_s: f64,
+        last_time: Instant,
         ring: TendencyRing,
     ) -> Self {
         Self {
             config,
-            last_time_s,
+            last_time,
             ring,
         }
     }
 
-    /// The step from the last call to `time_s`, s (0 before the first call).
-    fn step_to(&self, time_s: f64) -> f32 {
+    /// The step from the last call to `time`, s (0 before the first call).
+    fn step_to(&self, time: Instant) -> f32 {
         if self.ring.started() {
-            (time_s - self.last_time_s) as f32
+            crate::filter::step_s(self.last_time, time).unwrap_or(0.0)
         } else {
             0.0
         }
     }
 
-    /// True if a call to [`Self::update`] at `time_s` would store a value: lets a caller
+    /// True if a call to [`Self::update`] at `time` would store a value: lets a caller
     /// skip computing the sea-level pressure (two power functions) on the other samples.
-    pub fn is_due(&self, time_s: f64) -> bool {
-        self.ring.is_due(self.step_to(time_s))
+    pub fn is_due(&self, time: Instant) -> bool {
+        self.ring.is_due(self.step_to(time))
     }
 
-    /// Offers the sea-level pressure at `time_s` (seconds, any origin, strictly
+    /// Offers the sea-level pressure at `time` (seconds, any origin, strictly
     /// increasing from call to call). The value is stored if a 10-minute mark has been
     /// reached since the last stored value, and otherwise ignored. A gap longer than a
     /// slot leaves the skipped slots empty; a gap of three hours or more empties the ring.
     ///
     /// Errors (state unchanged): [`Error::NotFinite`] for a NaN or infinite time,
     /// [`Error::NotIncreasing`] for a time not after the previous call.
-    pub fn update(&mut self, time_s: f64, sea_level: Pressure) -> Result<(), Error> {
-        if !time_s.is_finite() {
-            return Err(Error::NotFinite);
-        }
-        if self.ring.started() && time_s <= self.last_time_s {
+    pub fn update(&mut self, time: Instant, sea_level: Pressure) -> Result<(), Error> {
+        if self.ring.started() && time <= self.last_time {
             return Err(Error::NotIncreasing);
         }
-        if self.ring.tick(self.step_to(time_s)) {
+        if self.ring.tick(self.step_to(time)) {
             self.ring.store(Some(sea_level));
         }
-        self.last_time_s = time_s;
+        self.last_time = time;
         Ok(())
     }
 
@@ -365,6 +364,8 @@ impl PressureTendency {
 #[cfg(test)]
 mod tests {
     use super::*;
+    #[allow(unused_imports)]
+    use crate::time::{Instant, at};
 
     fn hpa(x: f32) -> Pressure {
         Pressure::from_hpa(x).unwrap()
@@ -374,12 +375,12 @@ mod tests {
     fn needs_three_hours() {
         let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
         for s in 0..(3 * 3600) {
-            t.update(f64::from(s), hpa(1000.0 - s as f32 / 3600.0))
+            t.update(at(f64::from(s)), hpa(1000.0 - s as f32 / 3600.0))
                 .unwrap();
         }
         // Last stored value is at 10 800 - 600 s: only 18 slots so far.
         assert_eq!(t.tendency_hpa(), None);
-        t.update(10_800.0, hpa(997.0)).unwrap();
+        t.update(at(10_800.0), hpa(997.0)).unwrap();
         let change = t.tendency_hpa().unwrap();
         assert!((change + 3.0).abs() < 1e-3, "{change}");
         // Exactly 3 hPa: "3 hPa or more" raises the alert.
@@ -392,7 +393,7 @@ mod tests {
             let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
             for minute in 0..=200 {
                 t.update(
-                    f64::from(minute) * 60.0,
+                    at(f64::from(minute) * 60.0),
                     hpa(1010.0 + rate * minute as f32 / 60.0),
                 )
                 .unwrap();
@@ -413,7 +414,8 @@ mod tests {
         let mut last_latest = None;
         for i in 0..(3 * 3600 * 50 + 10) {
             let time = f64::from(i) * 0.02;
-            t.update(time, hpa(1010.0 - 0.03 * time as f32)).unwrap();
+            t.update(at(time), hpa(1010.0 - 0.03 * time as f32))
+                .unwrap();
             let latest = t.latest_hpa();
             if latest != last_latest {
                 // k-th store at the k-th mark (the first call is a store at 0)
@@ -435,23 +437,22 @@ mod tests {
     #[test]
     fn bad_time_leaves_state_unchanged() {
         let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
-        t.update(100.0, hpa(1000.0)).unwrap();
+        t.update(at(100.0), hpa(1000.0)).unwrap();
         let before = t.clone();
-        assert_eq!(t.update(100.0, hpa(990.0)), Err(Error::NotIncreasing));
-        assert_eq!(t.update(50.0, hpa(990.0)), Err(Error::NotIncreasing));
-        assert_eq!(t.update(f64::NAN, hpa(990.0)), Err(Error::NotFinite));
+        assert_eq!(t.update(at(100.0), hpa(990.0)), Err(Error::NotIncreasing));
+        assert_eq!(t.update(at(50.0), hpa(990.0)), Err(Error::NotIncreasing));
         assert_eq!(t, before);
     }
 
     #[test]
     fn gaps_leave_holes_and_long_gaps_empty_the_ring() {
         let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
-        t.update(0.0, hpa(1000.0)).unwrap();
+        t.update(at(0.0), hpa(1000.0)).unwrap();
         // 3 h later: the value 3 h ago exists, but the gap made the 10-minute slots empty.
-        t.update(10_800.0, hpa(998.0)).unwrap();
+        t.update(at(10_800.0), hpa(998.0)).unwrap();
         assert_eq!(t.tendency_hpa(), Some(-2.0));
         // A gap of a day: nothing left.
-        t.update(10_800.0 + 86_400.0, hpa(990.0)).unwrap();
+        t.update(at(10_800.0 + 86_400.0), hpa(990.0)).unwrap();
         assert_eq!(t.tendency_hpa(), None);
         assert_eq!(t.latest_hpa(), Some(990.0));
     }
@@ -459,13 +460,13 @@ mod tests {
     #[test]
     fn values_outside_the_stored_range_are_missing() {
         let mut t = PressureTendency::new(TendencyConfig::default()).unwrap();
-        t.update(0.0, hpa(499.0)).unwrap();
+        t.update(at(0.0), hpa(499.0)).unwrap();
         assert_eq!(t.latest_hpa(), None);
-        t.update(600.0, hpa(500.0)).unwrap();
+        t.update(at(600.0), hpa(500.0)).unwrap();
         assert_eq!(t.latest_hpa(), Some(500.0));
-        t.update(1200.0, hpa(1811.0)).unwrap();
+        t.update(at(1200.0), hpa(1811.0)).unwrap();
         assert_eq!(t.latest_hpa(), None);
-        t.update(1800.0, hpa(1013.25)).unwrap();
+        t.update(at(1800.0), hpa(1013.25)).unwrap();
         // 1013.25 hPa lies half-way between steps: stored within half a step (1 Pa,
         // 0.01 hPa), plus the f32 rounding of the hPa value (about 6e-5 hPa).
         assert!((t.latest_hpa().unwrap() - 1013.25).abs() <= 0.01 + 1e-4);

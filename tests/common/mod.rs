@@ -182,3 +182,14 @@ pub fn p_at(z: f32) -> f32 {
         .unwrap()
         .pa()
 }
+
+/// The instant `s` seconds after the epoch, rounded to the microsecond (tests keep
+/// their scenarios in seconds; the library takes integer time).
+pub fn at(s: f64) -> isohypse::time::Instant {
+    isohypse::time::Instant::from_micros((s * 1.0e6).round() as u64)
+}
+
+/// Seconds since the epoch of an instant.
+pub fn secs(t: isohypse::time::Instant) -> f64 {
+    t.as_micros() as f64 * 1.0e-6
+}
