@@ -1,0 +1,296 @@
+//! Clock faults, one table for every use: each fault on a climbing drone, balloon and
+//! walker. A fault must cost at most the sample it happens on: that sample and every
+//! later one is taken, the fault is flagged with its cause, the estimate re-acquires
+//! near the truth, and the totals, the phase and the balloon's stored profile are kept.
+//!
+//! The truth is a steady climb in the U.S. Standard Atmosphere 1976 (the library's own
+//! `atmosphere::US_1976`, itself checked against the standard's tables in
+//! tests/atmosphere.rs); the scenarios are our own.
+
+use isohypse::atmosphere::US_1976;
+use isohypse::pipeline::{Flags, Output, Pipeline, Sample, Settings};
+use isohypse::time::{Instant, WrappingTicks};
+use isohypse::{Error, Height};
+
+/// A use: its settings, sample period, climb rate and how close the estimate must be to
+/// the truth 5 s (drone) or 20 samples (balloon, walk) after a fault.
+struct Use {
+    name: &'static str,
+    settings: Settings,
+    period_ms: u64,
+    climb_mps: f64,
+    settle_samples: u64,
+    tolerance_m: f32,
+}
+
+fn uses() -> [Use; 3] {
+    [
+        Use {
+            name: "drone",
+            settings: Settings::drone(),
+            period_ms: 20,
+            climb_mps: 1.0,
+            settle_samples: 250,
+            tolerance_m: 0.5,
+        },
+        Use {
+            name: "balloon",
+            settings: Settings::balloon(),
+            period_ms: 1_000,
+            climb_mps: 5.0,
+            settle_samples: 20,
+            tolerance_m: 3.0,
+        },
+        Use {
+            name: "walk",
+            settings: Settings::hike(),
+            period_ms: 1_000,
+            climb_mps: 0.3,
+            settle_samples: 20,
+            tolerance_m: 3.0,
+        },
+    ]
+}
+
+/// What the clock does to the sample times, by sample index `k` (the device's own
+/// clock; the truth moves on regardless).
+#[derive(Clone, Copy, Debug)]
+enum Fault {
+    /// The clock steps back to 0 after a restart (brown-out with the state kept).
+    Restart,
+    /// A `u32` millisecond counter fed raw, starting 10 s before its wrap.
+    CounterWrap,
+    /// One stamp 4 294 967.296 s ahead (a glitched upper word), then normal stamps.
+    FutureGlitch,
+    /// The clock stops for one sample (a repeated stamp).
+    Repeat,
+    /// The device sleeps for longer than the use's longest gap.
+    LongSleep,
+}
+
+const FAULT_AT: u64 = 600;
+const SAMPLES: u64 = 1_000;
+
+/// Device time of sample `k` for the fault, ms.
+fn device_ms(fault: Fault, u: &Use, k: u64) -> u64 {
+    let normal = 1_000_000 + k * u.period_ms;
+    match fault {
+        Fault::Restart if k >= FAULT_AT => (k - FAULT_AT) * u.period_ms,
+        Fault::CounterWrap => {
+            // the counter reads 0 at the fault sample
+            let start = (1u64 << 32) - FAULT_AT * u.period_ms;
+            (start + k * u.period_ms) & u64::from(u32::MAX)
+        }
+        Fault::FutureGlitch if k == FAULT_AT => normal + 4_294_967_296,
+        Fault::Repeat if k == FAULT_AT => 1_000_000 + (k - 1) * u.period_ms,
+        Fault::LongSleep if k >= FAULT_AT => normal + (u.settings.max_gap_s as u64 + 60) * 1_000,
+        _ => normal,
+    }
+}
+
+fn pressure_at(z: f64) -> f32 {
+    US_1976
+        .pressure_at(Height::from_meters(z as f32).unwrap())
+        .unwrap()
+        .pa()
+}
+
+/// The standard atmosphere's air temperature at `z`, degC (the balloon's sounding
+/// integrates it).
+fn air_c(z: f64) -> f32 {
+    US_1976
+        .temperature_at(Height::from_meters(z as f32).unwrap())
+        .unwrap()
+        .celsius()
+}
+
+struct Run {
+    outputs: Vec<Output>,
+    truth: Vec<f64>,
+}
+
+fn run(u: &Use, fault: Fault) -> Run {
+    let mut p = Pipeline::<64>::new(u.settings).unwrap();
+    let (mut outputs, mut truth) = (Vec::new(), Vec::new());
+    for k in 0..SAMPLES {
+        // on the ground for 200 samples, then climbing
+        let climb_s = (k.saturating_sub(200) * u.period_ms) as f64 / 1_000.0;
+        let z = 300.0 + u.climb_mps * climb_s;
+        let t = Instant::from_millis(device_ms(fault, u, k));
+        let mut s = Sample::pressure(t, pressure_at(z));
+        s.temperature_c = Some(air_c(z));
+        outputs.push(p.process(&s));
+        truth.push(z);
+    }
+    Run { outputs, truth }
+}
+
+/// The checks every fault must pass for every use; `Err` names what failed.
+fn check(u: &Use, fault: Fault, r: &Run) -> Result<String, String> {
+    let at = FAULT_AT as usize;
+    let before = &r.outputs[at - 1];
+    let fault_out = &r.outputs[at];
+    // 1. the cause is flagged on the fault sample
+    let want = match fault {
+        Fault::Repeat => Flags::REJECTED_TIME,
+        _ => Flags::CLOCK_FAULT,
+    };
+    if !fault_out.flags.contains(want) {
+        return Err(format!("fault sample flags {:?}", fault_out.flags));
+    }
+    // 2. every later sample is taken; the glitch costs one more fault flag at most
+    let later = &r.outputs[at + 1..];
+    if let Some((i, o)) = later.iter().enumerate().find(|(_, o)| !o.accepted()) {
+        return Err(format!(
+            "sample {} after the fault refused: {:?}",
+            i + 1,
+            o.flags
+        ));
+    }
+    let faults = later
+        .iter()
+        .filter(|o| o.flags.contains(Flags::CLOCK_FAULT))
+        .count();
+    let allowed = usize::from(matches!(fault, Fault::FutureGlitch));
+    if faults > allowed {
+        return Err(format!("{faults} later samples flagged clock_fault"));
+    }
+    // 3. the totals and the phase are kept across the fault
+    if fault_out.ascent_m + 0.01 < before.ascent_m {
+        return Err(format!(
+            "ascent fell from {} to {} m",
+            before.ascent_m, fault_out.ascent_m
+        ));
+    }
+    if fault_out.phase != before.phase {
+        return Err(format!("phase {:?} -> {:?}", before.phase, fault_out.phase));
+    }
+    // 4. the estimate follows the truth once settled: its change since the last
+    //    sample before the fault (the drone reports height above its take-off point)
+    let settled = at + u.settle_samples as usize;
+    let error = (r.outputs[settled].altitude_m - before.altitude_m)
+        - (r.truth[settled] - r.truth[at - 1]) as f32;
+    if error.abs() > u.tolerance_m {
+        return Err(format!(
+            "error {error:.2} m {} samples after",
+            u.settle_samples
+        ));
+    }
+    Ok(format!(
+        "flags {:?}, error after settling {error:+.2} m, ascent {:.1} m",
+        fault_out.flags.names().collect::<Vec<_>>(),
+        r.outputs[SAMPLES as usize - 1].ascent_m
+    ))
+}
+
+#[test]
+fn every_clock_fault_costs_at_most_one_sample_for_every_use() {
+    let faults = [
+        Fault::Restart,
+        Fault::CounterWrap,
+        Fault::FutureGlitch,
+        Fault::Repeat,
+        Fault::LongSleep,
+    ];
+    let mut failures = Vec::new();
+    println!("| use | fault | result |\n| --- | --- | --- |");
+    for u in uses() {
+        for fault in faults {
+            let r = run(&u, fault);
+            match check(&u, fault, &r) {
+                Ok(line) => println!("| {} | {fault:?} | ok: {line} |", u.name),
+                Err(e) => {
+                    println!("| {} | {fault:?} | FAILED: {e} |", u.name);
+                    failures.push(format!("{} / {fault:?}: {e}", u.name));
+                }
+            }
+        }
+    }
+    assert!(failures.is_empty(), "{failures:#?}");
+}
+
+#[test]
+fn balloon_profile_kept_across_a_restart() {
+    let u = &uses()[1];
+    let mut p = Pipeline::<64>::new(u.settings).unwrap();
+    let mut levels_before = 0;
+    for k in 0..SAMPLES {
+        let z = 300.0 + 5.0 * k as f64;
+        let t = Instant::from_millis(device_ms(Fault::Restart, u, k));
+        let mut s = Sample::pressure(t, pressure_at(z));
+        s.temperature_c = Some(15.0 - 0.0065 * (z as f32 - 300.0));
+        let out = p.process(&s);
+        assert!(out.accepted(), "{k}: {:?}", out.flags);
+        let levels = p.sounding().map_or(0, |s| s.profile().len());
+        if k == FAULT_AT - 1 {
+            levels_before = levels;
+        }
+        if k >= FAULT_AT {
+            assert!(levels >= levels_before, "profile lost levels at {k}");
+        }
+    }
+    assert!(levels_before > 2);
+}
+
+#[test]
+fn a_glitched_accelerometer_stamp_is_refused_and_changes_nothing() {
+    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    for k in 0..100u64 {
+        assert!(
+            p.process(&Sample::pressure(Instant::from_millis(k * 20), 97_000.0))
+                .accepted()
+        );
+    }
+    let before = p.clone();
+    let glitch = Instant::from_secs(1_000_000_000);
+    assert_eq!(p.accelerometer(glitch, 0.0), Err(Error::TimeJump));
+    assert_eq!(p, before);
+    let next = p.process(&Sample::pressure(Instant::from_millis(2_000), 97_000.0));
+    assert!(next.accepted() && !next.flags.contains(Flags::CLOCK_FAULT));
+}
+
+#[test]
+fn an_accelerometer_stamp_ahead_of_the_next_barometer_sample_restarts_the_filter() {
+    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    for k in 0..100u64 {
+        p.process(&Sample::pressure(Instant::from_millis(k * 20), 97_000.0));
+    }
+    // an accelerometer stamp 5 s ahead (within the longest gap), then the barometer
+    // goes on at its own time: the filter starts again from the barometer sample
+    p.accelerometer(Instant::from_millis(7_000), 0.0).unwrap();
+    let out = p.process(&Sample::pressure(Instant::from_millis(2_000), 97_000.0));
+    assert!(
+        out.accepted() && out.flags.contains(Flags::REACQUIRED),
+        "{out:?}"
+    );
+    let out = p.process(&Sample::pressure(Instant::from_millis(2_020), 97_000.0));
+    assert!(out.accepted(), "{out:?}");
+}
+
+#[test]
+fn a_known_restart_resumes_without_a_fault() {
+    let mut p = Pipeline::<2>::new(Settings::hike()).unwrap();
+    for k in 0..100u64 {
+        p.process(&Sample::pressure(Instant::from_secs(5_000 + k), 90_000.0));
+    }
+    let ascent = p.last_output().ascent_m;
+    p.restart_clock();
+    let out = p.process(&Sample::pressure(Instant::ZERO, 90_000.0));
+    assert!(
+        out.accepted() && !out.flags.contains(Flags::CLOCK_FAULT),
+        "{out:?}"
+    );
+    assert_eq!(out.ascent_m, ascent);
+}
+
+#[test]
+fn a_wrapping_counter_through_wrapping_ticks_never_faults() {
+    let mut clock = WrappingTicks::<1_000>::new();
+    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut raw = u32::MAX - 5_000;
+    for _ in 0..1_000 {
+        let out = p.process(&Sample::pressure(clock.instant(raw), 97_000.0));
+        assert!(out.accepted() && !out.flags.contains(Flags::CLOCK_FAULT));
+        raw = raw.wrapping_add(20);
+    }
+}
