@@ -128,6 +128,7 @@
 //! Not certified for aviation, navigation or life-safety use: see `SAFETY.md`.
 
 #![no_std]
+#![cfg_attr(docsrs, feature(doc_cfg))]
 #![forbid(unsafe_code)]
 #![warn(missing_docs)]
 #![deny(
@@ -153,8 +154,10 @@ mod math;
 pub mod model;
 pub mod pipeline;
 #[cfg(feature = "embedded-hal")]
+#[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal")))]
 pub mod sensor;
 #[cfg(feature = "embedded-hal-async")]
+#[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal-async")))]
 pub mod sensor_async;
 pub mod sounding;
 pub mod time;
