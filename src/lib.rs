@@ -152,6 +152,8 @@ pub mod humidity;
 pub mod hypsometric;
 mod math;
 pub mod model;
+#[cfg(feature = "embedded-hal")]
+pub mod parts;
 pub mod pipeline;
 #[cfg(feature = "embedded-hal")]
 #[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal")))]
