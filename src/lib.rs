@@ -165,6 +165,7 @@ pub mod sounding;
 pub mod time;
 pub mod track;
 pub mod units;
+pub mod uses;
 
 pub use error::Error;
 pub use units::{Height, Pressure, RelativeHumidity, Temperature, VerticalSpeed};

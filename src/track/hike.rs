@@ -402,7 +402,7 @@ impl HikeState {
     /// Whether a sample has been taken: the tendency ring stores a value at the first
     /// sample and is never emptied here (a long gap empties it and stores the new
     /// value), so it says so without a flag of its own.
-    fn started(&self) -> bool {
+    pub(crate) fn started(&self) -> bool {
         self.tendency.started()
     }
 

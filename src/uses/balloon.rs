@@ -1,0 +1,505 @@
+//! [`Balloon`]: a sounding integrated layer by layer from the launch, the burst, and
+//! the descent on the profile stored on the way up.
+
+use super::stages::{
+    Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset, TimeBase, change_at, check_common,
+    fix_target, kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_height,
+};
+use super::{BalloonState, Flags, Output, Sample, Use};
+use crate::Error;
+use crate::datum::AltimeterSetting;
+use crate::filter::{VerticalKalman, VerticalKalmanConfig};
+use crate::flight::{Phase, PhaseSettings};
+use crate::geopotential::Gravity;
+use crate::humidity::MixingRatio;
+use crate::model::{AirSample, ColumnModel, Reference, TemperatureModel};
+use crate::sounding::{PendingStep, Sounding};
+use crate::time::Instant;
+use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
+
+/// Where a balloon's heights come from.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum BalloonModel {
+    /// Layer-by-layer integration of each sample's pressure, air temperature and
+    /// humidity from the first sample ([`crate::sounding`]).
+    Sounding {
+        /// After the burst, take heights from the profile stored on the way up instead
+        /// of integrating with the lagging temperature sensor.
+        descent_on_profile: bool,
+    },
+    /// U.S. Standard Atmosphere 1976 pressure altitude (plus the launch datum).
+    Standard,
+    /// A layer temperature model ([`crate::model`]) between the first sample (the
+    /// reference: its pressure, temperature and the launch altitude) and each sample,
+    /// for example [`TemperatureModel::MeanOfEnds`].
+    Column(TemperatureModel),
+}
+
+/// A balloon's settings. [`BalloonSettings::DEFAULT`] suits a radiosonde-style payload
+/// sampling at 1 Hz to 40 km.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct BalloonSettings {
+    /// The height model.
+    pub model: BalloonModel,
+    /// The Kalman filter on the barometric height.
+    pub kalman: VerticalKalmanConfig,
+    /// Thresholds and debounce times of the states.
+    pub states: PhaseSettings,
+    /// Elevation of the launch site, m; `None`: heights start at the first sample's
+    /// pressure altitude.
+    pub launch_altitude_m: Option<f32>,
+    /// Latitude for gravity, degrees; `None`: standard gravity 9.806 65 m/s^2.
+    pub latitude_deg: Option<f32>,
+    /// Samples at rest averaged into the launch reference (>= 1).
+    pub ground_samples: u32,
+    /// Lowest accepted pressure, Pa.
+    pub min_pressure_pa: f32,
+    /// Highest accepted pressure, Pa.
+    pub max_pressure_pa: f32,
+    /// 1-sigma pressure noise of the barometer, Pa.
+    pub pressure_noise_pa: f32,
+    /// 1-sigma uncertainty of the column temperature, K.
+    pub temperature_uncertainty_k: f32,
+    /// Time constant with which a known-elevation fix moves the height, s.
+    pub fix_time_constant_s: f32,
+    /// Longest step between samples taken as a normal step, s.
+    pub max_gap_s: f32,
+    /// Hysteresis band of the ascent and descent totals, m.
+    pub totals_band_m: f32,
+}
+
+impl BalloonSettings {
+    /// The preset: sounding model with descent on the stored profile, a Kalman filter
+    /// on the barometric height with wide dynamics for the burst.
+    pub const DEFAULT: BalloonSettings = BalloonSettings {
+        model: BalloonModel::Sounding {
+            descent_on_profile: true,
+        },
+        kalman: VerticalKalmanConfig {
+            baro_sigma_m: 0.5,
+            // burst turns +5 m/s into -50 m/s within seconds
+            baro_only_accel_density: 3.0,
+            initial_speed_sigma_mps: 30.0,
+            max_step_s: 30.0,
+            accel_timeout_s: 0.5,
+            baro_timeout_s: 60.0,
+            reacquire_after: 5,
+            ..VerticalKalmanConfig::DEFAULT
+        },
+        states: PhaseSettings::BALLOON,
+        launch_altitude_m: None,
+        latitude_deg: None,
+        ground_samples: 10,
+        min_pressure_pa: crate::atmosphere::US_1976.top_pressure_pa(),
+        max_pressure_pa: 110_000.0,
+        pressure_noise_pa: 2.0,
+        temperature_uncertainty_k: 0.5,
+        fix_time_constant_s: 10.0,
+        // a tracker that sleeps between fixes still reports every few minutes
+        max_gap_s: 600.0,
+        // height noise reaches about 10 m (1-sigma) near 30 km
+        totals_band_m: 30.0,
+    };
+
+    /// Checks every field against its documented range. Errors:
+    /// [`Error::InvalidSetting`] and the nested settings' errors.
+    pub fn validate(&self) -> Result<(), Error> {
+        check_common(
+            self.min_pressure_pa,
+            self.max_pressure_pa,
+            self.pressure_noise_pa,
+            self.temperature_uncertainty_k,
+            self.fix_time_constant_s,
+            self.max_gap_s,
+        )?;
+        let launch_ok = self
+            .launch_altitude_m
+            .is_none_or(|h| h.is_finite() && h.abs() < 90_000.0);
+        if self.ground_samples < 1 || !launch_ok {
+            return Err(Error::InvalidSetting);
+        }
+        self.gravity()?;
+        if let BalloonModel::Column(model) = self.model {
+            // the model's own parameters: it must place a plain standard-day sample
+            let reference = Reference::new(Pressure::from_pa(101_325.0)?, Height::ZERO)
+                .with_temperature(Temperature::from_kelvin(288.15)?);
+            let air = AirSample::at(Temperature::from_kelvin(282.0)?);
+            model
+                .height(&reference, Pressure::from_pa(95_000.0)?, &air)
+                .map_err(|_| Error::InvalidSetting)?;
+        }
+        self.kalman.validate()?;
+        self.states.validate()
+    }
+
+    /// Gravity at the latitude, or standard.
+    fn gravity(&self) -> Result<Gravity, Error> {
+        match self.latitude_deg {
+            Some(lat) => Gravity::at_latitude(lat),
+            None => Ok(Gravity::Standard),
+        }
+    }
+}
+
+/// The height model's state.
+#[derive(Debug, Clone, PartialEq)]
+#[allow(clippy::large_enum_variant)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+enum ModelState<const N: usize> {
+    /// Before the first sample (and always for the standard model).
+    Empty,
+    Sounding(Sounding<N>),
+    Column(Reference),
+}
+
+/// What a sample does to the height model's state, applied only when it is taken. An
+/// out-parameter, not part of a result: returned by value the sounding inside would be
+/// copied on every sample.
+#[allow(clippy::large_enum_variant)]
+enum ModelChange<const N: usize> {
+    Keep,
+    Start(ModelState<N>),
+    Step(PendingStep, bool),
+}
+
+/// Fewest profile levels a [`Balloon`] can keep (a compile-time check on `N`).
+pub const MIN_PROFILE_LEVELS: usize = 8;
+
+/// A balloon: heights integrated layer by layer from the launch with each sample's air
+/// temperature and humidity, the profile of the ascent stored in `N` levels (thinned
+/// to fit a whole flight), the burst, and the descent on the stored profile; states
+/// ground, ascent, float, burst, descent, landed.
+///
+/// ```
+/// use isohypse::time::Instant;
+/// use isohypse::uses::{Balloon, BalloonSettings, Sample};
+/// const FIELD: BalloonSettings = BalloonSettings {
+///     launch_altitude_m: Some(310.0),
+///     latitude_deg: Some(64.2),
+///     ..BalloonSettings::DEFAULT
+/// };
+/// let mut balloon = Balloon::<256>::new(&FIELD)?;
+/// let out = balloon.process(&Sample {
+///     time: Instant::ZERO,
+///     pressure_pa: 97_300.0,
+///     temperature_c: Some(24.5),
+///     humidity_pct: Some(70.0),
+///     ..Sample::default()
+/// });
+/// assert!((out.altitude_m - 310.0).abs() < 0.5);
+/// # Ok::<(), isohypse::Error>(())
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Balloon<'a, const N: usize> {
+    settings: &'a BalloonSettings,
+    kalman: VerticalKalman<&'a VerticalKalmanConfig>,
+    ground: Option<Ground>,
+    offset: Offset,
+    track: FlightTrack<'a>,
+    time: TimeBase,
+    model: ModelState<N>,
+    last_temperature: Option<Temperature>,
+    last: Carried,
+}
+
+impl<'a, const N: usize> Balloon<'a, N> {
+    const CAPACITY_OK: () = assert!(
+        N >= MIN_PROFILE_LEVELS,
+        "a balloon's profile needs at least MIN_PROFILE_LEVELS (8) levels"
+    );
+
+    /// A balloon with `settings` (validated). Errors: as [`BalloonSettings::validate`].
+    pub fn new(settings: &'a BalloonSettings) -> Result<Self, Error> {
+        let () = Self::CAPACITY_OK;
+        settings.validate()?;
+        let ground = match settings.launch_altitude_m {
+            Some(h) => Some(Ground::new(h, settings.ground_samples)?),
+            None => None,
+        };
+        Ok(Self {
+            settings,
+            kalman: VerticalKalman::new(&settings.kalman)?,
+            ground,
+            offset: Offset::default(),
+            track: FlightTrack::new(&settings.states, settings.totals_band_m)?,
+            time: TimeBase::default(),
+            model: ModelState::Empty,
+            last_temperature: None,
+            last: Carried::default(),
+        })
+    }
+
+    /// The settings.
+    pub fn settings(&self) -> &'a BalloonSettings {
+        self.settings
+    }
+
+    /// The state now.
+    pub fn state(&self) -> BalloonState {
+        BalloonState::from_phase(self.track.phase())
+    }
+
+    /// The sounding (sounding model), once started.
+    pub fn sounding(&self) -> Option<&Sounding<N>> {
+        match &self.model {
+            ModelState::Sounding(s) => Some(s),
+            _ => None,
+        }
+    }
+
+    /// The highest height taken since launch (seen in ascent or float), m.
+    pub fn apex_m(&self) -> Option<f32> {
+        self.track.phases.apex_m()
+    }
+
+    /// Barometer samples the Kalman gate refused as outliers.
+    pub fn outlier_count(&self) -> u32 {
+        self.kalman.rejected_count()
+    }
+
+    /// The last output (a zeroed one before any sample).
+    pub fn last_output(&self) -> Output<BalloonState> {
+        let time = self.time.last().unwrap_or(Instant::ZERO);
+        let mut out = self.carry(time, self.last.flags);
+        if self.last.changed {
+            out.change = change_at(&self.track.phases, time, BalloonState::from_phase);
+        }
+        out
+    }
+
+    fn carry(&self, time: Instant, flags: Flags) -> Output<BalloonState> {
+        let totals = (self.track.totals.ascent_m(), self.track.totals.descent_m());
+        self.last.output(time, self.state(), totals, flags)
+    }
+
+    /// Process one barometer sample. Never fails: problems are reported in
+    /// [`Output::flags`], and a rejected sample leaves the balloon unchanged.
+    pub fn process(&mut self, sample: &Sample) -> Output<BalloonState> {
+        let s = self.settings;
+        let time = match self.time.step(sample.time, s.max_gap_s) {
+            Ok(step) => step,
+            Err(flags) => return self.carry(sample.time, flags),
+        };
+        let inputs = match Inputs::check(sample, s.min_pressure_pa, s.max_pressure_pa) {
+            Ok(inputs) => inputs,
+            Err(flags) => return self.carry(sample.time, flags),
+        };
+        let mut flags = inputs.flags;
+        if time.fault {
+            flags.set(Flags::CLOCK_FAULT);
+        }
+        let mut change = ModelChange::Keep;
+        let (p, t, rh) = (inputs.pressure, inputs.temperature, inputs.humidity);
+        let Ok((model_m, column_k)) = self.model_height(p, t, rh, &mut flags, &mut change) else {
+            return self.carry(sample.time, Flags::REJECTED_MODEL);
+        };
+        let on_ground = self.track.phase() == Phase::Ground;
+        let mut datum = match &self.ground {
+            Some(g) => Some(g.propose(self.offset, model_m, on_ground, &mut flags)),
+            None => None,
+        };
+        let mut offset = datum.map_or(self.offset, |d| d.offset);
+        if let Some(fix) = inputs.fix_m {
+            let last_m = self.time.last().map(|_| self.last.altitude_m);
+            offset.target_m = fix_target(offset, fix, last_m, model_m);
+            if let Some(d) = datum.as_mut() {
+                d.frozen = true;
+            }
+            flags.set(Flags::FIX_APPLIED);
+        }
+        let offset = offset.slewed(time.dt, s.fix_time_constant_s);
+        let raw_m = model_m + offset.offset_m;
+        let Ok(raw) = Height::from_meters(raw_m) else {
+            return self.carry(sample.time, Flags::REJECTED_MODEL);
+        };
+        let baro = KalmanSample {
+            t: sample.time,
+            raw,
+            sigma_m: kalman_sigma_m(s.pressure_noise_pa, p, column_k),
+            accel_mps2: inputs.accel_mps2,
+        };
+        let last_time = self.time.last();
+        let estimate = kalman_step(&mut self.kalman, &baro, &time, last_time, &mut flags);
+        // nothing below refuses the sample
+        let (h, v, sigma_m) = match estimate {
+            Err(()) => return self.carry(sample.time, Flags::REJECTED_MODEL),
+            Ok(Some((h, v, var))) => (h, v, crate::math::sigma_from_variance(var)),
+            Ok(None) => {
+                let above = raw_m - s.launch_altitude_m.unwrap_or(0.0);
+                let (noise, dk) = (s.pressure_noise_pa, s.temperature_uncertainty_k);
+                (raw_m, 0.0, pointwise_sigma_m(noise, dk, p, column_k, above))
+            }
+        };
+        let at_rest = datum.is_some_and(|d| d.averaging)
+            && v.abs() < s.states.rest_mps
+            && !flags.contains(Flags::OUTLIER)
+            && !flags.contains(Flags::REACQUIRED);
+        let changed = self.track.step(time.dt_or_zero(), h, v);
+        self.commit_model(change);
+        let mut offset = offset;
+        if let (Some(g), Some(mut d)) = (self.ground.as_mut(), datum) {
+            d.offset = offset;
+            let dt = time.dt_or_zero();
+            g.commit(&mut d, at_rest.then_some(model_m), dt, sample.time);
+            offset = d.offset;
+        }
+        self.offset = offset;
+        self.time.commit(sample.time);
+        if t.is_some() {
+            self.last_temperature = t;
+        }
+        self.last = Carried {
+            altitude_m: h,
+            raw_altitude_m: raw_m,
+            vertical_speed_mps: v,
+            altitude_sigma_m: sigma_m,
+            flags,
+            changed,
+        };
+        let mut out = self.carry(sample.time, flags);
+        if changed {
+            out.change = change_at(&self.track.phases, sample.time, BalloonState::from_phase);
+        }
+        out
+    }
+
+    fn commit_model(&mut self, change: ModelChange<N>) {
+        match change {
+            ModelChange::Keep => {}
+            ModelChange::Start(state) => self.model = state,
+            ModelChange::Step(pending, descending) => {
+                if let ModelState::Sounding(s) = &mut self.model {
+                    if descending {
+                        s.set_recording(false);
+                    }
+                    s.commit(pending);
+                }
+            }
+        }
+    }
+
+    /// Height of the sample from the model (before the datum), m, and the column
+    /// temperature used, K. The model's new state goes to `change`.
+    fn model_height(
+        &self,
+        p: Pressure,
+        t: Option<Temperature>,
+        rh: Option<RelativeHumidity>,
+        flags: &mut Flags,
+        change: &mut ModelChange<N>,
+    ) -> Result<(f32, f32), Error> {
+        let (std_m, t_std) = standard_height(p, AltimeterSetting::Standard)?;
+        // the launch altitude is the datum's; the models start there, so their heights
+        // are reported relative to it
+        let launch = self.settings.launch_altitude_m;
+        let start_offset = launch.unwrap_or(0.0);
+        let base = match launch {
+            Some(h) => Height::from_meters(h)?,
+            None => Height::from_meters(std_m)?,
+        };
+        match self.settings.model {
+            BalloonModel::Standard => Ok((std_m, t.unwrap_or(t_std).kelvin())),
+            BalloonModel::Column(model) => {
+                let t = self.temperature_or_held(t, t_std, flags);
+                let mixing_ratio = match rh {
+                    Some(rh) => MixingRatio::from_relative_humidity(p, t, rh)?,
+                    None => MixingRatio::DRY,
+                };
+                let air = AirSample {
+                    temperature: Some(t),
+                    mixing_ratio,
+                };
+                match &self.model {
+                    ModelState::Column(reference) => {
+                        let h = model.height(reference, p, &air)?;
+                        Ok((h.meters() - start_offset, t.kelvin()))
+                    }
+                    _ => {
+                        let reference = Reference::new(p, base).with_temperature(t);
+                        // checks the model can place this sample before keeping it
+                        model.height(&reference, p, &air)?;
+                        *change = ModelChange::Start(ModelState::Column(reference));
+                        Ok((base.meters() - start_offset, t.kelvin()))
+                    }
+                }
+            }
+            BalloonModel::Sounding { descent_on_profile } => {
+                let t = self.temperature_or_held(t, t_std, flags);
+                let ModelState::Sounding(s) = &self.model else {
+                    let gravity = self.settings.gravity()?;
+                    let start = Sounding::new(base, gravity, p, t, rh)?;
+                    *change = ModelChange::Start(ModelState::Sounding(start));
+                    return Ok((base.meters() - start_offset, t.kelvin()));
+                };
+                let descending = matches!(
+                    self.track.phase(),
+                    Phase::Burst | Phase::Descent | Phase::Landed
+                );
+                // prepared now, applied when the whole sample is taken
+                let pending = s.prepare(p, Some(t), rh)?;
+                let h = pending.step.geometric.meters();
+                *change = ModelChange::Step(pending, descending);
+                if descending && descent_on_profile {
+                    if let Ok(h) = s.height_on_profile(p) {
+                        flags.set(Flags::ON_PROFILE);
+                        return Ok((h.meters() - start_offset, t.kelvin()));
+                    }
+                }
+                Ok((h - start_offset, t.kelvin()))
+            }
+        }
+    }
+
+    /// The sample's air temperature; without one the last one held, or before any the
+    /// standard atmosphere's at the pressure altitude (flagged either way).
+    fn temperature_or_held(
+        &self,
+        t: Option<Temperature>,
+        standard: Temperature,
+        flags: &mut Flags,
+    ) -> Temperature {
+        match (t, self.last_temperature) {
+            (Some(t), _) => t,
+            (None, Some(held)) => {
+                flags.set(Flags::TEMPERATURE_HELD);
+                held
+            }
+            (None, None) => {
+                flags.set(Flags::TEMPERATURE_ASSUMED);
+                standard
+            }
+        }
+    }
+
+    /// An accelerometer sample between barometer samples (m/s^2, up, gravity
+    /// removed). Errors, state unchanged: [`Error::TimeJump`] and those of
+    /// [`VerticalKalman::predict`].
+    pub fn accelerometer(&mut self, time: Instant, accel_up_mps2: f32) -> Result<(), Error> {
+        self.time.check_ahead(time, self.settings.max_gap_s)?;
+        self.kalman.predict(time, accel_up_mps2)
+    }
+
+    /// The clock was restarted on purpose: the next sample starts a new time base
+    /// without a clock-fault flag. The estimate re-acquires; the profile, totals, state
+    /// and datum are kept.
+    pub fn restart_clock(&mut self) {
+        self.time.forget();
+        self.kalman.reset();
+    }
+}
+
+impl<const N: usize> Use for Balloon<'_, N> {
+    type State = BalloonState;
+    fn process(&mut self, sample: &Sample) -> Output<BalloonState> {
+        Balloon::process(self, sample)
+    }
+    fn accelerometer(&mut self, time: Instant, accel_up_mps2: f32) -> Result<(), Error> {
+        Balloon::accelerometer(self, time, accel_up_mps2)
+    }
+    fn restart_clock(&mut self) {
+        Balloon::restart_clock(self)
+    }
+}
