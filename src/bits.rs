@@ -42,6 +42,18 @@ impl Default for Bits {
     }
 }
 
+impl crate::snapshot::Snap for Bits {
+    const LEN: usize = 1;
+    fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
+        w.bytes(&[self.0.get()]);
+    }
+    fn load(&mut self, r: &mut crate::snapshot::Reader<'_>) -> Result<(), crate::Error> {
+        let [b] = r.bytes::<1>()?;
+        self.0 = NonZeroU8::new(b).ok_or(crate::Error::SnapshotCorrupt)?;
+        Ok(())
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::Bits;

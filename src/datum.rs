@@ -356,6 +356,34 @@ impl<M: ColumnModel> Calibration<M> {
     }
 }
 
+/// An altimeter setting in a snapshot: a tag, then the setting pressure (0 for
+/// standard).
+impl crate::snapshot::Snap for AltimeterSetting {
+    const LEN: usize = 1 + 4;
+    fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
+        let (tag, pa) = match *self {
+            AltimeterSetting::Standard => (0u8, 0.0),
+            AltimeterSetting::SeaLevel { qnh } => (1, qnh.pa()),
+            AltimeterSetting::Field { qfe } => (2, qfe.pa()),
+        };
+        tag.save(w);
+        pa.save(w);
+    }
+    fn load(&mut self, r: &mut crate::snapshot::Reader<'_>) -> Result<(), Error> {
+        let (mut tag, mut pa) = (0u8, 0.0f32);
+        tag.load(r)?;
+        pa.load(r)?;
+        let p = || Pressure::from_pa(pa).map_err(|_| Error::SnapshotCorrupt);
+        *self = match tag {
+            0 => AltimeterSetting::Standard,
+            1 => AltimeterSetting::SeaLevel { qnh: p()? },
+            2 => AltimeterSetting::Field { qfe: p()? },
+            _ => return Err(Error::SnapshotCorrupt),
+        };
+        Ok(())
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

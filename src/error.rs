@@ -48,6 +48,12 @@ pub enum Error {
     /// A time stamp lay further ahead of the latest one than the settings' longest gap
     /// (a glitched clock); the sample was not taken.
     TimeJump,
+    /// A snapshot was truncated, failed its checksum or held a value no field accepts.
+    SnapshotCorrupt,
+    /// A snapshot of another format version.
+    SnapshotVersion,
+    /// A snapshot of another use type or profile capacity.
+    SnapshotMismatch,
 }
 
 impl core::fmt::Display for Error {
@@ -55,6 +61,9 @@ impl core::fmt::Display for Error {
         let text = match self {
             Error::NotFinite => "value is NaN or infinite",
             Error::TimeJump => "time stamp too far ahead of the latest one",
+            Error::SnapshotCorrupt => "snapshot truncated, corrupted or out of range",
+            Error::SnapshotVersion => "snapshot of another format version",
+            Error::SnapshotMismatch => "snapshot of another use type or capacity",
             Error::PressureNotPositive => "pressure is zero or negative",
             Error::TemperatureNotPositive => "temperature is at or below absolute zero",
             Error::TemperatureOutOfRange => "temperature outside the accepted range for air",

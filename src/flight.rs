@@ -437,6 +437,26 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
     }
 }
 
+crate::snapshot::snap_enum!(Phase {
+    Phase::Ground,
+    Phase::Ascent,
+    Phase::Float,
+    Phase::Burst,
+    Phase::Descent,
+    Phase::Landed,
+});
+// the settings are not state: a snapshot is restored with the same settings
+crate::snapshot::snap_fields!(impl[S] PhaseCore<S> {
+    apex_m,
+    candidate,
+    candidate_m,
+    held_s,
+    event_phase,
+    event_m,
+    event_held_s,
+    phase,
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -219,3 +219,35 @@ impl Gravity {
         }
     }
 }
+
+/// Gravity in a snapshot: a tag, then the three coefficients (zeros for standard).
+impl crate::snapshot::Snap for Gravity {
+    const LEN: usize = 1 + 12;
+    fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
+        let (tag, g, c1, c2) = match *self {
+            Gravity::Standard => (0u8, 0.0, 0.0, 0.0),
+            Gravity::Latitude {
+                surface_gravity,
+                c1,
+                c2,
+            } => (1, surface_gravity, c1, c2),
+        };
+        tag.save(w);
+        [g, c1, c2].save(w);
+    }
+    fn load(&mut self, r: &mut crate::snapshot::Reader<'_>) -> Result<(), Error> {
+        let (mut tag, mut v) = (0u8, [0.0f32; 3]);
+        tag.load(r)?;
+        v.load(r)?;
+        *self = match (tag, v) {
+            (0, _) => Gravity::Standard,
+            (1, [g, c1, c2]) if g.is_finite() && g > 9.0 && g < 10.0 => Gravity::Latitude {
+                surface_gravity: g,
+                c1,
+                c2,
+            },
+            _ => return Err(Error::SnapshotCorrupt),
+        };
+        Ok(())
+    }
+}

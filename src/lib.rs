@@ -161,6 +161,7 @@ pub mod sensor;
 #[cfg(feature = "embedded-hal-async")]
 #[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal-async")))]
 pub mod sensor_async;
+pub(crate) mod snapshot;
 pub mod sounding;
 pub mod time;
 pub mod track;

@@ -862,6 +862,12 @@ impl<const N: usize> ColumnModel for TemperatureProfile<N> {
     }
 }
 
+crate::snapshot::snap_fields!(Reference {
+    pressure,
+    height,
+    temperature
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -1,22 +1,22 @@
 //! Sensor adapter (feature `embedded-hal`): any barometric sensor, driven through the
-//! [`Pipeline`] at a chosen rate.
+//! use type ([`crate::uses`]) at a chosen rate.
 //!
 //! - [`BarometricSensor`]: our own small trait for anything that yields pressure and
 //!   temperature (and optionally humidity). Implement it for your part's driver.
-//! - [`SensorDriver`]: reads the sensor, feeds the pipeline, and paces the loop with an
+//! - [`SensorDriver`]: reads the sensor, feeds the use type, and paces the loop with an
 //!   [`embedded_hal::delay::DelayNs`].
 //! - [`ExampleBarometer`]: a tiny implementation over [`embedded_hal::i2c::I2c`] for a
 //!   **made-up device** (invented register map, see its docs), used by the tests with a
 //!   mock bus and as a template for a real driver. It is not a real part.
 //!
 //! A failed read is a typed error ([`DriverError::Sensor`], the sensor's own error
-//! passed through) and feeds nothing to the pipeline, so its state is exactly as before.
+//! passed through) and feeds nothing to the use type, so its state is exactly as before.
 //! A read that succeeds but carries a non-physical value is fed as usual and comes back
-//! as a flagged, rejected [`Output`] (see [`crate::pipeline::Flags`]). Nothing panics.
+//! as a flagged, rejected [`Output`] (see [`crate::uses::Flags`]). Nothing panics.
 //!
 //! ```
 //! use isohypse::time::Instant;
-//! use isohypse::pipeline::{Pipeline, Settings};
+//! use isohypse::uses::{Drone, DroneSettings, Walk, WalkSettings};
 //! use isohypse::sensor::{BarometricSensor, Reading, SensorDriver};
 //!
 //! /// A stand-in sensor for the example: a steady 977 hPa, 18 degC.
@@ -24,7 +24,7 @@
 //! impl BarometricSensor for Steady {
 //!     type Error = core::convert::Infallible;
 //!     fn read(&mut self) -> Result<Reading, Self::Error> {
-//!         Ok(Reading { pressure_pa: 97_700.0, temperature_c: Some(18.0), humidity_pct: None })
+//!         Ok(Reading { pressure_pa: 97_700.0, sensor_temperature_c: Some(18.0), air_temperature_c: None, humidity_pct: None })
 //!     }
 //! }
 //! /// A delay that returns at once (use your HAL's timer on a device).
@@ -33,8 +33,8 @@
 //!     fn delay_ns(&mut self, _ns: u32) {}
 //! }
 //!
-//! let pipeline = Pipeline::<2>::new(Settings::drone())?;
-//! let mut driver = SensorDriver::new(Steady, NoWait, pipeline);
+//! let drone = Drone::new(&DroneSettings::DEFAULT)?;
+//! let mut driver = SensorDriver::new(Steady, NoWait, drone);
 //! // the clock: a monotonic timer on a device; here one that steps 20 ms a reading
 //! let mut ms = 0;
 //! let mut clock = || {
@@ -55,7 +55,7 @@ use embedded_hal::delay::DelayNs;
 use embedded_hal::i2c::I2c;
 
 use crate::Error;
-use crate::pipeline::{Output, Pipeline, Sample};
+use crate::uses::{Output, Sample, Use};
 
 /// One reading of a barometric sensor.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -63,19 +63,24 @@ use crate::pipeline::{Output, Pipeline, Sample};
 pub struct Reading {
     /// Static pressure, Pa.
     pub pressure_pa: f32,
-    /// Temperature, degC (`None` if the part has no temperature channel or it is off).
-    pub temperature_c: Option<f32>,
+    /// The barometer's own (die) temperature, degC, if the part reports one. It is
+    /// not the air's: a barometer sits in a warm box and heats itself, so the height
+    /// models never use it.
+    pub sensor_temperature_c: Option<f32>,
+    /// Air temperature, degC, from a probe outside the box, if the device has one.
+    pub air_temperature_c: Option<f32>,
     /// Relative humidity over water, % (`None` if the part has no humidity channel).
     pub humidity_pct: Option<f32>,
 }
 
 impl Reading {
-    /// The pipeline sample of this reading, taken at `time` (s).
+    /// The sample of this reading, taken at `time`: the air temperature goes in, the
+    /// sensor's own does not.
     pub const fn to_sample(&self, time: Instant) -> Sample {
         Sample {
             time,
             pressure_pa: self.pressure_pa,
-            temperature_c: self.temperature_c,
+            temperature_c: self.air_temperature_c,
             humidity_pct: self.humidity_pct,
             accel_up_mps2: None,
             known_altitude_m: None,
@@ -109,7 +114,7 @@ impl<T: BarometricSensor + ?Sized> BarometricSensor for &mut T {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum DriverError<E> {
     /// The sensor's read failed (its own error, e.g. the bus error). Nothing was fed to
-    /// the pipeline: its state is exactly as before.
+    /// the use type: its state is exactly as before.
     Sensor(E),
 }
 
@@ -125,9 +130,9 @@ impl<E> From<DriverError<E>> for Error {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct RunSummary {
-    /// Samples the pipeline accepted (possibly with flags such as an outlier).
+    /// Samples the use type accepted (possibly with flags such as an outlier).
     pub accepted: u32,
-    /// Readings the pipeline rejected (non-physical values, flagged in the output).
+    /// Readings the use type rejected (non-physical values, flagged in the output).
     pub rejected: u32,
     /// Failed reads ([`DriverError::Sensor`]).
     pub read_errors: u32,
@@ -135,7 +140,7 @@ pub struct RunSummary {
 
 impl RunSummary {
     /// Count one step's result (shared by the blocking and the async driver).
-    pub(crate) fn count<E>(&mut self, result: &Result<Output, DriverError<E>>) {
+    pub(crate) fn count<S, E>(&mut self, result: &Result<Output<S>, DriverError<E>>) {
         match result {
             Ok(out) if out.accepted() => self.accepted += 1,
             Ok(_) => self.rejected += 1,
@@ -144,17 +149,17 @@ impl RunSummary {
     }
 }
 
-/// Feed the result of one read to the pipeline as taken at `time`: a reading is
-/// processed; a failed read is counted in `read_errors` and leaves the pipeline alone.
+/// Feed the result of one read to the use type as taken at `time`: a reading is
+/// processed; a failed read is counted in `read_errors` and leaves the use type alone.
 /// Shared by the blocking and the async driver.
-pub(crate) fn feed<E, const N: usize>(
-    pipeline: &mut Pipeline<N>,
+pub(crate) fn feed<E, U: Use>(
+    device: &mut U,
     read_errors: &mut u32,
     time: Instant,
     read: Result<Reading, E>,
-) -> Result<Output, DriverError<E>> {
+) -> Result<Output<U::State>, DriverError<E>> {
     match read {
-        Ok(reading) => Ok(pipeline.process(&reading.to_sample(time))),
+        Ok(reading) => Ok(device.process(&reading.to_sample(time))),
         Err(e) => {
             *read_errors = read_errors.saturating_add(1);
             Err(DriverError::Sensor(e))
@@ -162,60 +167,62 @@ pub(crate) fn feed<E, const N: usize>(
     }
 }
 
-/// Drives a [`BarometricSensor`] through a [`Pipeline`] at a chosen rate.
+/// Drives a [`BarometricSensor`] through a use type ([`crate::uses`]) at a chosen rate.
 ///
 /// The driver keeps the time of the last reading it took; [`Self::run_for`] continues
 /// from there, one period per reading. Time per call: one sensor read plus one
-/// [`Pipeline::process`]. Memory: the sensor, the delay and the pipeline.
+/// one `process` call. Memory: the sensor, the delay and the use type.
 #[derive(Debug)]
-pub struct SensorDriver<S, D, const N: usize> {
+pub struct SensorDriver<S, D, U> {
     sensor: S,
     delay: D,
-    pipeline: Pipeline<N>,
+    device: U,
     last_time: Option<Instant>,
     read_errors: u32,
 }
 
-/// Formats the pipeline and the driver's counters (the sensor and the delay are left
+/// Formats the use type and the driver's counters (the sensor and the delay are left
 /// out: they need not implement `defmt::Format`).
 #[cfg(feature = "defmt")]
-impl<S, D, const N: usize> defmt::Format for SensorDriver<S, D, N> {
+impl<S, D, U: defmt::Format> defmt::Format for SensorDriver<S, D, U> {
     fn format(&self, f: defmt::Formatter<'_>) {
         defmt::write!(
             f,
-            "SensorDriver {{ pipeline: {}, last_time: {}, read_errors: {} }}",
-            self.pipeline,
+            "SensorDriver {{ device: {}, last_time: {}, read_errors: {} }}",
+            self.device,
             self.last_time,
             self.read_errors
         );
     }
 }
 
-impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
-    /// A driver for `sensor`, pacing with `delay`, feeding `pipeline`.
-    pub const fn new(sensor: S, delay: D, pipeline: Pipeline<N>) -> Self {
+impl<S: BarometricSensor, D: DelayNs, U: Use> SensorDriver<S, D, U> {
+    /// A driver for `sensor`, pacing with `delay`, feeding `device` (a
+    /// [`crate::uses::Drone`], [`crate::uses::Balloon`], [`crate::uses::Walk`] or
+    /// [`crate::uses::Device`]).
+    pub const fn new(sensor: S, delay: D, device: U) -> Self {
         Self {
             sensor,
             delay,
-            pipeline,
+            device,
             last_time: None,
             read_errors: 0,
         }
     }
 
-    /// Read the sensor once and feed the reading to the pipeline as taken at `time`
-    /// (s). `Ok`: the pipeline's output, which may be flagged or rejected (see
-    /// [`Output::accepted`]). `Err`: the read failed and the pipeline was not touched.
-    pub fn step(&mut self, time: Instant) -> Result<Output, DriverError<S::Error>> {
+    /// Read the sensor once and feed the reading to the use type as taken at `time`
+    /// (s). `Ok`: the use type's output, which may be flagged or rejected (see
+    /// [`Output::accepted`]). `Err`: the read failed and the use type was not touched.
+    pub fn step(&mut self, time: Instant) -> Result<Output<U::State>, DriverError<S::Error>> {
         self.last_time = Some(time);
         let read = self.sensor.read();
-        feed(&mut self.pipeline, &mut self.read_errors, time, read)
+        feed(&mut self.device, &mut self.read_errors, time, read)
     }
 
     /// Take `samples` readings `period_ms` apart: each one is stamped with
     /// `clock.now()` just before the read, [`Self::step`]ped, handed to `each` with its
     /// time, and followed by `delay.delay_ms(period_ms)`. The time the read and the
-    /// pipeline take adds to the delay (the stamps stay true: they come from the
+    /// use type take adds to the delay (the stamps stay true: they come from the
     /// clock); for an exact rate, call [`Self::step`] from a timer instead. Failed reads
     /// are counted and the loop goes on.
     pub fn run_for<C, F>(
@@ -227,7 +234,7 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
     ) -> RunSummary
     where
         C: Clock,
-        F: FnMut(Instant, Result<Output, DriverError<S::Error>>),
+        F: FnMut(Instant, Result<Output<U::State>, DriverError<S::Error>>),
     {
         let mut summary = RunSummary::default();
         for _ in 0..samples {
@@ -240,15 +247,15 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
         summary
     }
 
-    /// The pipeline (last output, phases, settings...).
-    pub fn pipeline(&self) -> &Pipeline<N> {
-        &self.pipeline
+    /// The use type it feeds.
+    pub fn device(&self) -> &U {
+        &self.device
     }
 
-    /// The pipeline, e.g. to feed accelerometer samples ([`Pipeline::accelerometer`])
-    /// between readings or to re-zero.
-    pub fn pipeline_mut(&mut self) -> &mut Pipeline<N> {
-        &mut self.pipeline
+    /// The use type, e.g. to feed accelerometer samples between readings or to
+    /// re-zero.
+    pub fn device_mut(&mut self) -> &mut U {
+        &mut self.device
     }
 
     /// The sensor, e.g. to reconfigure it.
@@ -267,8 +274,8 @@ impl<S: BarometricSensor, D: DelayNs, const N: usize> SensorDriver<S, D, N> {
     }
 
     /// Take the parts back.
-    pub fn release(self) -> (S, D, Pipeline<N>) {
-        (self.sensor, self.delay, self.pipeline)
+    pub fn release(self) -> (S, D, U) {
+        (self.sensor, self.delay, self.device)
     }
 }
 
@@ -367,7 +374,8 @@ impl<I: I2c> ExampleBarometer<I> {
             .then(|| f32::from(u16::from_be_bytes([h1, h0])) / 100.0);
         Ok(Reading {
             pressure_pa,
-            temperature_c: Some(temperature_c),
+            sensor_temperature_c: Some(temperature_c),
+            air_temperature_c: None,
             humidity_pct,
         })
     }

@@ -2,12 +2,12 @@
 //! built on an async executor: the same [`Reading`], the same error handling, an
 //! [`embedded_hal_async::delay::DelayNs`] to pace the loop.
 //!
-//! A failed read is counted and returned as [`DriverError::Sensor`]; the pipeline is not
+//! A failed read is counted and returned as [`DriverError::Sensor`]; the use type is not
 //! touched by it.
 //!
 //! ```
 //! use isohypse::time::Instant;
-//! use isohypse::pipeline::{Pipeline, Settings};
+//! use isohypse::uses::{Drone, DroneSettings, Walk, WalkSettings};
 //! use isohypse::sensor::Reading;
 //! use isohypse::sensor_async::{AsyncBarometricSensor, AsyncSensorDriver};
 //!
@@ -15,7 +15,7 @@
 //! impl AsyncBarometricSensor for Steady {
 //!     type Error = ();
 //!     async fn read(&mut self) -> Result<Reading, ()> {
-//!         Ok(Reading { pressure_pa: 95_000.0, temperature_c: Some(12.0), humidity_pct: None })
+//!         Ok(Reading { pressure_pa: 95_000.0, sensor_temperature_c: Some(12.0), air_temperature_c: None, humidity_pct: None })
 //!     }
 //! }
 //! struct NoWait;
@@ -29,8 +29,8 @@
 //! #         if let core::task::Poll::Ready(v) = f.as_mut().poll(&mut cx) { return v; }
 //! #     }
 //! # }
-//! let pipeline = Pipeline::<2>::new(Settings::hike())?;
-//! let mut driver = AsyncSensorDriver::new(Steady, NoWait, pipeline);
+//! let walk = Walk::new(&WalkSettings::DEFAULT)?;
+//! let mut driver = AsyncSensorDriver::new(Steady, NoWait, drone);
 //! // the executor's clock on a device; here one that steps a second a reading
 //! let mut s = 0;
 //! let mut clock = || {
@@ -45,8 +45,8 @@
 use crate::time::{Clock, Instant};
 use embedded_hal_async::delay::DelayNs;
 
-use crate::pipeline::{Output, Pipeline};
 use crate::sensor::{DriverError, Reading, RunSummary, feed};
+use crate::uses::{Output, Use};
 
 /// Anything that yields pressure and temperature (and optionally humidity),
 /// asynchronously. The async counterpart of [`crate::sensor::BarometricSensor`].
@@ -61,49 +61,49 @@ pub trait AsyncBarometricSensor {
     async fn read(&mut self) -> Result<Reading, Self::Error>;
 }
 
-/// Drives an [`AsyncBarometricSensor`] through a [`Pipeline`] at a chosen rate.
+/// Drives an [`AsyncBarometricSensor`] through a use type ([`crate::uses`]) at a chosen rate.
 /// Same behaviour as [`crate::sensor::SensorDriver`], awaiting the read and the delay.
 #[derive(Debug)]
-pub struct AsyncSensorDriver<S, D, const N: usize> {
+pub struct AsyncSensorDriver<S, D, U> {
     sensor: S,
     delay: D,
-    pipeline: Pipeline<N>,
+    device: U,
     last_time: Option<Instant>,
     read_errors: u32,
 }
 
-/// Formats the pipeline and the driver's counters.
+/// Formats the use type and the driver's counters.
 #[cfg(feature = "defmt")]
-impl<S, D, const N: usize> defmt::Format for AsyncSensorDriver<S, D, N> {
+impl<S, D, U: defmt::Format> defmt::Format for AsyncSensorDriver<S, D, U> {
     fn format(&self, f: defmt::Formatter<'_>) {
         defmt::write!(
             f,
-            "AsyncSensorDriver {{ pipeline: {}, last_time: {}, read_errors: {} }}",
-            self.pipeline,
+            "AsyncSensorDriver {{ device: {}, last_time: {}, read_errors: {} }}",
+            self.device,
             self.last_time,
             self.read_errors
         );
     }
 }
 
-impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, D, N> {
-    /// A driver for `sensor`, pacing with `delay`, feeding `pipeline`.
-    pub const fn new(sensor: S, delay: D, pipeline: Pipeline<N>) -> Self {
+impl<S: AsyncBarometricSensor, D: DelayNs, U: Use> AsyncSensorDriver<S, D, U> {
+    /// A driver for `sensor`, pacing with `delay`, feeding `device` (any use type).
+    pub const fn new(sensor: S, delay: D, device: U) -> Self {
         Self {
             sensor,
             delay,
-            pipeline,
+            device,
             last_time: None,
             read_errors: 0,
         }
     }
 
-    /// Read the sensor once and feed the reading to the pipeline as taken at `time`
-    /// (s). `Err`: the read failed and the pipeline was not touched.
-    pub async fn step(&mut self, time: Instant) -> Result<Output, DriverError<S::Error>> {
+    /// Read the sensor once and feed the reading to the use type as taken at `time`
+    /// (s). `Err`: the read failed and the use type was not touched.
+    pub async fn step(&mut self, time: Instant) -> Result<Output<U::State>, DriverError<S::Error>> {
         self.last_time = Some(time);
         let read = self.sensor.read().await;
-        feed(&mut self.pipeline, &mut self.read_errors, time, read)
+        feed(&mut self.device, &mut self.read_errors, time, read)
     }
 
     /// Take `samples` readings `period_ms` apart (see
@@ -118,7 +118,7 @@ impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, 
     ) -> RunSummary
     where
         C: Clock,
-        F: FnMut(Instant, Result<Output, DriverError<S::Error>>),
+        F: FnMut(Instant, Result<Output<U::State>, DriverError<S::Error>>),
     {
         let mut summary = RunSummary::default();
         for _ in 0..samples {
@@ -131,14 +131,14 @@ impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, 
         summary
     }
 
-    /// The pipeline.
-    pub fn pipeline(&self) -> &Pipeline<N> {
-        &self.pipeline
+    /// The use type it feeds.
+    pub fn device(&self) -> &U {
+        &self.device
     }
 
-    /// The pipeline, e.g. to feed accelerometer samples between readings.
-    pub fn pipeline_mut(&mut self) -> &mut Pipeline<N> {
-        &mut self.pipeline
+    /// The use type, e.g. to feed accelerometer samples between readings.
+    pub fn device_mut(&mut self) -> &mut U {
+        &mut self.device
     }
 
     /// Failed reads since the driver was made.
@@ -147,7 +147,7 @@ impl<S: AsyncBarometricSensor, D: DelayNs, const N: usize> AsyncSensorDriver<S, 
     }
 
     /// Take the parts back.
-    pub fn release(self) -> (S, D, Pipeline<N>) {
-        (self.sensor, self.delay, self.pipeline)
+    pub fn release(self) -> (S, D, U) {
+        (self.sensor, self.delay, self.device)
     }
 }

@@ -462,6 +462,62 @@ fn virtual_k(p: Pressure, t: Temperature, rh: Option<RelativeHumidity>) -> Resul
     }
 }
 
+crate::snapshot::snap_fields!(Level {
+    pressure_pa,
+    geopotential_m,
+    virtual_temperature_k
+});
+
+/// The stored levels: their count, then `N` levels (zeros past the count).
+impl<const N: usize> crate::snapshot::Snap for Profile<N> {
+    const LEN: usize = 2 + N * <Level as crate::snapshot::Snap>::LEN + 4;
+    fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
+        (self.levels.len() as u16).save(w);
+        let blank = Level {
+            pressure_pa: 0.0,
+            geopotential_m: 0.0,
+            virtual_temperature_k: 0.0,
+        };
+        for i in 0..N {
+            self.levels.get(i).unwrap_or(&blank).save(w);
+        }
+        self.step_ln_p.save(w);
+    }
+    fn load(&mut self, r: &mut crate::snapshot::Reader<'_>) -> Result<(), Error> {
+        let mut count = 0u16;
+        count.load(r)?;
+        self.levels.clear();
+        for i in 0..N {
+            let mut level = Level {
+                pressure_pa: 0.0,
+                geopotential_m: 0.0,
+                virtual_temperature_k: 0.0,
+            };
+            level.load(r)?;
+            if i < usize::from(count) {
+                self.levels
+                    .push(level)
+                    .map_err(|_| Error::SnapshotCorrupt)?;
+            }
+        }
+        if usize::from(count) > N {
+            return Err(Error::SnapshotCorrupt);
+        }
+        self.step_ln_p.load(r)
+    }
+}
+
+crate::snapshot::snap_fields!(impl[const N: usize] Sounding<N> {
+    gravity,
+    geopotential_m,
+    compensation_m,
+    last_pressure_pa,
+    last_virtual_temperature_k,
+    last_temperature,
+    recording,
+    profile,
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

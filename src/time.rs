@@ -6,8 +6,8 @@
 //! `f32` seconds ([`Duration::as_secs_f32`]). A `u64` of microseconds lasts 584 542
 //! years, so an [`Instant`] itself never wraps; a 32-bit counter does, and
 //! [`WrappingTicks`] counts its wraps. Feeding the raw counter without it is also safe:
-//! the pipeline sees the wrap as a clock fault, flags it and carries on (see
-//! [`crate::pipeline::Flags::CLOCK_FAULT`]).
+//! the use types see the wrap as a clock fault, flag it and carry on (see
+//! [`crate::uses::Flags::CLOCK_FAULT`]).
 //!
 //! ```
 //! use isohypse::time::{Duration, Instant, WrappingTicks};
@@ -198,6 +198,8 @@ impl<const HZ: u32> WrappingTicks<HZ> {
 pub(crate) fn at(s: f64) -> Instant {
     Instant::from_micros((s * 1.0e6).round() as u64)
 }
+
+crate::snapshot::snap_fields!(Instant { micros });
 
 #[cfg(test)]
 mod tests {

@@ -258,3 +258,36 @@ mod tests {
         assert!((Temperature::from_kelvin(273.15).unwrap().celsius()).abs() < 1e-5);
     }
 }
+
+/// Snapshots hold the values; loading checks them as the constructors do.
+mod snap {
+    use super::{Height, Pressure, Temperature};
+    use crate::Error;
+    use crate::snapshot::{Reader, Snap, Writer};
+
+    macro_rules! snap_unit {
+        ($ty:ty, $get:ident, $make:path) => {
+            impl Snap for $ty {
+                const LEN: usize = 4;
+                fn save(&self, w: &mut Writer<'_>) {
+                    self.$get().save(w);
+                }
+                fn load(&mut self, r: &mut Reader<'_>) -> Result<(), Error> {
+                    let mut v = 0.0f32;
+                    v.load(r)?;
+                    *self = $make(v).map_err(|_| Error::SnapshotCorrupt)?;
+                    Ok(())
+                }
+            }
+        };
+    }
+    snap_unit!(Pressure, pa, Pressure::from_pa);
+    snap_unit!(Temperature, kelvin, Temperature::from_kelvin);
+    snap_unit!(Height, meters, Height::from_meters);
+}
+
+impl crate::snapshot::Blank for Temperature {
+    fn blank() -> Self {
+        Temperature::from_valid_kelvin(288.15)
+    }
+}

@@ -1,49 +1,66 @@
-//! Clock faults, one table for every use: each fault on a climbing drone, balloon and
-//! walker. A fault must cost at most the sample it happens on: that sample and every
-//! later one is taken, the fault is flagged with its cause, the estimate re-acquires
-//! near the truth, and the totals, the phase and the balloon's stored profile are kept.
+//! Clock faults, one table for every use type: each fault on a climbing `Drone`,
+//! `Balloon<64>` and `Walk` with their presets. A fault must cost at most the sample it
+//! happens on: that sample and every later one is taken, the fault is flagged with its
+//! cause, the estimate re-acquires near the truth, and the totals, the state and the
+//! balloon's stored profile are kept.
 //!
 //! The truth is a steady climb in the U.S. Standard Atmosphere 1976 (the library's own
 //! `atmosphere::US_1976`, itself checked against the standard's tables in
 //! tests/atmosphere.rs); the scenarios are our own.
 
 use isohypse::atmosphere::US_1976;
-use isohypse::pipeline::{Flags, Output, Pipeline, Sample, Settings};
 use isohypse::time::{Instant, WrappingTicks};
+use isohypse::uses::{
+    Balloon, BalloonSettings, Drone, DroneSettings, Flags, Output, Sample, Use, Walk, WalkSettings,
+};
 use isohypse::{Error, Height};
+use std::fmt::Debug;
 
-/// A use: its settings, sample period, climb rate and how close the estimate must be to
-/// the truth 5 s (drone) or 20 samples (balloon, walk) after a fault.
-struct Use {
+/// The use types of the table.
+#[derive(Clone, Copy)]
+enum Kind {
+    Drone,
+    Balloon,
+    Walk,
+}
+
+/// A use: its type, its preset's longest gap, sample period, climb rate and how close
+/// the estimate must be to the truth 5 s (drone) or 20 samples (balloon, walk) after a
+/// fault.
+struct Case {
     name: &'static str,
-    settings: Settings,
+    kind: Kind,
+    max_gap_s: f32,
     period_ms: u64,
     climb_mps: f64,
     settle_samples: u64,
     tolerance_m: f32,
 }
 
-fn uses() -> [Use; 3] {
+fn cases() -> [Case; 3] {
     [
-        Use {
+        Case {
             name: "drone",
-            settings: Settings::drone(),
+            kind: Kind::Drone,
+            max_gap_s: DroneSettings::DEFAULT.max_gap_s,
             period_ms: 20,
             climb_mps: 1.0,
             settle_samples: 250,
             tolerance_m: 0.5,
         },
-        Use {
+        Case {
             name: "balloon",
-            settings: Settings::balloon(),
+            kind: Kind::Balloon,
+            max_gap_s: BalloonSettings::DEFAULT.max_gap_s,
             period_ms: 1_000,
             climb_mps: 5.0,
             settle_samples: 20,
             tolerance_m: 3.0,
         },
-        Use {
+        Case {
             name: "walk",
-            settings: Settings::hike(),
+            kind: Kind::Walk,
+            max_gap_s: WalkSettings::DEFAULT.max_gap_s,
             period_ms: 1_000,
             climb_mps: 0.3,
             settle_samples: 20,
@@ -72,7 +89,7 @@ const FAULT_AT: u64 = 600;
 const SAMPLES: u64 = 1_000;
 
 /// Device time of sample `k` for the fault, ms.
-fn device_ms(fault: Fault, u: &Use, k: u64) -> u64 {
+fn device_ms(fault: Fault, u: &Case, k: u64) -> u64 {
     let normal = 1_000_000 + k * u.period_ms;
     match fault {
         Fault::Restart if k >= FAULT_AT => (k - FAULT_AT) * u.period_ms,
@@ -83,7 +100,7 @@ fn device_ms(fault: Fault, u: &Use, k: u64) -> u64 {
         }
         Fault::FutureGlitch if k == FAULT_AT => normal + 4_294_967_296,
         Fault::Repeat if k == FAULT_AT => 1_000_000 + (k - 1) * u.period_ms,
-        Fault::LongSleep if k >= FAULT_AT => normal + (u.settings.max_gap_s as u64 + 60) * 1_000,
+        Fault::LongSleep if k >= FAULT_AT => normal + (u.max_gap_s as u64 + 60) * 1_000,
         _ => normal,
     }
 }
@@ -104,13 +121,12 @@ fn air_c(z: f64) -> f32 {
         .celsius()
 }
 
-struct Run {
-    outputs: Vec<Output>,
+struct Run<S> {
+    outputs: Vec<Output<S>>,
     truth: Vec<f64>,
 }
 
-fn run(u: &Use, fault: Fault) -> Run {
-    let mut p = Pipeline::<64>::new(u.settings).unwrap();
+fn run<U: Use>(p: &mut U, u: &Case, fault: Fault) -> Run<U::State> {
     let (mut outputs, mut truth) = (Vec::new(), Vec::new());
     for k in 0..SAMPLES {
         // on the ground for 200 samples, then climbing
@@ -125,8 +141,26 @@ fn run(u: &Use, fault: Fault) -> Run {
     Run { outputs, truth }
 }
 
+/// Runs the fault on a fresh use of the case's type with its preset, and checks it.
+fn run_and_check(u: &Case, fault: Fault) -> Result<String, String> {
+    match u.kind {
+        Kind::Drone => {
+            let mut drone = Drone::new(&DroneSettings::DEFAULT).unwrap();
+            check(u, fault, &run(&mut drone, u, fault))
+        }
+        Kind::Balloon => {
+            let mut balloon = Balloon::<64>::new(&BalloonSettings::DEFAULT).unwrap();
+            check(u, fault, &run(&mut balloon, u, fault))
+        }
+        Kind::Walk => {
+            let mut walk = Walk::new(&WalkSettings::DEFAULT).unwrap();
+            check(u, fault, &run(&mut walk, u, fault))
+        }
+    }
+}
+
 /// The checks every fault must pass for every use; `Err` names what failed.
-fn check(u: &Use, fault: Fault, r: &Run) -> Result<String, String> {
+fn check<S: PartialEq + Debug>(u: &Case, fault: Fault, r: &Run<S>) -> Result<String, String> {
     let at = FAULT_AT as usize;
     let before = &r.outputs[at - 1];
     let fault_out = &r.outputs[at];
@@ -155,15 +189,15 @@ fn check(u: &Use, fault: Fault, r: &Run) -> Result<String, String> {
     if faults > allowed {
         return Err(format!("{faults} later samples flagged clock_fault"));
     }
-    // 3. the totals and the phase are kept across the fault
+    // 3. the totals and the state are kept across the fault
     if fault_out.ascent_m + 0.01 < before.ascent_m {
         return Err(format!(
             "ascent fell from {} to {} m",
             before.ascent_m, fault_out.ascent_m
         ));
     }
-    if fault_out.phase != before.phase {
-        return Err(format!("phase {:?} -> {:?}", before.phase, fault_out.phase));
+    if fault_out.state != before.state {
+        return Err(format!("state {:?} -> {:?}", before.state, fault_out.state));
     }
     // 4. the estimate follows the truth once settled: its change since the last
     //    sample before the fault (the drone reports height above its take-off point)
@@ -194,10 +228,9 @@ fn every_clock_fault_costs_at_most_one_sample_for_every_use() {
     ];
     let mut failures = Vec::new();
     println!("| use | fault | result |\n| --- | --- | --- |");
-    for u in uses() {
+    for u in cases() {
         for fault in faults {
-            let r = run(&u, fault);
-            match check(&u, fault, &r) {
+            match run_and_check(&u, fault) {
                 Ok(line) => println!("| {} | {fault:?} | ok: {line} |", u.name),
                 Err(e) => {
                     println!("| {} | {fault:?} | FAILED: {e} |", u.name);
@@ -211,8 +244,8 @@ fn every_clock_fault_costs_at_most_one_sample_for_every_use() {
 
 #[test]
 fn balloon_profile_kept_across_a_restart() {
-    let u = &uses()[1];
-    let mut p = Pipeline::<64>::new(u.settings).unwrap();
+    let u = &cases()[1];
+    let mut p = Balloon::<64>::new(&BalloonSettings::DEFAULT).unwrap();
     let mut levels_before = 0;
     for k in 0..SAMPLES {
         let z = 300.0 + 5.0 * k as f64;
@@ -234,7 +267,7 @@ fn balloon_profile_kept_across_a_restart() {
 
 #[test]
 fn a_glitched_accelerometer_stamp_is_refused_and_changes_nothing() {
-    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
     for k in 0..100u64 {
         assert!(
             p.process(&Sample::pressure(Instant::from_millis(k * 20), 97_000.0))
@@ -251,7 +284,7 @@ fn a_glitched_accelerometer_stamp_is_refused_and_changes_nothing() {
 
 #[test]
 fn an_accelerometer_stamp_ahead_of_the_next_barometer_sample_restarts_the_filter() {
-    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
     for k in 0..100u64 {
         p.process(&Sample::pressure(Instant::from_millis(k * 20), 97_000.0));
     }
@@ -269,7 +302,7 @@ fn an_accelerometer_stamp_ahead_of_the_next_barometer_sample_restarts_the_filter
 
 #[test]
 fn a_known_restart_resumes_without_a_fault() {
-    let mut p = Pipeline::<2>::new(Settings::hike()).unwrap();
+    let mut p = Walk::new(&WalkSettings::DEFAULT).unwrap();
     for k in 0..100u64 {
         p.process(&Sample::pressure(Instant::from_secs(5_000 + k), 90_000.0));
     }
@@ -286,7 +319,7 @@ fn a_known_restart_resumes_without_a_fault() {
 #[test]
 fn a_wrapping_counter_through_wrapping_ticks_never_faults() {
     let mut clock = WrappingTicks::<1_000>::new();
-    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
     let mut raw = u32::MAX - 5_000;
     for _ in 0..1_000 {
         let out = p.process(&Sample::pressure(clock.instant(raw), 97_000.0));

@@ -12,7 +12,7 @@ use common::{at, secs};
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicBool, Ordering};
 
-use isohypse::pipeline::{Output, Pipeline, Sample, Settings};
+use isohypse::uses::{Drone, DroneSettings, DroneState, Output, Sample};
 use isohypse::{Height, Pressure};
 
 /// Bytes written since the last `take()`, and whether the logger is acquired.
@@ -62,7 +62,7 @@ fn is_format<T: defmt::Format + ?Sized>() {}
 #[test]
 fn every_public_type_implements_format() {
     use isohypse::{atmosphere, datum, error, filter, flight, geopotential, humidity, model};
-    use isohypse::{pipeline, sounding, track, units};
+    use isohypse::{sounding, time, track, units, uses};
     // units, error
     is_format::<units::Pressure>();
     is_format::<units::Temperature>();
@@ -118,37 +118,42 @@ fn every_public_type_implements_format() {
     is_format::<track::TendencyConfig>();
     is_format::<track::AscentTotals>();
     is_format::<track::Trend>();
-    // pipeline
-    is_format::<pipeline::Sample>();
-    is_format::<pipeline::Flags>();
-    is_format::<pipeline::Output>();
-    is_format::<pipeline::HeightModel>();
-    is_format::<pipeline::Estimator>();
-    is_format::<pipeline::Tracking>();
-    is_format::<pipeline::Settings>();
-    is_format::<pipeline::Pipeline<2>>();
-    is_format::<pipeline::Pipeline<2, &'static pipeline::Settings>>();
-    // the lean layouts (omitted parts print nothing, and have no value to print)
-    struct Walk;
-    impl pipeline::FixedSettings for Walk {
-        const SETTINGS: pipeline::Settings = pipeline::Settings::hike();
-        type Parts = pipeline::parts::Hike;
-    }
-    is_format::<pipeline::Pipeline<2, pipeline::Fixed<Walk>>>();
-    is_format::<pipeline::parts::Absent>();
+    // time
+    is_format::<time::Instant>();
+    is_format::<time::Duration>();
+    is_format::<time::WrappingTicks<1_000>>();
+    // the use types
+    is_format::<uses::Sample>();
+    is_format::<uses::Flags>();
+    is_format::<uses::Output<uses::DroneState>>();
+    is_format::<uses::Output<uses::BalloonState>>();
+    is_format::<uses::Output<uses::WalkState>>();
+    is_format::<uses::Output<uses::State>>();
+    is_format::<uses::Change<uses::DroneState>>();
+    is_format::<uses::DroneState>();
+    is_format::<uses::BalloonState>();
+    is_format::<uses::WalkState>();
+    is_format::<uses::State>();
+    is_format::<uses::DroneSettings>();
+    is_format::<uses::BalloonSettings>();
+    is_format::<uses::BalloonModel>();
+    is_format::<uses::WalkSettings>();
+    is_format::<uses::Drone<'static>>();
+    is_format::<uses::Balloon<'static, 8>>();
+    is_format::<uses::Walk<'static>>();
     #[cfg(feature = "embedded-hal")]
     {
         use isohypse::sensor;
         is_format::<sensor::Reading>();
         is_format::<sensor::DriverError<u8>>();
         is_format::<sensor::RunSummary>();
-        is_format::<sensor::SensorDriver<(), (), 2>>();
+        is_format::<sensor::SensorDriver<(), (), uses::Drone<'static>>>();
         is_format::<sensor::ExampleBarometer<()>>();
         is_format::<sensor::ExampleBarometerError<u8>>();
     }
     #[cfg(feature = "embedded-hal-async")]
     {
-        is_format::<isohypse::sensor_async::AsyncSensorDriver<(), (), 2>>();
+        is_format::<isohypse::sensor_async::AsyncSensorDriver<(), (), uses::Walk<'static>>>();
     }
 }
 
@@ -178,18 +183,18 @@ fn formatting_writes_the_values_through_the_logger() {
 }
 
 #[test]
-fn pipeline_output_and_state_format() {
+fn use_output_and_state_format() {
     let _serial = SERIAL.lock().unwrap_or_else(|e| e.into_inner());
     take();
-    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
-    let out: Output = p.process(&Sample::pressure(at(0.0), 97_700.0));
+    let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
+    let out: Output<DroneState> = p.process(&Sample::pressure(at(0.0), 97_700.0));
     defmt::println!("{}", out);
     let frame = take();
     assert!(out.altitude_sigma_m > 0.0);
     assert!(contains(&frame, &out.altitude_sigma_m.to_le_bytes()));
     assert!(contains(&frame, &out.flags.0.to_le_bytes()));
 
-    // The whole pipeline state (settings, filters, trackers) formats too.
+    // The whole drone (settings, filters, trackers) formats too.
     defmt::println!("{}", p);
     let state = take();
     assert!(
@@ -211,12 +216,14 @@ fn sensor_types_format() {
     take();
     let r = Reading {
         pressure_pa: 95_432.5,
-        temperature_c: Some(-3.5),
+        sensor_temperature_c: Some(31.25),
+        air_temperature_c: Some(-3.5),
         humidity_pct: None,
     };
     defmt::println!("{}", r);
     let frame = take();
     assert!(contains(&frame, &95_432.5_f32.to_le_bytes()));
+    assert!(contains(&frame, &31.25_f32.to_le_bytes()));
     assert!(contains(&frame, &(-3.5_f32).to_le_bytes()));
     defmt::println!("{}", DriverError::Sensor(0xA5_u8));
     assert!(contains(&take(), &[0xA5]));

@@ -10,9 +10,7 @@
 //! transform (Box & Muller 1958): every run sees the same numbers.
 
 use isohypse::atmosphere::US_1976;
-use isohypse::flight::Phase;
-use isohypse::pipeline::{Pipeline, Sample, Settings};
-use isohypse::track::HikeConfig;
+use isohypse::uses::{Balloon, BalloonSettings, BalloonState, Sample, Walk, WalkSettings};
 use isohypse::{Height, Pressure};
 mod common;
 use common::p_at;
@@ -44,7 +42,7 @@ impl Noise {
 /// pressure noise (a typical MEMS barometer in its low-noise mode; common practice).
 ///
 /// Bounds, with their reasons:
-/// * ascent and descent each <= the hysteresis band (3 m, `HikeConfig::default`): the
+/// * ascent and descent each <= the hysteresis band (3 m, the walk preset's tracker): the
 ///   totals count a move only once it exceeds the band, and at rest there is no move.
 ///   The smoothed height noise is about 0.06 m (1-sigma: 1.5 Pa x 0.085 m/Pa through the
 ///   hike smoother's 2 s time constant at 1 Hz, gain k = dt / (tau + dt) = 1/3, which
@@ -55,16 +53,16 @@ impl Noise {
 #[test]
 fn week_at_rest_hike_totals_do_not_drift() {
     let seconds: u64 = 7 * 86_400;
-    let band = HikeConfig::default().hysteresis_band_m;
-    let exit_band = HikeConfig::default().rest.exit_band_m;
-    let mut pipe = Pipeline::<2>::new(Settings::hike()).unwrap();
+    let band = WalkSettings::DEFAULT.tracker.hysteresis_band_m;
+    let exit_band = WalkSettings::DEFAULT.tracker.rest.exit_band_m;
+    let mut walk = Walk::new(&WalkSettings::DEFAULT).unwrap();
     let mut noise = Noise(0x15_0A_11_CE);
     let p_true = p_at(300.0) as f64;
     let (mut worst, mut sum_sq, mut n) = (0.0f32, 0.0f64, 0u64);
     let mut last = None;
     for s in 0..seconds {
         let p = (p_true + 1.5 * noise.gaussian()) as f32;
-        let out = pipe.process(&Sample::pressure(at(s as f64), p));
+        let out = walk.process(&Sample::pressure(at(s as f64), p));
         assert!(out.accepted(), "{s}: {out:?}");
         assert!(
             out.altitude_m.is_finite() && out.vertical_speed_mps.is_finite(),
@@ -79,13 +77,13 @@ fn week_at_rest_hike_totals_do_not_drift() {
     let last = last.unwrap();
     println!(
         "hike at rest, {} days at 1 Hz ({} samples): ascent {} m, descent {} m, \
-         height error max {worst:.3} m, rms {:.3} m, phase {:?}",
+         height error max {worst:.3} m, rms {:.3} m, state {}",
         seconds / 86_400,
         n,
         last.ascent_m,
         last.descent_m,
         (sum_sq / n as f64).sqrt(),
-        last.phase
+        last.state.name()
     );
     assert!(
         last.ascent_m <= band,
@@ -109,11 +107,11 @@ fn week_at_rest_hike_totals_do_not_drift() {
 #[test]
 fn week_at_rest_hike_with_weather_drift() {
     let seconds: u64 = 7 * 86_400;
-    let band = HikeConfig::default().hysteresis_band_m;
-    let mut pipe = Pipeline::<2>::new(Settings::hike()).unwrap();
+    let band = WalkSettings::DEFAULT.tracker.hysteresis_band_m;
+    let mut walk = Walk::new(&WalkSettings::DEFAULT).unwrap();
     let mut noise = Noise(0xD81F7);
     let p_mean = p_at(300.0) as f64;
-    let exit_band = HikeConfig::default().rest.exit_band_m;
+    let exit_band = WalkSettings::DEFAULT.tracker.rest.exit_band_m;
     let mut last = None;
     let mut worst_speed = 0.0f32;
     let (mut first, mut worst_move) = (None, 0.0f32);
@@ -122,7 +120,7 @@ fn week_at_rest_hike_with_weather_drift() {
         // triangle wave: -150 Pa .. +150 Pa over a day
         let weather = 150.0 * (1.0 - 4.0 * (day_phase - 0.5).abs()).clamp(-1.0, 1.0);
         let p = (p_mean + weather + 1.5 * noise.gaussian()) as f32;
-        let out = pipe.process(&Sample::pressure(at(s as f64), p));
+        let out = walk.process(&Sample::pressure(at(s as f64), p));
         assert!(out.accepted() && out.altitude_m.is_finite(), "{s}: {out:?}");
         worst_speed = worst_speed.max(out.vertical_speed_mps.abs());
         let h0 = *first.get_or_insert(out.altitude_m);
@@ -153,6 +151,12 @@ const T_TOP: f64 = T_LAUNCH + 6_000.0;
 const T_FLOAT_END: f64 = T_TOP + 1_200.0;
 const T_LANDING: f64 = T_FLOAT_END + 3_000.0;
 
+/// The balloon preset, launched at 300 m.
+const LAUNCH_AT_300_M: BalloonSettings = BalloonSettings {
+    launch_altitude_m: Some(300.0),
+    ..BalloonSettings::DEFAULT
+};
+
 /// Three hours of balloon flight through the balloon preset, standard atmosphere
 /// (temperature sensor reads the U.S. 1976 temperature at the true height, dry air),
 /// launch at 300 m (timeline above); 2 Pa (1-sigma) white pressure noise.
@@ -171,9 +175,7 @@ const T_LANDING: f64 = T_FLOAT_END + 3_000.0;
 fn three_hour_balloon_flight_error_does_not_grow() {
     let rate_hz: f64 = 10.0;
     let duration_s = 3.0 * 3_600.0;
-    let mut settings = Settings::balloon();
-    settings.start_altitude_m = Some(300.0);
-    let mut pipe = Pipeline::<256>::new(settings).unwrap();
+    let mut balloon = Balloon::<256>::new(&LAUNCH_AT_300_M).unwrap();
     let mut noise = Noise(0xBA11_0014);
     let truth = |t: f64| -> f64 {
         if t < T_LAUNCH {
@@ -190,7 +192,7 @@ fn three_hour_balloon_flight_error_does_not_grow() {
     let mut worst = [0.0f64; 4]; // ascent, float, descent, landed: worst |error| / bound
     let mut worst_m = [0.0f64; 4];
     let mut worst_at = [(0.0f64, 0.0f64); 4]; // (time, true height) of the worst ratio
-    let mut phases_seen = Vec::new();
+    let mut states_seen = Vec::new();
     for i in 0..samples {
         let t = i as f64 / rate_hz;
         let z = truth(t);
@@ -205,7 +207,7 @@ fn three_hour_balloon_flight_error_does_not_grow() {
             humidity_pct: Some(0.0),
             ..Sample::default()
         };
-        let out = pipe.process(&sample);
+        let out = balloon.process(&sample);
         assert!(out.accepted(), "t {t}: {out:?}");
         assert!(
             out.altitude_m.is_finite()
@@ -213,8 +215,8 @@ fn three_hour_balloon_flight_error_does_not_grow() {
                 && out.altitude_sigma_m.is_finite(),
             "t {t}: {out:?}"
         );
-        if phases_seen.last() != Some(&out.phase) {
-            phases_seen.push(out.phase);
+        if states_seen.last() != Some(&out.state) {
+            states_seen.push(out.state);
         }
         let err = (out.altitude_m as f64 - z).abs();
         let (k, bound) = if t < T_TOP {
@@ -255,7 +257,8 @@ fn three_hour_balloon_flight_error_does_not_grow() {
             names[k], worst_m[k], worst[k], worst_at[k].0, worst_at[k].1
         );
     }
-    println!("balloon: phases {phases_seen:?}");
+    let names_seen: Vec<_> = states_seen.iter().map(|s| s.name()).collect();
+    println!("balloon: states {names_seen:?}");
     for k in 1..4 {
         assert!(
             worst[k] <= 1.0,
@@ -264,21 +267,21 @@ fn three_hour_balloon_flight_error_does_not_grow() {
             worst_m[k]
         );
     }
-    assert!(phases_seen.contains(&Phase::Ascent) && phases_seen.contains(&Phase::Descent));
+    assert!(
+        states_seen.contains(&BalloonState::Ascent) && states_seen.contains(&BalloonState::Descent)
+    );
 }
 
 /// Regression test for a finding, fixed (the ground reference now takes samples at rest
 /// only): in the first kilometre or so of the ascent the balloon
 /// preset read 0.7..1.3 m low (worst 1.34 m at 835 m and 1.13 m at 1044 m, 10 Hz, 2 Pa
 /// noise), above the 0.1 % / 1 m bound stated (before measuring) for the ascent. The
-/// ground reference kept averaging while the phase was still `Ground`, i.e. also over the
-/// first seconds of the climb until the phase tracker confirmed the ascent (1 m/s held for
-/// 10 s), which raised the ground mean and lowered every later height by about a metre.
+/// ground reference kept averaging while the state was still `BalloonState::Ground`, i.e.
+/// also over the first seconds of the climb until the state machine confirmed the ascent
+/// (1 m/s held for 10 s), which raised the ground mean and lowered every later height by about a metre.
 #[test]
 fn balloon_ascent_within_goal() {
-    let mut settings = Settings::balloon();
-    settings.start_altitude_m = Some(300.0);
-    let mut pipe = Pipeline::<256>::new(settings).unwrap();
+    let mut balloon = Balloon::<256>::new(&LAUNCH_AT_300_M).unwrap();
     let mut noise = Noise(0xBA11_0014);
     let mut worst = (0.0f64, 0.0f64, 0.0f64);
     for i in 0..(T_TOP * 10.0) as u64 {
@@ -292,7 +295,7 @@ fn balloon_ascent_within_goal() {
             .at_geometric(Height::from_meters(z as f32).unwrap())
             .unwrap();
         let p = state.pressure.pa() as f64 + 2.0 * noise.gaussian();
-        let out = pipe.process(&Sample {
+        let out = balloon.process(&Sample {
             time: at(t),
             pressure_pa: p as f32,
             temperature_c: Some(state.temperature.celsius()),

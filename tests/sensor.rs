@@ -1,5 +1,6 @@
 //! The `embedded-hal` sensor adapter with a mock I2C bus: good reads, bus errors and
-//! recovery, device faults, pacing. The I2C device is the made-up
+//! recovery, device faults, pacing, and the die temperature kept out of the height model.
+//! The I2C device is the made-up
 //! `isohypse::sensor::ExampleBarometer` (invented register map); all values are invented
 //! demo data. Run with `--features embedded-hal` (or `--all-features`).
 #![cfg(feature = "embedded-hal")]
@@ -10,9 +11,11 @@ use common::{at, secs};
 use embedded_hal::i2c::ErrorKind;
 use embedded_hal_mock::eh1::delay::{CheckedDelay, NoopDelay, Transaction as DelayTransaction};
 use embedded_hal_mock::eh1::i2c::{Mock as I2cMock, Transaction};
-use isohypse::pipeline::{Flags, Pipeline, Sample, Settings};
 use isohypse::sensor::{
     BarometricSensor, DriverError, ExampleBarometer, ExampleBarometerError, Reading, SensorDriver,
+};
+use isohypse::uses::{
+    Balloon, BalloonSettings, Drone, DroneSettings, Flags, Sample, Walk, WalkSettings,
 };
 
 type Device<'a> = ExampleBarometer<&'a mut I2cMock>;
@@ -43,12 +46,15 @@ fn decodes_the_invented_register_map() {
     assert_eq!(block(97_700.0, 21.5, Some(45.0)), bytes.to_vec());
     let r = Device::decode(bytes).unwrap();
     assert_eq!(r.pressure_pa, 97_700.0);
-    assert_eq!(r.temperature_c, Some(21.5));
+    // the device's temperature is its die's, not the air's
+    assert_eq!(r.sensor_temperature_c, Some(21.5));
+    assert_eq!(r.air_temperature_c, None);
     assert_eq!(r.humidity_pct, Some(45.0));
     // Below freezing: -12.34 degC = -1234 = 0xFB2E (two's complement); no humidity.
     let r = Device::decode([0x01, 0x17, 0xDA, 0x41, 0xFB, 0x2E, 0, 0]).unwrap();
     assert_eq!(r.pressure_pa, 97_700.0 + 1.0 / 16.0); // one count more
-    assert_eq!(r.temperature_c, Some(-12.34));
+    assert_eq!(r.sensor_temperature_c, Some(-12.34));
+    assert_eq!(r.air_temperature_c, None);
     assert_eq!(r.humidity_pct, None);
 }
 
@@ -75,7 +81,7 @@ fn probe_checks_the_identity() {
 }
 
 #[test]
-fn good_reads_give_the_same_outputs_as_the_pipeline_fed_directly() {
+fn good_reads_give_the_same_outputs_as_the_use_fed_directly() {
     let readings = [
         (97_700.0, 21.5, Some(45.0)),
         (97_698.5, 21.5, Some(45.0)),
@@ -90,9 +96,9 @@ fn good_reads_give_the_same_outputs_as_the_pipeline_fed_directly() {
     let mut driver = SensorDriver::new(
         ExampleBarometer::new(&mut i2c, ADDRESS),
         NoopDelay::new(),
-        Pipeline::<2>::new(Settings::drone()).unwrap(),
+        Drone::new(&DroneSettings::DEFAULT).unwrap(),
     );
-    let mut reference = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut reference = Drone::new(&DroneSettings::DEFAULT).unwrap();
     let mut seen = Vec::new();
     // a clock that reads 7 ms, then 27 ms, 47 ms: the stamps come from it
     let mut ms = 7u64;
@@ -103,32 +109,33 @@ fn good_reads_give_the_same_outputs_as_the_pipeline_fed_directly() {
     let summary = driver.run_for(3, 20, &mut clock, |t, r| seen.push((t, r)));
     assert_eq!(summary.accepted, 3);
     assert_eq!((summary.rejected, summary.read_errors), (0, 0));
-    for (i, ((t, result), &(p, tc, h))) in seen.into_iter().zip(readings.iter()).enumerate() {
+    for (i, ((t, result), &(p, _die_c, h))) in seen.into_iter().zip(readings.iter()).enumerate() {
         assert_eq!(
             t.as_millis(),
             7 + 20 * i as u64,
             "each reading stamped by the clock"
         );
+        // the invented device's temperature is its die's: it does not reach the sample
         let expected = reference.process(&Sample {
             time: t,
             pressure_pa: p,
-            temperature_c: Some(tc),
+            temperature_c: None,
             humidity_pct: h,
             ..Sample::default()
         });
         assert_eq!(result.unwrap(), expected);
     }
-    assert_eq!(driver.pipeline(), &reference);
+    assert_eq!(driver.device(), &reference);
     assert_eq!(
         driver.last_time(),
         Some(isohypse::time::Instant::from_millis(47))
     );
-    drop(driver);
+    driver.release(); // the bus and the sensor back
     i2c.done();
 }
 
 #[test]
-fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
+fn bus_error_is_typed_leaves_the_use_unchanged_and_recovers() {
     let mut i2c = I2cMock::new(&[
         read(block(97_700.0, 21.5, None)),
         read(vec![0; 8]).with_error(ErrorKind::Other),
@@ -137,11 +144,11 @@ fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
     let mut driver = SensorDriver::new(
         ExampleBarometer::new(&mut i2c, ADDRESS),
         NoopDelay::new(),
-        Pipeline::<2>::new(Settings::drone()).unwrap(),
+        Drone::new(&DroneSettings::DEFAULT).unwrap(),
     );
     let first = driver.step(at(0.0)).unwrap();
     assert!(first.accepted());
-    let before = driver.pipeline().clone();
+    let before = driver.device().clone();
 
     let failed = driver.step(at(0.02));
     assert_eq!(
@@ -151,7 +158,7 @@ fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
         )))
     );
     assert_eq!(
-        driver.pipeline(),
+        driver.device(),
         &before,
         "a failed read must not touch the state"
     );
@@ -162,16 +169,14 @@ fn bus_error_is_typed_leaves_the_pipeline_unchanged_and_recovers() {
     );
 
     // Recovery: the next read goes on as if the failed one had never happened.
+    // (the device's 21.5 degC is its die's and does not reach the sample)
     let mut reference = before.clone();
-    let expected = reference.process(&Sample {
-        temperature_c: Some(21.5),
-        ..Sample::pressure(at(0.04), 97_699.0)
-    });
+    let expected = reference.process(&Sample::pressure(at(0.04), 97_699.0));
     let after = driver.step(at(0.04)).unwrap();
     assert!(after.accepted());
     assert_eq!(after, expected);
-    assert_eq!(driver.pipeline(), &reference);
-    drop(driver);
+    assert_eq!(driver.device(), &reference);
+    driver.release(); // the bus and the sensor back
     i2c.done();
 }
 
@@ -198,7 +203,7 @@ fn device_fault_and_stale_data_are_typed_errors() {
 
 #[test]
 fn non_physical_reading_is_a_flagged_rejected_sample_not_an_error() {
-    // The device says "ready" but reads 0 Pa: the pipeline rejects and flags it.
+    // The device says "ready" but reads 0 Pa: the walk rejects and flags it.
     let mut i2c = I2cMock::new(&[
         read(block(97_700.0, 20.0, None)),
         read(block(0.0, 20.0, None)),
@@ -206,7 +211,7 @@ fn non_physical_reading_is_a_flagged_rejected_sample_not_an_error() {
     let mut driver = SensorDriver::new(
         ExampleBarometer::new(&mut i2c, ADDRESS),
         NoopDelay::new(),
-        Pipeline::<2>::new(Settings::hike()).unwrap(),
+        Walk::new(&WalkSettings::DEFAULT).unwrap(),
     );
     let mut outs = Vec::new();
     let summary = driver.run_for(2, 1000, &mut second_ticks(), |_, r| outs.push(r.unwrap()));
@@ -215,8 +220,8 @@ fn non_physical_reading_is_a_flagged_rejected_sample_not_an_error() {
         (1, 1, 0)
     );
     assert!(outs[1].flags.contains(Flags::REJECTED_PRESSURE));
-    assert_eq!(driver.pipeline().last_output(), outs[0]);
-    drop(driver);
+    assert_eq!(driver.device().last_output(), outs[0]);
+    driver.release(); // the bus and the sensor back
     i2c.done();
 }
 
@@ -238,7 +243,7 @@ fn run_for_paces_with_the_delay_and_goes_on_after_errors() {
     let mut driver = SensorDriver::new(
         ExampleBarometer::new(&mut i2c, ADDRESS),
         &mut delay,
-        Pipeline::<2>::new(Settings::drone()).unwrap(),
+        Drone::new(&DroneSettings::DEFAULT).unwrap(),
     );
     let mut times = Vec::new();
     let mut ms = 0u64;
@@ -255,7 +260,7 @@ fn run_for_paces_with_the_delay_and_goes_on_after_errors() {
         vec![0, 50, 100, 150],
         "each reading stamped by the clock, ms"
     );
-    drop(driver);
+    driver.release(); // the bus and the sensor back
     delay.done();
     i2c.done();
 }
@@ -277,12 +282,72 @@ fn any_sensor_works_through_a_mutable_reference() {
     let mut driver = SensorDriver::new(
         &mut sensor,
         NoopDelay::new(),
-        Pipeline::<2>::new(Settings::hike()).unwrap(),
+        Walk::new(&WalkSettings::DEFAULT).unwrap(),
     );
     let summary = driver.run_for(5, 1000, &mut second_ticks(), |_, _| {});
     assert_eq!(summary.accepted, 5);
-    drop(driver);
+    driver.release(); // the bus and the sensor back
     assert_eq!(sensor.0, 5);
+}
+
+/// The barometer's own (die) temperature never reaches the height model: a balloon fed
+/// readings with a warm, constant die temperature (35 degC, a sensor in a sunlit box;
+/// invented) and no air temperature gives exactly the heights of one fed pressure alone.
+/// A third balloon, fed the same 35 degC as its air temperature, shows that the check
+/// would see a leak: its heights differ by far more than any rounding.
+#[test]
+fn the_die_temperature_never_reaches_the_height_model() {
+    /// Ground for 60 s at 300 m, then 5 m/s up (the U.S. 1976 pressure at each height).
+    fn pressure(k: u64) -> f32 {
+        common::p_at(300.0 + 5.0 * k.saturating_sub(60) as f32)
+    }
+    struct WarmBox(u64);
+    impl BarometricSensor for WarmBox {
+        type Error = ();
+        fn read(&mut self) -> Result<Reading, ()> {
+            let r = Reading {
+                pressure_pa: pressure(self.0),
+                sensor_temperature_c: Some(35.0),
+                air_temperature_c: None,
+                humidity_pct: None,
+            };
+            self.0 += 1;
+            Ok(r)
+        }
+    }
+    const N: u64 = 2_000;
+    let mut driver = SensorDriver::new(
+        WarmBox(0),
+        NoopDelay::new(),
+        Balloon::<64>::new(&BalloonSettings::DEFAULT).unwrap(),
+    );
+    let mut plain = Balloon::<64>::new(&BalloonSettings::DEFAULT).unwrap();
+    let mut leaked = Balloon::<64>::new(&BalloonSettings::DEFAULT).unwrap();
+    let (mut k, mut widest) = (0u64, 0.0f32);
+    let summary = driver.run_for(N as u32, 1000, &mut second_ticks(), |t, r| {
+        let out = r.unwrap();
+        let expected = plain.process(&Sample::pressure(t, pressure(k)));
+        assert_eq!(out, expected, "sample {k}");
+        assert_eq!(out.altitude_m.to_bits(), expected.altitude_m.to_bits());
+        let warm = leaked.process(&Sample {
+            temperature_c: Some(35.0),
+            ..Sample::pressure(t, pressure(k))
+        });
+        widest = widest.max((warm.altitude_m - out.altitude_m).abs());
+        k += 1;
+    });
+    assert_eq!(summary.accepted, N as u32);
+    assert_eq!(driver.device(), &plain);
+    let top = driver.device().last_output().altitude_m;
+    println!(
+        "die temperature: top {top:.1} m either way; 35 degC as air would move it {widest:.1} m"
+    );
+    // 9.7 km above the launch, a column at 35 degC (308 K) instead of the standard's
+    // (about 255 K on average) is some 21 % warmer: about 2 km higher (hypsometric
+    // equation, heights scale with the mean column temperature); 100 m is far below that
+    // and far above rounding
+    assert!(top > 9_000.0, "{top}");
+    assert!(widest > 100.0, "{widest}");
 }
 
 /// A clock for the tests: 0 s, 1 s, 2 s... at each reading.

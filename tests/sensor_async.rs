@@ -1,5 +1,5 @@
 //! The async sensor driver (feature `embedded-hal-async`): good reads go through the
-//! pipeline, a failed read is counted and leaves the pipeline as it was, reading recovers.
+//! use type, a failed read is counted and leaves it as it was, reading recovers.
 #![cfg(feature = "embedded-hal-async")]
 
 mod common;
@@ -9,9 +9,9 @@ use core::future::Future;
 use core::pin::pin;
 use core::task::{Context, Poll, Waker};
 
-use isohypse::pipeline::{Pipeline, Settings};
 use isohypse::sensor::{DriverError, Reading};
 use isohypse::sensor_async::{AsyncBarometricSensor, AsyncSensorDriver};
+use isohypse::uses::{Walk, WalkSettings};
 
 /// Runs a future that never waits on anything external to completion.
 fn block_on<F: Future>(f: F) -> F::Output {
@@ -51,7 +51,8 @@ impl embedded_hal_async::delay::DelayNs for CountingDelay {
 fn reading(p: f32) -> Result<Reading, &'static str> {
     Ok(Reading {
         pressure_pa: p,
-        temperature_c: Some(10.0),
+        sensor_temperature_c: None,
+        air_temperature_c: Some(10.0),
         humidity_pct: None,
     })
 }
@@ -64,20 +65,19 @@ fn good_reads_bus_error_and_recovery() {
         Err("bus"),
         reading(95_002.0),
     ];
-    let pipeline = Pipeline::<2>::new(Settings::hike()).unwrap();
-    let mut driver =
-        AsyncSensorDriver::new(Scripted { script, next: 0 }, CountingDelay(0), pipeline);
+    let walk = Walk::new(&WalkSettings::DEFAULT).unwrap();
+    let mut driver = AsyncSensorDriver::new(Scripted { script, next: 0 }, CountingDelay(0), walk);
     // two good reads
     for t in [0.0, 1.0] {
         let out = block_on(driver.step(at(t))).unwrap();
         assert!(out.accepted());
     }
-    // a failed read: typed error, counted, pipeline unchanged
-    let before = driver.pipeline().clone();
+    // a failed read: typed error, counted, walk unchanged
+    let before = driver.device().clone();
     let err = block_on(driver.step(at(2.0))).unwrap_err();
     assert!(matches!(err, DriverError::Sensor("bus")));
     assert_eq!(driver.read_errors(), 1);
-    assert_eq!(driver.pipeline(), &before);
+    assert_eq!(driver.device(), &before);
     // recovery
     let out = block_on(driver.step(at(3.0))).unwrap();
     assert!(out.accepted());
@@ -86,9 +86,8 @@ fn good_reads_bus_error_and_recovery() {
 #[test]
 fn run_for_paces_with_the_delay() {
     let script = vec![reading(95_000.0), Err("bus"), reading(94_999.0)];
-    let pipeline = Pipeline::<2>::new(Settings::hike()).unwrap();
-    let mut driver =
-        AsyncSensorDriver::new(Scripted { script, next: 0 }, CountingDelay(0), pipeline);
+    let walk = Walk::new(&WalkSettings::DEFAULT).unwrap();
+    let mut driver = AsyncSensorDriver::new(Scripted { script, next: 0 }, CountingDelay(0), walk);
     let mut times = Vec::new();
     let mut ms = 0u64;
     let mut clock = || {

@@ -92,6 +92,14 @@ impl GroundReference {
         Ok(Self::empty(config))
     }
 
+    /// An empty reference for a snapshot to load into.
+    pub(crate) const fn blank() -> Self {
+        Self::empty(GroundReferenceConfig {
+            min_samples: 2,
+            min_duration_s: 0.0,
+        })
+    }
+
     /// A reference with no sample (configuration already checked).
     const fn empty(config: GroundReferenceConfig) -> Self {
         Self {
@@ -223,6 +231,21 @@ impl GroundReference {
         *self = Self::empty(self.config);
     }
 }
+
+crate::snapshot::snap_fields!(GroundReferenceConfig {
+    min_samples,
+    min_duration_s
+});
+crate::snapshot::snap_fields!(GroundReference {
+    config,
+    last_time,
+    span_s,
+    anchor_m,
+    sum,
+    comp,
+    count,
+    armed
+});
 
 #[cfg(test)]
 mod tests {

@@ -1218,6 +1218,36 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     }
 }
 
+crate::snapshot::snap_fields!(Covariance {
+    hh,
+    hv,
+    hb,
+    vv,
+    vb,
+    bb
+});
+crate::snapshot::snap_fields!(Core { h, v, b, p });
+crate::snapshot::snap_fields!(Reuse {
+    prior_hh,
+    prior_hv,
+    prior_hb,
+    dt,
+    r
+});
+// the settings are not state: a snapshot is restored with the same settings
+crate::snapshot::snap_fields!(impl[C] VerticalKalman<C> {
+    core,
+    time,
+    accel_mps2,
+    accel_age_s,
+    accepted_age_s,
+    bits,
+    consecutive_rejections,
+    rejected,
+    reacquisitions,
+    reuse,
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

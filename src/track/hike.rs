@@ -557,6 +557,19 @@ fn one_pole_gain(dt: f32, tau: f32) -> f32 {
     }
 }
 
+crate::snapshot::snap_fields!(HikeState {
+    smoothed_m,
+    weather_offset_m,
+    offset_carry_m,
+    hold_m,
+    tracked_m,
+    fix_offset_m,
+    fix_target_m,
+    totals,
+    rest,
+    tendency,
+});
+
 #[cfg(test)]
 mod tests {
     #[allow(unused_imports)]

@@ -342,6 +342,23 @@ impl RestDetector {
     }
 }
 
+crate::snapshot::snap_enum!(RestState {
+    RestState::Moving,
+    RestState::Resting,
+    RestState::DeclaredRest
+});
+crate::snapshot::snap_fields!(RestDetector {
+    state,
+    window_elapsed_s,
+    window_origin_m,
+    window_low_m,
+    window_high_m,
+    sums,
+    level_m,
+    rate_mps,
+    settled_rate_mps,
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

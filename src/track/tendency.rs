@@ -361,6 +361,13 @@ impl PressureTendency {
     }
 }
 
+crate::snapshot::snap_fields!(TendencyRing {
+    ring,
+    newest,
+    filled,
+    due_in
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

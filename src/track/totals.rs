@@ -215,6 +215,22 @@ impl AscentTotals {
     }
 }
 
+crate::snapshot::snap_enum!(Trend {
+    Trend::Undecided,
+    Trend::Rising,
+    Trend::Falling
+});
+crate::snapshot::snap_fields!(AscentTotals {
+    band_cm,
+    anchor_cm,
+    low_cm,
+    high_cm,
+    trend,
+    started,
+    ascent_cm,
+    descent_cm
+});
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -491,6 +491,104 @@ impl<'a, const N: usize> Balloon<'a, N> {
     }
 }
 
+/// The model's state in a snapshot: a tag, then a sounding's or a reference's bytes
+/// (the sounding's size: the larger).
+impl<const N: usize> crate::snapshot::Snap for ModelState<N> {
+    const LEN: usize = 1 + <Sounding<N> as crate::snapshot::Snap>::LEN;
+    fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
+        use crate::snapshot::Snap;
+        let written = match self {
+            ModelState::Empty => {
+                0u8.save(w);
+                0
+            }
+            ModelState::Sounding(s) => {
+                1u8.save(w);
+                s.save(w);
+                <Sounding<N> as Snap>::LEN
+            }
+            ModelState::Column(r) => {
+                2u8.save(w);
+                r.save(w);
+                <Reference as Snap>::LEN
+            }
+        };
+        for _ in written..<Sounding<N> as Snap>::LEN {
+            w.bytes(&[0]);
+        }
+    }
+    fn load(&mut self, r: &mut crate::snapshot::Reader<'_>) -> Result<(), Error> {
+        use crate::snapshot::Snap;
+        let mut tag = 0u8;
+        tag.load(r)?;
+        let read = match tag {
+            0 => {
+                *self = ModelState::Empty;
+                0
+            }
+            1 => {
+                let mut s = Sounding::new(
+                    Height::ZERO,
+                    Gravity::Standard,
+                    Pressure::from_pa(101_325.0)?,
+                    Temperature::from_kelvin(288.15)?,
+                    None,
+                )?;
+                s.load(r)?;
+                *self = ModelState::Sounding(s);
+                <Sounding<N> as Snap>::LEN
+            }
+            2 => {
+                let mut reference = Reference::new(Pressure::from_pa(101_325.0)?, Height::ZERO);
+                reference.load(r)?;
+                *self = ModelState::Column(reference);
+                <Reference as Snap>::LEN
+            }
+            _ => return Err(Error::SnapshotCorrupt),
+        };
+        for _ in read..<Sounding<N> as Snap>::LEN {
+            r.bytes::<1>()?;
+        }
+        Ok(())
+    }
+}
+
+crate::snapshot::snap_fields!(impl['a, const N: usize] Balloon<'a, N> {
+    kalman,
+    ground,
+    offset,
+    track,
+    time,
+    model,
+    last_temperature,
+    last,
+});
+
+impl<'a, const N: usize> Balloon<'a, N> {
+    /// Bytes of this balloon's snapshot ([`Self::snapshot`]): a fixed part and 12 per
+    /// profile level.
+    pub const SNAPSHOT_LEN: usize =
+        crate::snapshot::FRAME_LEN + <Balloon<'static, N> as crate::snapshot::Snap>::LEN;
+
+    /// Writes the whole state, the stored profile included, into `out` (at least
+    /// [`Self::SNAPSHOT_LEN`] bytes; versioned and checksummed, see
+    /// [`crate::snapshot`]) and returns the bytes written. Errors:
+    /// [`Error::CapacityFull`] if `out` is too short.
+    pub fn snapshot(&self, out: &mut [u8]) -> Result<usize, Error> {
+        crate::snapshot::write(self, 2, N as u16, out)
+    }
+
+    /// A balloon with `settings` (the ones the snapshot was taken with) in the state of
+    /// `snapshot`. Errors: those of [`Self::new`], [`Error::SnapshotCorrupt`],
+    /// [`Error::SnapshotVersion`], [`Error::SnapshotMismatch`] (another use or another
+    /// capacity `N`).
+    pub fn restore(settings: &'a BalloonSettings, snapshot: &[u8]) -> Result<Self, Error> {
+        let mut balloon = Self::new(settings)?;
+        crate::snapshot::read(&mut balloon, 2, N as u16, snapshot)?;
+        Ok(balloon)
+    }
+}
+
 impl<const N: usize> Use for Balloon<'_, N> {
     type State = BalloonState;
     fn process(&mut self, sample: &Sample) -> Output<BalloonState> {

@@ -32,6 +32,7 @@ impl State {
 /// capacity.
 #[derive(Debug, Clone, PartialEq)]
 #[allow(clippy::large_enum_variant)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Device<'a, const N: usize> {
     /// A drone.
     Drone(Drone<'a>),

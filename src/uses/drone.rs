@@ -328,6 +328,41 @@ impl<'a> Drone<'a> {
     }
 }
 
+crate::snapshot::snap_fields!(impl['a] Drone<'a> {
+    kalman,
+    ground,
+    offset,
+    track,
+    time,
+    altimeter_setting,
+    last_pressure_pa,
+    last,
+});
+
+impl<'a> Drone<'a> {
+    /// Bytes of a drone's snapshot ([`Self::snapshot`]).
+    pub const SNAPSHOT_LEN: usize =
+        crate::snapshot::FRAME_LEN + <Drone<'static> as crate::snapshot::Snap>::LEN;
+
+    /// Writes the whole state into `out` (at least [`Self::SNAPSHOT_LEN`] bytes;
+    /// versioned and checksummed, see [`crate::snapshot`]) and returns the bytes
+    /// written. Keep it in retained RAM or flash; [`Self::restore`] continues from it.
+    /// Errors: [`Error::CapacityFull`] if `out` is too short.
+    pub fn snapshot(&self, out: &mut [u8]) -> Result<usize, Error> {
+        crate::snapshot::write(self, 1, 0, out)
+    }
+
+    /// A drone with `settings` (the ones the snapshot was taken with) in the state of
+    /// `snapshot`: its outputs continue bit for bit as the snapshotted drone's would.
+    /// Errors: those of [`Self::new`], [`Error::SnapshotCorrupt`],
+    /// [`Error::SnapshotVersion`], [`Error::SnapshotMismatch`].
+    pub fn restore(settings: &'a DroneSettings, snapshot: &[u8]) -> Result<Self, Error> {
+        let mut drone = Self::new(settings)?;
+        crate::snapshot::read(&mut drone, 1, 0, snapshot)?;
+        Ok(drone)
+    }
+}
+
 impl Use for Drone<'_> {
     type State = DroneState;
     fn process(&mut self, sample: &Sample) -> Output<DroneState> {

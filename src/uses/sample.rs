@@ -126,3 +126,13 @@ impl Flags {
             .map(|(_, n)| n)
     }
 }
+
+impl crate::snapshot::Snap for Flags {
+    const LEN: usize = 4;
+    fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
+        crate::snapshot::Snap::save(&self.0, w);
+    }
+    fn load(&mut self, r: &mut crate::snapshot::Reader<'_>) -> Result<(), crate::Error> {
+        crate::snapshot::Snap::load(&mut self.0, r)
+    }
+}

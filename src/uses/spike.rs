@@ -125,3 +125,12 @@ impl SpikeGate {
         self.len = if self.len >= 5 { 5 } else { self.len + 1 };
     }
 }
+
+crate::snapshot::snap_fields!(SpikeGate {
+    recent,
+    next,
+    len,
+    consecutive,
+    outliers,
+    age_s
+});

@@ -578,3 +578,31 @@ pub(crate) fn altimeter_change_m(
         Err(_) => Ok(0.0),
     }
 }
+
+crate::snapshot::snap_fields!(TimeBase { last });
+crate::snapshot::snap_fields!(Offset { offset_m, target_m });
+crate::snapshot::snap_fields!(Ground {
+    reference,
+    start_m,
+    frozen
+});
+crate::snapshot::snap_fields!(Carried {
+    altitude_m,
+    raw_altitude_m,
+    vertical_speed_mps,
+    altitude_sigma_m,
+    flags,
+    changed,
+});
+crate::snapshot::snap_fields!(impl['a] FlightTrack<'a> { phases, totals });
+
+impl crate::snapshot::Blank for Ground {
+    /// An empty reference (loading fills it).
+    fn blank() -> Self {
+        Ground {
+            reference: GroundReference::blank(),
+            start_m: 0.0,
+            frozen: false,
+        }
+    }
+}

@@ -319,6 +319,39 @@ impl<'a> Walk<'a> {
     }
 }
 
+crate::snapshot::snap_fields!(impl['a] Walk<'a> {
+    hike,
+    gate,
+    phases,
+    offset,
+    time,
+    altimeter_setting,
+    last_pressure_pa,
+    last,
+});
+
+impl<'a> Walk<'a> {
+    /// Bytes of a walk's snapshot ([`Self::snapshot`]).
+    pub const SNAPSHOT_LEN: usize =
+        crate::snapshot::FRAME_LEN + <Walk<'static> as crate::snapshot::Snap>::LEN;
+
+    /// Writes the whole state into `out` (at least [`Self::SNAPSHOT_LEN`] bytes;
+    /// versioned and checksummed, see [`crate::snapshot`]) and returns the bytes
+    /// written. Errors: [`Error::CapacityFull`] if `out` is too short.
+    pub fn snapshot(&self, out: &mut [u8]) -> Result<usize, Error> {
+        crate::snapshot::write(self, 3, 0, out)
+    }
+
+    /// A walk with `settings` (the ones the snapshot was taken with) in the state of
+    /// `snapshot`. Errors: those of [`Self::new`], [`Error::SnapshotCorrupt`],
+    /// [`Error::SnapshotVersion`], [`Error::SnapshotMismatch`].
+    pub fn restore(settings: &'a WalkSettings, snapshot: &[u8]) -> Result<Self, Error> {
+        let mut walk = Self::new(settings)?;
+        crate::snapshot::read(&mut walk, 3, 0, snapshot)?;
+        Ok(walk)
+    }
+}
+
 /// The walk's words for a confirmed change (the rest detector's verdict is the
 /// output's state, not the change's).
 fn walk_words(p: crate::flight::Phase) -> WalkState {
