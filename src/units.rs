@@ -29,12 +29,22 @@ pub const M_PER_FT: f32 = 0.3048;
 /// International System of Units*, 9th ed., 2019).
 pub const ZERO_CELSIUS_K: f32 = 273.15;
 
-fn finite(x: f32) -> Result<f32, Error> {
+const fn finite(x: f32) -> Result<f32, Error> {
     if x.is_finite() {
         Ok(x)
     } else {
         Err(Error::NotFinite)
     }
+}
+
+/// `x` if finite, else return `Err(Error::NotFinite)` (the `?` of a `const fn`).
+macro_rules! try_finite {
+    ($x:expr) => {
+        match finite($x) {
+            Ok(v) => v,
+            Err(e) => return Err(e),
+        }
+    };
 }
 
 /// Absolute pressure, stored in pascals. Always finite and > 0.
@@ -43,8 +53,21 @@ fn finite(x: f32) -> Result<f32, Error> {
 pub struct Pressure(f32);
 
 impl Pressure {
-    /// From pascals. Errors: [`Error::NotFinite`], [`Error::PressureNotPositive`].
-    pub fn from_pa(pa: f32) -> Result<Self, Error> {
+    /// Standard sea-level pressure, 101 325 Pa (U.S. Standard Atmosphere 1976).
+    pub const STANDARD_SEA_LEVEL: Pressure = Pressure(101_325.0);
+    /// From pascals (a `const fn`: a setting can sit in a `const`).
+    ///
+    /// ```
+    /// use isohypse::Pressure;
+    /// const QNH: Pressure = match Pressure::from_hpa(1_021.0) {
+    ///     Ok(p) => p,
+    ///     Err(_) => Pressure::STANDARD_SEA_LEVEL,
+    /// };
+    /// assert_eq!(QNH.pa(), 102_100.0);
+    /// ```
+    ///
+    /// Errors: [`Error::NotFinite`], [`Error::PressureNotPositive`].
+    pub const fn from_pa(pa: f32) -> Result<Self, Error> {
         // Two comparisons on the accepted path (NaN fails both); the error is
         // classified only when the value is refused.
         if pa > 0.0 && pa <= f32::MAX {
@@ -56,12 +79,12 @@ impl Pressure {
         }
     }
     /// From hectopascals (millibars).
-    pub fn from_hpa(hpa: f32) -> Result<Self, Error> {
-        Self::from_pa(finite(hpa)? * PA_PER_HPA)
+    pub const fn from_hpa(hpa: f32) -> Result<Self, Error> {
+        Self::from_pa(try_finite!(hpa) * PA_PER_HPA)
     }
     /// From inches of mercury (conventional, 3386.389 Pa/inHg; NIST SP 811 appendix B.8).
-    pub fn from_inhg(inhg: f32) -> Result<Self, Error> {
-        Self::from_pa(finite(inhg)? * PA_PER_INHG)
+    pub const fn from_inhg(inhg: f32) -> Result<Self, Error> {
+        Self::from_pa(try_finite!(inhg) * PA_PER_INHG)
     }
     /// Pascals.
     pub const fn pa(self) -> f32 {
@@ -99,8 +122,8 @@ impl Temperature {
     /// From kelvin. Errors: [`Error::NotFinite`], [`Error::TemperatureNotPositive`]
     /// (at or below 0 K), [`Error::TemperatureOutOfRange`] (outside
     /// [`Self::AIR_RANGE_K`]).
-    pub fn from_kelvin(k: f32) -> Result<Self, Error> {
-        let k = finite(k)?;
+    pub const fn from_kelvin(k: f32) -> Result<Self, Error> {
+        let k = try_finite!(k);
         if k <= 0.0 {
             Err(Error::TemperatureNotPositive)
         } else if k < Self::AIR_RANGE_K.0 || k > Self::AIR_RANGE_K.1 {
@@ -110,8 +133,8 @@ impl Temperature {
         }
     }
     /// From degrees Celsius: `T = t + 273.15` (SI definition, see [`ZERO_CELSIUS_K`]).
-    pub fn from_celsius(c: f32) -> Result<Self, Error> {
-        Self::from_kelvin(finite(c)? + ZERO_CELSIUS_K)
+    pub const fn from_celsius(c: f32) -> Result<Self, Error> {
+        Self::from_kelvin(try_finite!(c) + ZERO_CELSIUS_K)
     }
     /// Kelvin.
     pub const fn kelvin(self) -> f32 {
@@ -133,12 +156,12 @@ impl Height {
     /// Zero height.
     pub const ZERO: Height = Height(0.0);
     /// From metres. Errors: [`Error::NotFinite`].
-    pub fn from_meters(m: f32) -> Result<Self, Error> {
-        Ok(Self(finite(m)?))
+    pub const fn from_meters(m: f32) -> Result<Self, Error> {
+        Ok(Self(try_finite!(m)))
     }
     /// From international feet: 1 ft = 0.3048 m exactly (see [`M_PER_FT`]).
-    pub fn from_feet(ft: f32) -> Result<Self, Error> {
-        Self::from_meters(finite(ft)? * M_PER_FT)
+    pub const fn from_feet(ft: f32) -> Result<Self, Error> {
+        Self::from_meters(try_finite!(ft) * M_PER_FT)
     }
     /// Metres.
     pub const fn meters(self) -> f32 {
@@ -164,12 +187,12 @@ impl VerticalSpeed {
     /// Zero vertical speed.
     pub const ZERO: VerticalSpeed = VerticalSpeed(0.0);
     /// From metres per second. Errors: [`Error::NotFinite`].
-    pub fn from_mps(v: f32) -> Result<Self, Error> {
-        Ok(Self(finite(v)?))
+    pub const fn from_mps(v: f32) -> Result<Self, Error> {
+        Ok(Self(try_finite!(v)))
     }
     /// From feet per minute: `v = fpm * 0.3048 / 60` m/s (see [`M_PER_FT`]).
-    pub fn from_fpm(fpm: f32) -> Result<Self, Error> {
-        Self::from_mps(finite(fpm)? * M_PER_FT / 60.0)
+    pub const fn from_fpm(fpm: f32) -> Result<Self, Error> {
+        Self::from_mps(try_finite!(fpm) * M_PER_FT / 60.0)
     }
     /// Metres per second.
     pub const fn mps(self) -> f32 {
@@ -190,9 +213,9 @@ impl RelativeHumidity {
     /// Dry air.
     pub const DRY: RelativeHumidity = RelativeHumidity(0.0);
     /// From percent. Errors: [`Error::NotFinite`], [`Error::HumidityOutOfRange`].
-    pub fn from_percent(pct: f32) -> Result<Self, Error> {
-        let pct = finite(pct)?;
-        if (0.0..=100.0).contains(&pct) {
+    pub const fn from_percent(pct: f32) -> Result<Self, Error> {
+        let pct = try_finite!(pct);
+        if pct >= 0.0 && pct <= 100.0 {
             Ok(Self(pct))
         } else {
             Err(Error::HumidityOutOfRange)
