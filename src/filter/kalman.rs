@@ -662,6 +662,29 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         }
     }
 
+    /// An accelerometer sample `accel_up_mps2` (m/s^2, if any) and a barometer height
+    /// `height` with 1-sigma `sigma_m` (m), both taken at `time`, applied as one: when
+    /// the barometer sample is refused, the accelerometer sample is not applied either
+    /// (and the filter is unchanged). A refused accelerometer sample alone does not
+    /// stop the barometer sample; its error is the first result. The second is that of
+    /// [`Self::correct_with_sigma`].
+    pub fn predict_and_correct(
+        &mut self,
+        time: Instant,
+        accel_up_mps2: Option<f32>,
+        height: Height,
+        sigma_m: f32,
+    ) -> (Result<(), Error>, Result<KalmanOutcome, Error>) {
+        let step = self.step_to(time);
+        self.predict_correct(time, step, accel_up_mps2, height, sigma_m)
+    }
+
+    /// The time of the filter's state: its latest barometer or accelerometer sample,
+    /// `None` before any.
+    pub fn time(&self) -> Option<Instant> {
+        self.has_time().then_some(self.time)
+    }
+
     /// An accelerometer sample (if any) and a barometer sample taken at the same time
     /// `t`, `step` from the filter's time (see [`Self::predict_step`]), applied as one:
     /// when the barometer sample is refused, the accelerometer sample is not applied
@@ -1180,7 +1203,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// Height (m), vertical speed (m/s) and height variance (m^2) at the latest sample,
     /// `None` before the first barometer sample: [`Self::estimate`] without its two
     /// square roots.
-    pub(crate) fn height_speed_variance(&self) -> Option<(f32, f32, f32)> {
+    pub fn height_speed_variance(&self) -> Option<(f32, f32, f32)> {
         self.bits
             .get(INITIALIZED)
             .then_some((self.core.h, self.core.v, self.core.p.hh))

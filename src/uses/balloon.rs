@@ -321,8 +321,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
             sigma_m: kalman_sigma_m(s.pressure_noise_pa, p, column_k),
             accel_mps2: inputs.accel_mps2,
         };
-        let last_time = self.time.last();
-        let estimate = kalman_step(&mut self.kalman, &baro, &time, last_time, &mut flags);
+        let estimate = kalman_step(&mut self.kalman, &baro, &time, &mut flags);
         // nothing below refuses the sample
         let (h, v, sigma_m) = match estimate {
             Err(()) => return self.carry(sample.time, Flags::REJECTED_MODEL),

@@ -339,7 +339,6 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
     held: &mut VerticalKalman<C>,
     sample: &KalmanSample,
     time: &TimeStep,
-    last: Option<Instant>,
     flags: &mut Flags,
 ) -> Result<Option<(f32, f32, f32)>, ()> {
     let KalmanSample {
@@ -349,7 +348,7 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
         accel_mps2,
     } = *sample;
     let mut fresh = None;
-    if time.fault || held.is_ahead_of(t) {
+    if time.fault || held.time().is_some_and(|filter_t| filter_t > t) {
         let mut k = *held;
         k.reset();
         fresh = Some(k);
@@ -359,12 +358,7 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
         Some(k) => k,
         None => &mut *held,
     };
-    let known = match (last, time.dt) {
-        (Some(last), Some(dt)) => Some((last, Step::Later(dt))),
-        _ => None,
-    };
-    let step = k.step_reusing(t, known);
-    let (predicted, corrected) = k.predict_correct(t, step, accel_mps2, raw, sigma_m);
+    let (predicted, corrected) = k.predict_and_correct(t, accel_mps2, raw, sigma_m);
     if predicted.is_err() {
         flags.set(Flags::ACCEL_IGNORED);
     }
