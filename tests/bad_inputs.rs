@@ -1,16 +1,18 @@
 //! Bad inputs, one table: every layer is fed values it must refuse or flag, and the state
 //! after a refused input is compared with a clone taken before it (all state types derive
 //! `Clone + PartialEq`). Inputs that are accepted but flagged (a stuck sensor, a huge gap,
-//! a spike) are checked against their documented behaviour: no NaN, bounded output,
-//! recovery.
+//! a spike, a clock fault) are checked against their documented behaviour: no NaN,
+//! bounded output, recovery.
 //!
 //! `cargo test --test bad_inputs -- --nocapture` prints the table (case, layer, expected,
 //! observed) as markdown, ready for DEVELOPERS.md.
 //!
 //! Physical limits used (choices of the crate, documented on each item): temperature
-//! 100..=400 K (`Temperature::AIR_RANGE_K`), humidity 0..=100 %, presets' pressure ranges
-//! (`Settings::pressure_range_pa`, at most 110 000 Pa, i.e. 1100 hPa), Kalman height range
-//! -5 km..86 km and acceleration limit 16 g (`VerticalKalmanConfig::default`).
+//! 100..=400 K (`Temperature::AIR_RANGE_K`), humidity 0..=100 %, the use presets' pressure
+//! ranges (`min_pressure_pa`..=`max_pressure_pa`, at most 110 000 Pa, i.e. 1100 hPa),
+//! Kalman height range -5 km..86 km and acceleration limit 16 g
+//! (`VerticalKalmanConfig::DEFAULT`), longest gaps between samples (`max_gap_s`: drone
+//! 10 s, balloon 600 s, walk 6 h).
 
 use std::fmt::Debug;
 
@@ -21,15 +23,16 @@ use isohypse::filter::{
 };
 use isohypse::flight::{FlightPhases, PhaseSettings};
 use isohypse::model::{AirSample, ColumnModel, Reference, TemperatureModel, TemperatureProfile};
-use isohypse::pipeline::{Estimator, Flags, Output, Pipeline, Sample, Settings};
 use isohypse::sounding::{Level, Profile};
+use isohypse::time::{Instant, WrappingTicks};
 use isohypse::track::{AscentTotals, HikeConfig, HikeTracker};
+use isohypse::uses::{
+    Balloon, BalloonSettings, Drone, DroneSettings, DroneState, Flags, Output, Sample, Use, Walk,
+    WalkSettings,
+};
 use isohypse::{Error, Height, Pressure, RelativeHumidity, Temperature};
 mod common;
-#[allow(unused_imports)]
-use common::{at, secs};
-use common::{h, k, p_at, pa};
-use isohypse::time::Instant;
+use common::{at, h, k, p_at, pa, secs};
 
 /// Outcome of one case: whether it matched, and what was observed.
 type Observed = (bool, String);
@@ -63,7 +66,7 @@ fn flag_names(f: Flags) -> String {
     }
 }
 
-fn finite(o: &Output) -> bool {
+fn finite<S>(o: &Output<S>) -> bool {
     o.altitude_m.is_finite()
         && o.raw_altitude_m.is_finite()
         && o.vertical_speed_mps.is_finite()
@@ -72,42 +75,59 @@ fn finite(o: &Output) -> bool {
         && o.descent_m.is_finite()
 }
 
-/// A pipeline that has seen `n` valid samples at `rate_hz` at height `z`.
-fn warmed<const N: usize>(settings: Settings, z: f32, n: usize, rate_hz: f64) -> Pipeline<N> {
-    let mut p = Pipeline::<N>::new(settings).unwrap();
+/// `use_` after `n` valid samples at `rate_hz` at height `z`.
+fn warmed<U: Use>(mut use_: U, z: f32, n: usize, rate_hz: f64) -> U {
     for i in 0..n {
-        let out = p.process(&Sample::pressure(at(i as f64 / rate_hz), p_at(z)));
+        let out = use_.process(&Sample::pressure(at(i as f64 / rate_hz), p_at(z)));
         assert!(out.accepted());
     }
-    p
+    use_
 }
 
-/// A drone pipeline that took off from 300 m (ground reference frozen), climbed 10 m at
-/// 1 m/s and has hovered for 10 s at 310 m, at 50 Hz.
-fn drone_hovering() -> Pipeline<2> {
-    let mut p = warmed::<2>(Settings::drone(), 300.0, 100, 50.0);
-    let mut t = 2.0;
+/// A drone (preset) after `n` samples at 50 Hz at height `z`.
+fn drone(z: f32, n: usize) -> Drone<'static> {
+    warmed(Drone::new(&DroneSettings::DEFAULT).unwrap(), z, n, 50.0)
+}
+
+/// A walk (preset) after `n` samples at 1 Hz at height `z`.
+fn walk(z: f32, n: usize) -> Walk<'static> {
+    warmed(Walk::new(&WalkSettings::DEFAULT).unwrap(), z, n, 1.0)
+}
+
+/// A balloon (preset, `N` profile levels) after `n` samples at 1 Hz at height `z`.
+fn balloon<const N: usize>(z: f32, n: usize) -> Balloon<'static, N> {
+    warmed(
+        Balloon::<N>::new(&BalloonSettings::DEFAULT).unwrap(),
+        z,
+        n,
+        1.0,
+    )
+}
+
+/// A drone that took off from 300 m (ground reference frozen), climbed 10 m at 1 m/s
+/// and has hovered for 10 s at 310 m, at 50 Hz.
+fn drone_hovering() -> Drone<'static> {
+    let mut p = drone(300.0, 100);
     for i in 0..500 {
         let z = 300.0 + (i as f32 * 0.02).min(10.0);
-        t = 2.0 + i as f64 * 0.02;
+        let t = 2.0 + i as f64 * 0.02;
         assert!(p.process(&Sample::pressure(at(t), p_at(z))).accepted());
     }
-    assert_ne!(p.phase(), isohypse::flight::Phase::Ground);
+    assert_ne!(p.state(), DroneState::OnGround);
     assert!(
         (p.last_output().altitude_m - 10.0).abs() < 0.2,
         "{:?}",
         p.last_output()
     );
-    let _ = t;
     p
 }
 
-/// The pipeline must reject `sample` with `flag` and stay exactly as it was; the output
-/// must carry the previous (finite) estimate.
-fn pipeline_rejects<const N: usize>(p: &mut Pipeline<N>, sample: Sample, flag: Flags) -> Observed {
-    let before = p.clone();
-    let out = p.process(&sample);
-    let unchanged = *p == before;
+/// The use must reject `sample` with `flag` and stay exactly as it was; the output must
+/// carry the previous (finite) estimate.
+fn use_rejects<U: Use + Clone + PartialEq>(u: &mut U, sample: Sample, flag: Flags) -> Observed {
+    let before = u.clone();
+    let out = u.process(&sample);
+    let unchanged = *u == before;
     let ok = out.flags == flag && unchanged && finite(&out);
     let state = if unchanged { "unchanged" } else { "CHANGED" };
     (
@@ -116,10 +136,9 @@ fn pipeline_rejects<const N: usize>(p: &mut Pipeline<N>, sample: Sample, flag: F
     )
 }
 
-/// The pipeline must accept `sample` with exactly `flags` (the channel ignored) and finite
-/// output.
-fn pipeline_flags<const N: usize>(p: &mut Pipeline<N>, sample: Sample, flags: Flags) -> Observed {
-    let out = p.process(&sample);
+/// The use must accept `sample` with `flags` (the channel ignored) and finite output.
+fn use_flags<U: Use>(u: &mut U, sample: Sample, flags: Flags) -> Observed {
+    let out = u.process(&sample);
     let ok = out.accepted() && out.flags.contains(flags) && finite(&out);
     (
         ok,
@@ -573,14 +592,14 @@ fn cases() -> Vec<Case> {
                 })
             },
         },
-        // ---- pipeline: rejected samples --------------------------------------------
+        // ---- uses: rejected samples ------------------------------------------------
         Case {
-            name: "pipeline: pressure NaN",
-            layer: "pipeline",
+            name: "drone: pressure NaN",
+            layer: "uses",
             expected: "rejected_pressure, unchanged",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
-                pipeline_rejects(
+                let mut p = drone(300.0, 60);
+                use_rejects(
                     &mut p,
                     Sample::pressure(at(2.0), f32::NAN),
                     Flags::REJECTED_PRESSURE,
@@ -588,12 +607,12 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: pressure -inf",
-            layer: "pipeline",
+            name: "drone: pressure -inf",
+            layer: "uses",
             expected: "rejected_pressure, unchanged",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
-                pipeline_rejects(
+                let mut p = drone(300.0, 60);
+                use_rejects(
                     &mut p,
                     Sample::pressure(at(2.0), f32::NEG_INFINITY),
                     Flags::REJECTED_PRESSURE,
@@ -601,12 +620,12 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: pressure 0",
-            layer: "pipeline",
+            name: "walk: pressure 0",
+            layer: "uses",
             expected: "rejected_pressure, unchanged",
             run: || {
-                let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
-                pipeline_rejects(
+                let mut p = walk(300.0, 60);
+                use_rejects(
                     &mut p,
                     Sample::pressure(at(100.0), 0.0),
                     Flags::REJECTED_PRESSURE,
@@ -614,12 +633,12 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: pressure -95 000 Pa",
-            layer: "pipeline",
+            name: "walk: pressure -95 000 Pa",
+            layer: "uses",
             expected: "rejected_pressure, unchanged",
             run: || {
-                let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
-                pipeline_rejects(
+                let mut p = walk(300.0, 60);
+                use_rejects(
                     &mut p,
                     Sample::pressure(at(100.0), -95_000.0),
                     Flags::REJECTED_PRESSURE,
@@ -627,12 +646,12 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: pressure 1250 hPa (> 1200 hPa)",
-            layer: "pipeline",
+            name: "balloon: pressure 1250 hPa (> 1100 hPa)",
+            layer: "uses",
             expected: "rejected_pressure, unchanged",
             run: || {
-                let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
-                pipeline_rejects(
+                let mut p = balloon::<64>(300.0, 20);
+                use_rejects(
                     &mut p,
                     Sample::pressure(at(30.0), 125_000.0),
                     Flags::REJECTED_PRESSURE,
@@ -640,11 +659,49 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: time going backwards (clock restarted)",
-            layer: "pipeline",
+            name: "walk: time repeating",
+            layer: "uses",
+            expected: "rejected_time, unchanged",
+            run: || {
+                let mut p = walk(300.0, 60);
+                use_rejects(
+                    &mut p,
+                    Sample::pressure(at(59.0), p_at(300.0)),
+                    Flags::REJECTED_TIME,
+                )
+            },
+        },
+        Case {
+            name: "drone: time repeating",
+            layer: "uses",
+            expected: "rejected_time, unchanged",
+            run: || {
+                let mut p = drone(300.0, 60);
+                use_rejects(
+                    &mut p,
+                    Sample::pressure(at(59.0 / 50.0), p_at(301.0)),
+                    Flags::REJECTED_TIME,
+                )
+            },
+        },
+        Case {
+            name: "drone: accelerometer before the last barometer sample",
+            layer: "uses",
+            expected: "Err(NotIncreasing), unchanged",
+            run: || {
+                let mut p = drone(300.0, 60);
+                refused(&mut p, Error::NotIncreasing, |p| {
+                    p.accelerometer(at(0.5), 0.1)
+                })
+            },
+        },
+        // ---- uses: clock faults ----------------------------------------------------
+        Case {
+            name: "drone: time going backwards (clock restarted)",
+            layer: "uses",
             expected: "accepted as a new time base: clock_fault, reacquired at the sample (within 0.5 m), finite",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
+                let mut p = drone(300.0, 60);
                 let out = p.process(&Sample::pressure(at(0.5), p_at(305.0)));
                 let ok = out.accepted()
                     && out.flags.contains(Flags::CLOCK_FAULT)
@@ -662,11 +719,72 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: glitched stamp far ahead, then normal stamps",
-            layer: "pipeline",
+            name: "walk: time going backwards (clock restarted)",
+            layer: "uses",
+            expected: "accepted as a new time base: clock_fault, height within 1 m of the new pressure altitude, totals kept, finite",
+            run: || {
+                let mut p = walk(300.0, 600);
+                let before = p.last_output();
+                let out = p.process(&Sample::pressure(at(10.0), p_at(305.0)));
+                let ok = out.accepted()
+                    && out.flags.contains(Flags::CLOCK_FAULT)
+                    && (out.altitude_m - 305.0).abs() < 1.0
+                    && out.ascent_m >= before.ascent_m
+                    && out.descent_m >= before.descent_m
+                    && finite(&out);
+                (
+                    ok,
+                    format!(
+                        "flags {}; height {:.2} m",
+                        flag_names(out.flags),
+                        out.altitude_m
+                    ),
+                )
+            },
+        },
+        Case {
+            name: "balloon (in ascent): time going backwards (clock restarted)",
+            layer: "uses",
+            expected: "accepted as a new time base: clock_fault, reacquired, state and stored profile kept, finite",
+            run: || {
+                let mut p = Balloon::<64>::new(&BalloonSettings::DEFAULT).unwrap();
+                // 5 m/s up from 300 m for 10 minutes, at 1 Hz
+                for i in 0..600 {
+                    let z = 300.0 + 5.0 * i as f32;
+                    assert!(
+                        p.process(&Sample::pressure(at(i as f64), p_at(z)))
+                            .accepted()
+                    );
+                }
+                let (state, levels) = (p.state(), p.sounding().map_or(0, |s| s.profile().len()));
+                let out = p.process(&Sample::pressure(at(3.0), p_at(3_305.0)));
+                let after = p.sounding().map_or(0, |s| s.profile().len());
+                let ok = out.accepted()
+                    && out.flags.contains(Flags::CLOCK_FAULT)
+                    && out.flags.contains(Flags::REACQUIRED)
+                    && out.state == state
+                    && after >= levels
+                    && levels >= 2
+                    && (out.altitude_m - 3_305.0).abs() < 5.0
+                    && finite(&out);
+                (
+                    ok,
+                    format!(
+                        "flags {}; {} -> {}, {levels} -> {after} levels; height {:.1} m",
+                        flag_names(out.flags),
+                        state.name(),
+                        out.state.name(),
+                        out.altitude_m
+                    ),
+                )
+            },
+        },
+        Case {
+            name: "balloon: glitched stamp far ahead, then normal stamps",
+            layer: "uses",
             expected: "the glitch and the next sample flagged clock_fault; every sample accepted",
             run: || {
-                let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
+                let mut p = balloon::<64>(300.0, 20);
                 let glitch = p.process(&Sample::pressure(at(20.0 + 4_294_967.296), p_at(300.0)));
                 let back = p.process(&Sample::pressure(at(21.0), p_at(305.0)));
                 let next = p.process(&Sample::pressure(at(22.0), p_at(310.0)));
@@ -688,168 +806,281 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline: time repeating",
-            layer: "pipeline",
-            expected: "rejected_time, unchanged",
+            name: "drone: raw u32 millisecond counter wraps (no WrappingTicks)",
+            layer: "uses",
+            expected: "the wrapped sample flagged clock_fault and accepted; the next one normal",
             run: || {
-                let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
-                pipeline_rejects(
-                    &mut p,
-                    Sample::pressure(at(59.0), p_at(300.0)),
-                    Flags::REJECTED_TIME,
+                let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
+                let mut all_ok = true;
+                // 2 s at 50 Hz up to the wrap, fed the raw counter as milliseconds
+                for i in 0..100u32 {
+                    let raw = u32::MAX - 2_000 + 20 * i;
+                    let s = Sample::pressure(Instant::from_millis(raw.into()), p_at(300.0));
+                    all_ok &= p.process(&s).accepted();
+                }
+                let raw = (u32::MAX - 2_000 + 2_000).wrapping_add(20);
+                let wrapped = p.process(&Sample::pressure(
+                    Instant::from_millis(raw.into()),
+                    p_at(300.0),
+                ));
+                let next = p.process(&Sample::pressure(
+                    Instant::from_millis(u64::from(raw) + 20),
+                    p_at(300.0),
+                ));
+                let ok = all_ok
+                    && wrapped.accepted()
+                    && wrapped.flags.contains(Flags::CLOCK_FAULT)
+                    && next.accepted()
+                    && !next.flags.contains(Flags::CLOCK_FAULT)
+                    && next.altitude_m.abs() < 0.5
+                    && finite(&next);
+                (
+                    ok,
+                    format!(
+                        "flags {} then {}; height {:.3} m",
+                        flag_names(wrapped.flags),
+                        flag_names(next.flags),
+                        next.altitude_m
+                    ),
                 )
             },
         },
         Case {
-            name: "pipeline: accelerometer before the last barometer sample",
-            layer: "pipeline",
-            expected: "Err(NotIncreasing), unchanged",
+            name: "drone: the same counter through WrappingTicks",
+            layer: "uses",
+            expected: "no clock_fault across the wrap, every sample accepted",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
-                refused(&mut p, Error::NotIncreasing, |p| {
-                    p.accelerometer(at(0.5), 0.1)
+                let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
+                let mut clock = WrappingTicks::<1_000>::new();
+                let (mut faults, mut all_ok) = (0, true);
+                for i in 0..200u32 {
+                    let raw = (u32::MAX - 2_000).wrapping_add(20 * i);
+                    let out = p.process(&Sample::pressure(clock.instant(raw), p_at(300.0)));
+                    all_ok &= out.accepted() && finite(&out);
+                    faults += u32::from(out.flags.contains(Flags::CLOCK_FAULT));
+                }
+                (all_ok && faults == 0, format!("{faults} clock faults"))
+            },
+        },
+        Case {
+            name: "drone: restart_clock, then a stamp back",
+            layer: "uses",
+            expected: "accepted without clock_fault (the filter starts anew: no reacquired flag either), height of the sample (within 0.5 m), state kept",
+            run: || {
+                let mut p = drone_hovering();
+                let state = p.state();
+                p.restart_clock();
+                let out = p.process(&Sample::pressure(at(0.0), p_at(310.0)));
+                let ok = out.accepted()
+                    && !out.flags.contains(Flags::CLOCK_FAULT)
+                    && (out.altitude_m - out.raw_altitude_m).abs() < 0.5
+                    && (out.altitude_m - 10.0).abs() < 0.5
+                    && out.state == state
+                    && finite(&out);
+                (
+                    ok,
+                    format!(
+                        "flags {}; height {:.2} m",
+                        flag_names(out.flags),
+                        out.altitude_m
+                    ),
+                )
+            },
+        },
+        Case {
+            name: "drone: accelerometer stamp beyond the longest gap (10 s)",
+            layer: "uses",
+            expected: "Err(TimeJump), unchanged",
+            run: || {
+                let mut p = drone(300.0, 60);
+                refused(&mut p, Error::TimeJump, |p| {
+                    p.accelerometer(at(60.0 / 50.0 + 11.0), 0.1)
                 })
             },
         },
-        // ---- pipeline: optional channels, ignored and flagged ------------------------
         Case {
-            name: "pipeline: temperature -300 degC",
-            layer: "pipeline",
+            name: "balloon: accelerometer stamp beyond the longest gap (600 s)",
+            layer: "uses",
+            expected: "Err(TimeJump), unchanged",
+            run: || {
+                let mut p = balloon::<8>(300.0, 20);
+                refused(&mut p, Error::TimeJump, |p| {
+                    p.accelerometer(at(20.0 + 601.0), 0.1)
+                })
+            },
+        },
+        // ---- uses: optional channels, ignored and flagged --------------------------
+        Case {
+            name: "balloon: temperature -300 degC",
+            layer: "uses",
             expected: "accepted, temperature_ignored",
             run: || {
-                let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
+                let mut p = balloon::<64>(300.0, 20);
                 let s = Sample {
                     temperature_c: Some(-300.0),
                     ..Sample::pressure(at(20.0), p_at(301.0))
                 };
-                pipeline_flags(&mut p, s, Flags::TEMPERATURE_IGNORED)
+                use_flags(&mut p, s, Flags::TEMPERATURE_IGNORED)
             },
         },
         Case {
-            name: "pipeline: temperature +150 degC (> 400 K)",
-            layer: "pipeline",
+            name: "balloon: temperature +150 degC (> 400 K)",
+            layer: "uses",
             expected: "accepted, temperature_ignored",
             run: || {
-                let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
+                let mut p = balloon::<64>(300.0, 20);
                 let s = Sample {
                     temperature_c: Some(150.0),
                     ..Sample::pressure(at(20.0), p_at(301.0))
                 };
-                pipeline_flags(&mut p, s, Flags::TEMPERATURE_IGNORED)
+                use_flags(&mut p, s, Flags::TEMPERATURE_IGNORED)
             },
         },
         Case {
-            name: "pipeline: humidity 130 %",
-            layer: "pipeline",
+            name: "balloon: humidity 130 %",
+            layer: "uses",
             expected: "accepted, humidity_ignored",
             run: || {
-                let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
+                let mut p = balloon::<64>(300.0, 20);
                 let s = Sample {
                     temperature_c: Some(15.0),
                     humidity_pct: Some(130.0),
                     ..Sample::pressure(at(20.0), p_at(301.0))
                 };
-                pipeline_flags(&mut p, s, Flags::HUMIDITY_IGNORED)
+                use_flags(&mut p, s, Flags::HUMIDITY_IGNORED)
             },
         },
         Case {
-            name: "pipeline: humidity -5 %",
-            layer: "pipeline",
+            name: "balloon: humidity -5 %",
+            layer: "uses",
             expected: "accepted, humidity_ignored",
             run: || {
-                let mut p = warmed::<64>(Settings::balloon(), 300.0, 20, 1.0);
+                let mut p = balloon::<64>(300.0, 20);
                 let s = Sample {
                     humidity_pct: Some(-5.0),
                     ..Sample::pressure(at(20.0), p_at(301.0))
                 };
-                pipeline_flags(&mut p, s, Flags::HUMIDITY_IGNORED)
+                use_flags(&mut p, s, Flags::HUMIDITY_IGNORED)
             },
         },
         Case {
-            name: "pipeline: acceleration NaN",
-            layer: "pipeline",
+            name: "drone: acceleration NaN",
+            layer: "uses",
             expected: "accepted, accel_ignored",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
+                let mut p = drone(300.0, 60);
                 let s = Sample {
                     accel_up_mps2: Some(f32::NAN),
                     ..Sample::pressure(at(1.2), p_at(300.0))
                 };
-                pipeline_flags(&mut p, s, Flags::ACCEL_IGNORED)
+                use_flags(&mut p, s, Flags::ACCEL_IGNORED)
             },
         },
         Case {
-            name: "pipeline: known altitude +inf",
-            layer: "pipeline",
+            name: "walk: known altitude +inf",
+            layer: "uses",
             expected: "accepted, fix_ignored",
             run: || {
-                let mut p = warmed::<2>(Settings::hike(), 300.0, 60, 1.0);
+                let mut p = walk(300.0, 60);
                 let s = Sample {
                     known_altitude_m: Some(f32::INFINITY),
                     ..Sample::pressure(at(60.0), p_at(300.0))
                 };
-                pipeline_flags(&mut p, s, Flags::FIX_IGNORED)
+                use_flags(&mut p, s, Flags::FIX_IGNORED)
             },
         },
-        // ---- pipeline: settings out of range ----------------------------------------
+        // ---- uses: settings out of range -------------------------------------------
         Case {
-            name: "settings: pressure range inverted",
-            layer: "pipeline",
+            name: "drone settings: pressure range inverted",
+            layer: "uses",
             expected: "Err(InvalidSetting)",
             run: || {
-                let mut s = Settings::drone();
-                s.pressure_range_pa = (110_000.0, 30_000.0);
-                err_is(Pipeline::<2>::new(s), Error::InvalidSetting)
+                let s = DroneSettings {
+                    min_pressure_pa: 110_000.0,
+                    max_pressure_pa: 30_000.0,
+                    ..DroneSettings::DEFAULT
+                };
+                err_is(Drone::new(&s), Error::InvalidSetting)
             },
         },
         Case {
-            name: "settings: ground_min_samples 0",
-            layer: "pipeline",
+            name: "drone settings: ground_samples 0",
+            layer: "uses",
             expected: "Err(InvalidSetting)",
             run: || {
-                let mut s = Settings::drone();
-                s.ground_min_samples = 0;
-                err_is(Pipeline::<2>::new(s), Error::InvalidSetting)
+                let s = DroneSettings {
+                    ground_samples: 0,
+                    ..DroneSettings::DEFAULT
+                };
+                err_is(Drone::new(&s), Error::InvalidSetting)
             },
         },
         Case {
-            name: "settings: latitude 95 deg",
-            layer: "pipeline",
+            name: "balloon settings: latitude 95 deg",
+            layer: "uses",
             expected: "Err(InvalidSetting)",
             run: || {
-                let mut s = Settings::balloon();
-                s.latitude_deg = Some(95.0);
-                err_is(Pipeline::<2>::new(s), Error::InvalidSetting)
+                let s = BalloonSettings {
+                    latitude_deg: Some(95.0),
+                    ..BalloonSettings::DEFAULT
+                };
+                err_is(Balloon::<8>::new(&s), Error::InvalidSetting)
             },
         },
         Case {
-            name: "settings: start altitude NaN at run time",
-            layer: "pipeline",
+            name: "drone: take-off altitude NaN at run time",
+            layer: "uses",
             expected: "Err(InvalidSetting), unchanged",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 60, 50.0);
+                let mut p = drone(300.0, 60);
                 refused(&mut p, Error::InvalidSetting, |p| {
-                    p.set_start_altitude(Some(f32::NAN))
+                    p.set_takeoff_altitude_m(f32::NAN)
                 })
             },
         },
         Case {
-            name: "settings: Kalman max step -1 s",
-            layer: "pipeline",
+            name: "drone settings: Kalman max step -1 s",
+            layer: "uses",
             expected: "Err(InvalidSetting)",
             run: || {
-                let mut s = Settings::drone();
-                s.estimator = Estimator::Kalman(VerticalKalmanConfig {
-                    max_step_s: -1.0,
-                    ..VerticalKalmanConfig::default()
-                });
-                err_is(Pipeline::<2>::new(s), Error::InvalidSetting)
+                let s = DroneSettings {
+                    kalman: VerticalKalmanConfig {
+                        max_step_s: -1.0,
+                        ..VerticalKalmanConfig::DEFAULT
+                    },
+                    ..DroneSettings::DEFAULT
+                };
+                err_is(Drone::new(&s), Error::InvalidSetting)
             },
         },
-        // ---- pipeline: accepted but flagged (documented behaviour) -------------------
         Case {
-            name: "pipeline (drone, in flight): one spike of +100 hPa",
-            layer: "pipeline",
+            name: "walk settings: longest gap 0 s",
+            layer: "uses",
+            expected: "Err(InvalidSetting)",
+            run: || {
+                let s = WalkSettings {
+                    max_gap_s: 0.0,
+                    ..WalkSettings::DEFAULT
+                };
+                err_is(Walk::new(&s), Error::InvalidSetting)
+            },
+        },
+        Case {
+            name: "balloon settings: longest gap 8 days (> 1 week)",
+            layer: "uses",
+            expected: "Err(InvalidSetting)",
+            run: || {
+                let s = BalloonSettings {
+                    max_gap_s: 8.0 * 86_400.0,
+                    ..BalloonSettings::DEFAULT
+                };
+                err_is(Balloon::<8>::new(&s), Error::InvalidSetting)
+            },
+        },
+        // ---- uses: accepted but flagged (documented behaviour) ---------------------
+        Case {
+            name: "drone (in flight): one spike of +100 hPa",
+            layer: "uses",
             expected: "outlier flagged, height kept within 0.1 m, next sample normal",
             run: || {
                 let mut p = drone_hovering();
@@ -877,13 +1108,14 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline (drone): huge time gap (1e6 s)",
-            layer: "pipeline",
-            expected: "accepted, reacquired at the new height (within 0.5 m), finite",
+            name: "drone: huge time gap (1e6 s)",
+            layer: "uses",
+            expected: "accepted as a clock fault, reacquired at the new height (within 0.5 m), finite",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 100, 50.0);
+                let mut p = drone(300.0, 100);
                 let out = p.process(&Sample::pressure(at(1.0e6), p_at(350.0)));
                 let ok = out.accepted()
+                    && out.flags.contains(Flags::CLOCK_FAULT)
                     && out.flags.contains(Flags::REACQUIRED)
                     && (out.altitude_m - out.raw_altitude_m).abs() < 0.5
                     && finite(&out);
@@ -899,11 +1131,11 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline (hike): huge time gap (30 days)",
-            layer: "pipeline",
+            name: "walk: huge time gap (30 days)",
+            layer: "uses",
             expected: "accepted as a clock fault, finite, height within 1 m of the new pressure altitude",
             run: || {
-                let mut p = warmed::<2>(Settings::hike(), 300.0, 120, 1.0);
+                let mut p = walk(300.0, 120);
                 let out = p.process(&Sample::pressure(at(30.0 * 86_400.0), p_at(800.0)));
                 let ok = out.accepted()
                     && out.flags.contains(Flags::CLOCK_FAULT)
@@ -920,11 +1152,11 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline (drone): stuck sensor, one value for 10 000 samples",
-            layer: "pipeline",
+            name: "drone: stuck sensor, one value for 10 000 samples",
+            layer: "uses",
             expected: "accepted, finite, height constant within 0.01 m, sigma bounded",
             run: || {
-                let mut p = warmed::<2>(Settings::drone(), 300.0, 100, 50.0);
+                let mut p = drone(300.0, 100);
                 let first = p.last_output().altitude_m;
                 let (mut worst, mut max_sigma, mut all_ok) = (0.0f32, 0.0f32, true);
                 for i in 100..10_100 {
@@ -941,11 +1173,11 @@ fn cases() -> Vec<Case> {
             },
         },
         Case {
-            name: "pipeline (hike): stuck sensor for 6 h",
-            layer: "pipeline",
-            expected: "accepted, finite, totals 0, at_rest",
+            name: "walk: stuck sensor for 6 h",
+            layer: "uses",
+            expected: "accepted, finite, totals 0, resting",
             run: || {
-                let mut p = warmed::<2>(Settings::hike(), 300.0, 10, 1.0);
+                let mut p = walk(300.0, 10);
                 let mut out = p.last_output();
                 let mut all_ok = true;
                 for i in 10..21_600 {
@@ -959,20 +1191,21 @@ fn cases() -> Vec<Case> {
                 (
                     ok,
                     format!(
-                        "ascent {} m, descent {} m, flags {}",
+                        "ascent {} m, descent {} m, flags {}, state {}",
                         out.ascent_m,
                         out.descent_m,
-                        flag_names(out.flags)
+                        flag_names(out.flags),
+                        out.state.name()
                     ),
                 )
             },
         },
         Case {
-            name: "pipeline (balloon): profile overflow (capacity 8, ascent to 30 km)",
-            layer: "pipeline",
+            name: "balloon: profile overflow (capacity 8, ascent to 30 km)",
+            layer: "uses",
             expected: "profile thinned (<= 8 levels), outputs finite, descent on profile",
             run: || {
-                let mut p = Pipeline::<8>::new(Settings::balloon()).unwrap();
+                let mut p = Balloon::<8>::new(&BalloonSettings::DEFAULT).unwrap();
                 let mut all_ok = true;
                 let mut t = 0.0;
                 let mut last = Output::default();
@@ -1038,37 +1271,52 @@ fn bad_input_table() {
     );
 }
 
-/// Regression test, fixed bug (found by these tests; src/pipeline.rs, `Estimator::Off` branch of
-/// `Pipeline::process`): the vertical speed was `(raw - last_raw) / (dt as f32)` with `dt`
-/// narrowed from f64 to f32 *before* the division. Two strictly increasing f64 times whose
-/// difference is below the smallest f32 subnormal (1.4e-45 s) give `0 / 0 = NaN`; a
-/// difference below about 1e-38 s gives an infinite speed. The non-finite speed is then
-/// stored in the last output and carried into every later rejected sample's output.
-/// Found by the `pipeline` fuzz target.
-#[test]
-fn pointwise_speed_finite_for_tiny_time_steps() {
-    for mut settings in [Settings::drone(), Settings::balloon()] {
-        settings.estimator = Estimator::Off;
-        let mut p = Pipeline::<2>::new(settings).unwrap();
-        p.process(&Sample::pressure(at(0.0), 95_000.0));
-        let same = p.process(&Sample::pressure(Instant::from_micros(1), 95_000.0));
-        assert!(same.accepted());
-        assert!(same.vertical_speed_mps.is_finite(), "{same:?}"); // NaN before the fix
-        let moved = p.process(&Sample::pressure(Instant::from_micros(2), 94_000.0));
-        assert!(moved.vertical_speed_mps.is_finite(), "{moved:?}"); // inf before the fix
-    }
+/// `use_` after a first sample and two more 1 us and 2 us after it, the last 10 hPa
+/// lower: the vertical speed of both stays finite.
+fn speed_finite_after_tiny_steps<U: Use>(mut use_: U) -> Result<(), String> {
+    use_.process(&Sample::pressure(at(0.0), 95_000.0));
+    let same = use_.process(&Sample::pressure(Instant::from_micros(1), 95_000.0));
+    let moved = use_.process(&Sample::pressure(Instant::from_micros(2), 94_000.0));
+    let ok = same.accepted()
+        && same.vertical_speed_mps.is_finite()
+        && moved.vertical_speed_mps.is_finite();
+    let message = format!(
+        "speeds {} m/s ({}), {} m/s ({})",
+        same.vertical_speed_mps,
+        flag_names(same.flags),
+        moved.vertical_speed_mps,
+        flag_names(moved.flags)
+    );
+    if ok { Ok(()) } else { Err(message) }
 }
 
-/// Regression test, fixed bug (found by these tests; src/pipeline.rs step 3 "Datum"): while the drone was on the
-/// ground, every sample's model height was averaged into the ground reference *before* the
-/// Kalman gate decides whether the sample is an outlier. One +100 hPa spike (-815 m) among
-/// 100 samples at 300 m moves the mean by about 8 m: the next 9 normal samples are then
-/// gated out as outliers, the 10th re-acquires at +7.5 m, and the height creeps back only
-/// as more samples are averaged (still +5 m one second later). A gated-out sample should
-/// not reach the ground reference.
+/// Regression test, fixed bug (found by these tests in the engine that preceded the use
+/// types; its pointwise branch, without an estimator): the vertical speed was
+/// `(raw - last_raw) / (dt as f32)` with `dt` narrowed from f64 to f32 *before* the
+/// division. Two strictly increasing f64 times whose difference is below the smallest
+/// f32 subnormal (1.4e-45 s) gave `0 / 0 = NaN`; a difference below about 1e-38 s gave
+/// an infinite speed, then carried into every later rejected sample's output. Found by
+/// the `pipeline` fuzz target. (Moved: there is no estimator-off option any more; the
+/// same steps, now the smallest ones, 1 us, go through each use type's own speed: the
+/// drone's and balloon's Kalman filter, the walk's smoothed difference.)
+#[test]
+fn speed_finite_for_tiny_time_steps() {
+    speed_finite_after_tiny_steps(Drone::new(&DroneSettings::DEFAULT).unwrap()).unwrap();
+    speed_finite_after_tiny_steps(Balloon::<8>::new(&BalloonSettings::DEFAULT).unwrap()).unwrap();
+    speed_finite_after_tiny_steps(Walk::new(&WalkSettings::DEFAULT).unwrap()).unwrap();
+}
+
+/// Regression test, fixed bug (found by these tests; the datum step of the engine that
+/// preceded the use types): while the drone was on the ground, every sample's model
+/// height was averaged into the ground reference *before* the Kalman gate decides
+/// whether the sample is an outlier. One +100 hPa spike (-815 m) among 100 samples at
+/// 300 m moves the mean by about 8 m: the next 9 normal samples are then gated out as
+/// outliers, the 10th re-acquires at +7.5 m, and the height creeps back only as more
+/// samples are averaged (still +5 m one second later). A gated-out sample should not
+/// reach the ground reference.
 #[test]
 fn drone_spike_on_ground_leaves_zero_alone() {
-    let mut p = warmed::<2>(Settings::drone(), 300.0, 100, 50.0);
+    let mut p = drone(300.0, 100);
     let spike = p.process(&Sample::pressure(at(2.0), p_at(300.0) + 10_000.0));
     assert!(spike.flags.contains(Flags::OUTLIER));
     let next = p.process(&Sample::pressure(at(2.02), p_at(300.0)));
@@ -1079,13 +1327,12 @@ fn drone_spike_on_ground_leaves_zero_alone() {
     }
 }
 
-/// Gap (reported to the lead): the hike preset has no spike filter (the design's data
-/// flow has "validation -> spike filter -> height"; `Settings::hike()` uses
-/// `Estimator::Off` and the hike tracker's smoother only). One +100 hPa spike at rest at
-/// 300 m moves the displayed height by -274 m and adds 274.45 m to *both* totals.
+/// Regression test, fixed gap: the walk has a spike gate (the design's data flow has
+/// "validation -> spike filter -> height"). Without it one +100 hPa spike at rest at
+/// 300 m moved the displayed height by -274 m and added 274.45 m to *both* totals.
 #[test]
-fn hike_single_spike_does_not_reach_totals() {
-    let mut p = warmed::<2>(Settings::hike(), 300.0, 600, 1.0);
+fn walk_single_spike_does_not_reach_totals() {
+    let mut p = walk(300.0, 600);
     let spike = p.process(&Sample::pressure(at(600.0), p_at(300.0) + 10_000.0));
     assert!(finite(&spike));
     let mut last = spike;
@@ -1096,28 +1343,48 @@ fn hike_single_spike_does_not_reach_totals() {
     assert!(last.ascent_m <= 3.0 && last.descent_m <= 3.0, "{last:?}"); // 274.45 m before the fix
 }
 
-/// Regression test, fixed bug (found by these tests; src/pipeline.rs `Settings::validate` and `model_sigma`):
-/// `pressure_noise_pa` and `temperature_uncertainty_k` were only checked to be finite
-/// and not negative. Large values passed and make `altitude_sigma_m` infinite for valid samples (the
-/// two terms are squared in `model_sigma`, so a pressure noise of 1e30 Pa already
-/// overflows; with the drone preset at 1e38 Pa every sample is refused as
+/// Two samples through `use_` (if the settings were taken): accepted, finite output.
+fn two_samples_finite<U: Use>(made: Result<U, Error>) {
+    match made {
+        Err(e) => assert_eq!(e, Error::InvalidSetting),
+        Ok(mut u) => {
+            u.process(&Sample::pressure(at(0.0), 95_000.0));
+            let out = u.process(&Sample::pressure(at(1.0), 90_000.0));
+            assert!(out.accepted() && finite(&out), "{:?}", out.flags); // sigma inf before the fix
+        }
+    }
+}
+
+/// Regression test, fixed bug (found by these tests; the engine's settings check and
+/// height sigma): `pressure_noise_pa` and `temperature_uncertainty_k` were only checked
+/// to be finite and not negative. Large values passed and made `altitude_sigma_m`
+/// infinite for valid samples (the two terms are squared, so a pressure noise of 1e30 Pa
+/// already overflows; with the drone preset at 1e38 Pa every sample was refused as
 /// `rejected_model` because the Kalman filter refuses an infinite sigma). Found by the
 /// `pipeline` fuzz target. Either bound the settings (typed `InvalidSetting`) or keep
-/// the sigma finite.
+/// the sigma finite. (The engine's test ran the hike preset; here the walk, and the
+/// drone and balloon too.)
 #[test]
 fn huge_noise_settings_are_refused_or_harmless() {
     for (noise, uncertainty) in [(1.0e30f32, 5.0f32), (2.0, 1.0e38)] {
-        let mut s = Settings::hike();
-        s.pressure_noise_pa = noise;
-        s.temperature_uncertainty_k = uncertainty;
-        match Pipeline::<2>::new(s) {
-            Err(e) => assert_eq!(e, Error::InvalidSetting),
-            Ok(mut p) => {
-                p.process(&Sample::pressure(at(0.0), 95_000.0));
-                let out = p.process(&Sample::pressure(at(1.0), 90_000.0));
-                assert!(out.accepted() && finite(&out), "{out:?}"); // sigma inf before the fix
-            }
-        }
+        let walk = WalkSettings {
+            pressure_noise_pa: noise,
+            temperature_uncertainty_k: uncertainty,
+            ..WalkSettings::DEFAULT
+        };
+        two_samples_finite(Walk::new(&walk));
+        let drone = DroneSettings {
+            pressure_noise_pa: noise,
+            temperature_uncertainty_k: uncertainty,
+            ..DroneSettings::DEFAULT
+        };
+        two_samples_finite(Drone::new(&drone));
+        let balloon = BalloonSettings {
+            pressure_noise_pa: noise,
+            temperature_uncertainty_k: uncertainty,
+            ..BalloonSettings::DEFAULT
+        };
+        two_samples_finite(Balloon::<8>::new(&balloon));
     }
 }
 
@@ -1130,7 +1397,7 @@ fn huge_noise_settings_are_refused_or_harmless() {
 /// state changed. Such a step is strictly later and must be taken.
 #[test]
 fn kalman_takes_accelerometer_and_baro_after_sub_f32_step() {
-    let mut p = Pipeline::<2>::new(Settings::drone()).unwrap();
+    let mut p = Drone::new(&DroneSettings::DEFAULT).unwrap();
     assert!(p.process(&Sample::pressure(at(0.0), 95_000.0)).accepted());
     let mut s = Sample::pressure(Instant::from_micros(1), 95_007.6);
     s.accel_up_mps2 = Some(0.0);

@@ -16,14 +16,18 @@ use isohypse::atmosphere::{ICAO, StandardAtmosphere, US_1976};
 use isohypse::datum::{AltimeterSetting, Calibration};
 use isohypse::filter::{AlphaBeta, Median, MovingAverage, OnePole, VerticalKalman};
 use isohypse::filter::{KalmanOutcome, VerticalKalmanConfig};
+use isohypse::flight::PhaseSettings;
 use isohypse::model::{AirSample, ColumnModel, Reference, TemperatureModel};
-use isohypse::pipeline::{Flags, Output, Pipeline, Sample, Settings};
-use isohypse::track::AscentTotals;
+use isohypse::time::Instant;
+use isohypse::track::{AscentTotals, HikeConfig};
+use isohypse::uses::{
+    Balloon, BalloonModel, BalloonSettings, Drone, DroneSettings, Flags, Output, Sample, Use, Walk,
+    WalkSettings,
+};
 use proptest::prelude::*;
+use std::fmt::Debug;
 mod common;
-#[allow(unused_imports)]
-use common::{at, secs};
-use common::{h, k, pa};
+use common::{at, h, k, pa, secs};
 
 /// Proptest settings: `n` cases, no failure-persistence files (a failing case is printed
 /// with its inputs instead), and a fixed seed so that CI runs are repeatable. Set
@@ -539,7 +543,9 @@ proptest! {
 }
 
 // ---------------------------------------------------------------------------------
-// The pipeline: no NaN or infinity out of valid input; rejected samples change nothing.
+// The use types, with random valid settings: no NaN or infinity out of valid input;
+// rejected samples and refused accelerometer samples change nothing; clock faults are
+// flagged exactly where the clock steps back or jumps beyond the longest gap.
 // ---------------------------------------------------------------------------------
 
 #[derive(Debug, Clone)]
@@ -551,7 +557,10 @@ struct Step {
     humidity_pct: Option<f32>,
     accel: Option<f32>,
     fix: Option<f32>,
-    /// Make this sample invalid in one of several ways (0 = valid).
+    /// An accelerometer sample before this one: (its stamp as a fraction of the step,
+    /// from before the last sample to beyond this one; its value, some beyond 16 g).
+    between: Option<(f64, f32)>,
+    /// Make this sample invalid, or its clock faulty, in one of several ways (0 = valid).
     poison: u8,
 }
 
@@ -563,20 +572,22 @@ fn step_strategy() -> impl Strategy<Value = Step> {
         prop::option::of(0.0f32..=100.0),
         prop::option::of(-50.0f32..50.0),
         prop::option::weighted(0.05, -400.0f32..9_000.0),
-        prop_oneof![8 => Just(0u8), 1 => 1u8..10],
+        prop::option::weighted(0.2, (-0.5f64..1.5, -300.0f32..300.0)),
+        prop_oneof![8 => Just(0u8), 1 => 1u8..12],
     )
-        .prop_map(|(dt, dp, t, rh, a, fix, poison)| Step {
+        .prop_map(|(dt, dp, t, rh, a, fix, between, poison)| Step {
             dt,
             dp,
             temperature_c: t,
             humidity_pct: rh,
             accel: a,
             fix,
+            between,
             poison,
         })
 }
 
-fn output_finite(o: &Output) -> bool {
+fn output_finite<S>(o: &Output<S>) -> bool {
     secs(o.time).is_finite()
         && o.altitude_m.is_finite()
         && o.raw_altitude_m.is_finite()
@@ -588,17 +599,54 @@ fn output_finite(o: &Output) -> bool {
         && o.tendency_hpa.is_none_or(f32::is_finite)
 }
 
-fn run_pipeline<const N: usize>(
-    settings: Settings,
-    p0: f32,
-    steps: &[Step],
-) -> Result<(), TestCaseError> {
-    let mut pipe = Pipeline::<N>::new(settings).unwrap();
-    let (lo, hi) = settings.pressure_range_pa;
-    let mut t = 1_000.0f64;
+/// What every use's settings share, as the run needs them.
+struct Limits {
+    min_pressure_pa: f32,
+    max_pressure_pa: f32,
+    max_gap_s: f32,
+}
+
+/// `Limits` of each use's settings.
+macro_rules! limits_from {
+    ($($settings:ty),*) => {$(
+        impl From<&$settings> for Limits {
+            fn from(s: &$settings) -> Self {
+                Limits {
+                    min_pressure_pa: s.min_pressure_pa,
+                    max_pressure_pa: s.max_pressure_pa,
+                    max_gap_s: s.max_gap_s,
+                }
+            }
+        }
+    )*};
+}
+limits_from!(DroneSettings, BalloonSettings, WalkSettings);
+
+/// Runs `steps` through `use_` from the pressure `p0`, checking each output. A clock
+/// fault is a step back or beyond `max_gap_s` after an accepted sample (not after a
+/// restart of the clock); a rejected sample, and a refused accelerometer sample, must
+/// leave the use equal to its clone from before.
+fn run_use<U>(mut use_: U, limits: &Limits, p0: f32, steps: &[Step]) -> Result<(), TestCaseError>
+where
+    U: Use + Clone + PartialEq + Debug,
+    U::State: Debug,
+{
+    let (lo, hi) = (limits.min_pressure_pa, limits.max_pressure_pa);
+    // after 2^32 ms (49.7 days) of uptime, so that a wrapped 32-bit counter can fall back
+    let mut t = 5.0e6f64;
     let mut p = p0.clamp(lo, hi);
-    let mut started = false;
+    // time of the last sample taken, if the clock still knows it
+    let mut last: Option<f64> = None;
     for (i, s) in steps.iter().enumerate() {
+        if let Some((frac, a)) = s.between {
+            let before = use_.clone();
+            if use_.accelerometer(at(t + frac * s.dt), a).is_err() {
+                prop_assert!(
+                    use_ == before,
+                    "step {i}: refused accelerometer sample changed the state"
+                );
+            }
+        }
         let mut sample = Sample {
             time: at(t + s.dt),
             pressure_pa: (p * (1.0 + s.dp)).clamp(lo, hi),
@@ -619,22 +667,35 @@ fn run_pipeline<const N: usize>(
             7 => sample.pressure_pa = f32::INFINITY,
             8 => sample.temperature_c = Some(f32::NAN), // optional channel: flagged only
             9 => sample.known_altitude_m = Some(f32::INFINITY),
+            // a raw 1 kHz u32 counter that wrapped: the stamp falls back by 2^32 ms (to
+            // the start of time at the most)
+            10 => {
+                sample.time = Instant::from_millis(sample.time.as_millis().saturating_sub(1 << 32))
+            }
+            // the clock restarted on purpose and said so: a stamp back without a fault
+            11 => {
+                use_.restart_clock();
+                last = None;
+                sample.time = at(t - 5.0);
+            }
             _ => {}
         }
-        // a repeated time is only wrong after a first accepted sample
-        let invalid = matches!(s.poison, 1 | 5..=7) || (started && s.poison == 3);
+        // a repeated time is only wrong after a sample taken
+        let repeated = last.is_some_and(|last| sample.time == at(last));
+        let invalid = matches!(s.poison, 1 | 5..=7) || repeated;
         // a step back, or forward beyond the settings' longest gap, starts a new time base
-        let clock_fault = started
-            && s.poison != 3
-            && sample
-                .time
-                .checked_duration_since(at(t))
-                .is_none_or(|d| d.as_secs_f32() > settings.max_gap_s);
-        let before = pipe.clone();
-        let out = pipe.process(&sample);
+        let clock_fault = last.is_some_and(|last| {
+            !repeated
+                && sample
+                    .time
+                    .checked_duration_since(at(last))
+                    .is_none_or(|d| d.as_secs_f32() > limits.max_gap_s)
+        });
+        let before = use_.clone();
+        let out = use_.process(&sample);
         if out.flags.rejected() {
             prop_assert!(
-                pipe == before,
+                use_ == before,
                 "step {i}: rejected sample {sample:?} changed the state"
             );
             prop_assert!(out.altitude_m.is_finite() && out.vertical_speed_mps.is_finite());
@@ -650,37 +711,236 @@ fn run_pipeline<const N: usize>(
             }
         } else {
             prop_assert!(!invalid, "step {i}: invalid sample {sample:?} accepted");
-            prop_assert_eq!(out.flags.contains(Flags::CLOCK_FAULT), clock_fault);
-            started = true;
+            prop_assert_eq!(
+                out.flags.contains(Flags::CLOCK_FAULT),
+                clock_fault,
+                "step {}: {:?} after {:?}",
+                i,
+                sample.time,
+                last
+            );
             prop_assert!(
                 output_finite(&out),
                 "step {i}: non-finite output {out:?} for {sample:?}"
             );
             t = secs(sample.time);
+            last = Some(t);
             p = sample.pressure_pa;
         }
     }
     Ok(())
 }
 
+/// Random Kalman settings (the validate check filters the few invalid ones).
+fn kalman_strategy() -> impl Strategy<Value = VerticalKalmanConfig> {
+    (
+        (0.02f32..3.0, 0.0f32..0.05, 0.0f32..0.01, 0.1f32..5.0),
+        (0.1f32..40.0, 0.05f32..1.0, 2.0f32..30.0, 1u16..20),
+        (0.05f32..40.0, 0.02f32..1.0, 0.2f32..120.0, any::<bool>()),
+    )
+        .prop_map(|(a, b, c)| VerticalKalmanConfig {
+            baro_sigma_m: a.0,
+            accel_noise_density: a.1,
+            bias_random_walk: a.2,
+            baro_only_accel_density: a.3,
+            initial_speed_sigma_mps: b.0,
+            initial_bias_sigma_mps2: b.1,
+            gate_nis: b.2,
+            reacquire_after: b.3,
+            max_step_s: c.0,
+            accel_timeout_s: c.1,
+            baro_timeout_s: c.2,
+            gain_reuse_tolerance: if c.3 { 0.01 } else { 0.0 },
+            ..VerticalKalmanConfig::DEFAULT
+        })
+        .prop_filter("valid Kalman settings", |k| k.validate().is_ok())
+}
+
+/// Random state thresholds (rest below the climb and descent speeds, burst above the
+/// descent speed).
+fn states_strategy() -> impl Strategy<Value = PhaseSettings> {
+    (
+        (0.02f32..3.0, 0.02f32..3.0, 0.1f32..60.0, 0.05f32..1.0),
+        (0.0f32..60.0, 0.0f32..10.0, 0.0f32..300.0, 0.0f32..900.0),
+    )
+        .prop_map(|(a, b)| PhaseSettings {
+            ascent_mps: a.0,
+            descent_mps: a.1,
+            burst_mps: a.1 + a.2,
+            rest_mps: a.3 * a.0.min(a.1),
+            debounce_s: b.0,
+            burst_debounce_s: b.1,
+            float_debounce_s: b.2,
+            landed_debounce_s: b.3,
+        })
+        .prop_filter("valid state thresholds", |s| s.validate().is_ok())
+}
+
+fn altimeter_strategy() -> impl Strategy<Value = AltimeterSetting> {
+    prop_oneof![
+        Just(AltimeterSetting::Standard),
+        (95_000.0f32..105_000.0).prop_map(|q| AltimeterSetting::SeaLevel { qnh: pa(q) }),
+        (60_000.0f32..105_000.0).prop_map(|q| AltimeterSetting::Field { qfe: pa(q) }),
+    ]
+}
+
+/// Random settings shared by the three: pressure range, noise, temperature
+/// uncertainty, fix time constant, longest gap (`gap` its range).
+fn common_strategy(
+    gap: std::ops::Range<f32>,
+) -> impl Strategy<Value = (f32, f32, f32, f32, f32, f32)> {
+    (
+        1_000.0f32..60_000.0,
+        100_000.0f32..110_000.0,
+        0.0f32..20.0,
+        0.0f32..10.0,
+        0.0f32..120.0,
+        gap,
+    )
+}
+
+fn drone_settings() -> impl Strategy<Value = DroneSettings> {
+    (
+        kalman_strategy(),
+        states_strategy(),
+        altimeter_strategy(),
+        (-400.0f32..4_000.0, 1u32..100, 0.05f32..30.0),
+        common_strategy(0.05..30.0),
+    )
+        .prop_map(
+            |(kalman, states, altimeter_setting, own, c)| DroneSettings {
+                kalman,
+                states,
+                altimeter_setting,
+                takeoff_altitude_m: own.0,
+                ground_samples: own.1,
+                totals_band_m: own.2,
+                min_pressure_pa: c.0,
+                max_pressure_pa: c.1,
+                pressure_noise_pa: c.2,
+                temperature_uncertainty_k: c.3,
+                fix_time_constant_s: c.4,
+                max_gap_s: c.5,
+            },
+        )
+        .prop_filter("valid drone settings", |s| s.validate().is_ok())
+}
+
+fn balloon_model_strategy() -> impl Strategy<Value = BalloonModel> {
+    prop_oneof![
+        any::<bool>().prop_map(|descent_on_profile| BalloonModel::Sounding { descent_on_profile }),
+        Just(BalloonModel::Standard),
+        model_strategy().prop_map(BalloonModel::Column),
+    ]
+}
+
+fn balloon_settings() -> impl Strategy<Value = BalloonSettings> {
+    (
+        balloon_model_strategy(),
+        kalman_strategy(),
+        states_strategy(),
+        (
+            prop::option::of(-300.0f32..4_000.0),
+            prop::option::of(-90.0f32..=90.0),
+            1u32..30,
+            0.05f32..60.0,
+        ),
+        common_strategy(0.5..3_000.0),
+    )
+        .prop_map(|(model, kalman, states, own, c)| BalloonSettings {
+            model,
+            kalman,
+            states,
+            launch_altitude_m: own.0,
+            latitude_deg: own.1,
+            ground_samples: own.2,
+            totals_band_m: own.3,
+            // the balloon's range may reach the top of the standard atmosphere
+            min_pressure_pa: c.0 / 1_000.0,
+            max_pressure_pa: c.1,
+            pressure_noise_pa: c.2,
+            temperature_uncertainty_k: c.3,
+            fix_time_constant_s: c.4,
+            max_gap_s: c.5,
+        })
+        .prop_filter("valid balloon settings", |s| s.validate().is_ok())
+}
+
+fn walk_settings() -> impl Strategy<Value = WalkSettings> {
+    (
+        (0.0f32..10.0, 0.5f32..10.0, 0.0f32..120.0),
+        states_strategy(),
+        altimeter_strategy(),
+        (
+            prop::option::of(-300.0f32..4_000.0),
+            1.0f32..100.0,
+            0.0f32..120.0,
+        ),
+        common_strategy(0.5..30_000.0),
+    )
+        .prop_map(
+            |(tracker, states, altimeter_setting, own, c)| WalkSettings {
+                tracker: HikeConfig {
+                    smoothing_time_constant_s: tracker.0,
+                    hysteresis_band_m: tracker.1,
+                    fix_time_constant_s: tracker.2,
+                    ..HikeConfig::DEFAULT
+                },
+                states,
+                altimeter_setting,
+                start_altitude_m: own.0,
+                spike_gate_m: own.1,
+                speed_time_constant_s: own.2,
+                min_pressure_pa: c.0,
+                max_pressure_pa: c.1,
+                pressure_noise_pa: c.2,
+                temperature_uncertainty_k: c.3,
+                fix_time_constant_s: c.4,
+                max_gap_s: c.5,
+            },
+        )
+        .prop_filter("valid walk settings", |s| s.validate().is_ok())
+}
+
 proptest! {
     #![proptest_config(cases(192))]
 
     #[test]
-    fn pipeline_drone_finite_and_rejections_inert(p0 in 70_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300)) {
-        run_pipeline::<2>(Settings::drone(), p0, &steps)?;
+    fn drone_finite_and_rejections_inert(p0 in 70_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300)) {
+        let s = DroneSettings::DEFAULT;
+        run_use(Drone::new(&s).unwrap(), &Limits::from(&s), p0, &steps)?;
     }
 
     #[test]
-    fn pipeline_hike_finite_and_rejections_inert(p0 in 50_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300)) {
-        run_pipeline::<2>(Settings::hike(), p0, &steps)?;
+    fn walk_finite_and_rejections_inert(p0 in 50_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300)) {
+        let s = WalkSettings::DEFAULT;
+        run_use(Walk::new(&s).unwrap(), &Limits::from(&s), p0, &steps)?;
     }
 
     #[test]
-    fn pipeline_balloon_finite_and_rejections_inert(p0 in 60_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300), lat in prop::option::of(-90.0f32..=90.0), start in prop::option::of(-300.0f32..4_000.0)) {
-        let mut s = Settings::balloon();
-        s.latitude_deg = lat;
-        s.start_altitude_m = start;
-        run_pipeline::<16>(s, p0, &steps)?;
+    fn balloon_finite_and_rejections_inert(p0 in 60_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..300), lat in prop::option::of(-90.0f32..=90.0), start in prop::option::of(-300.0f32..4_000.0)) {
+        let s = BalloonSettings { latitude_deg: lat, launch_altitude_m: start, ..BalloonSettings::DEFAULT };
+        run_use(Balloon::<16>::new(&s).unwrap(), &Limits::from(&s), p0, &steps)?;
+    }
+}
+
+proptest! {
+    #![proptest_config(cases(128))]
+
+    /// Random valid drone settings: `Drone::new` takes every settings value its
+    /// `validate` passes, and the properties above hold with them.
+    #[test]
+    fn drone_random_settings(s in drone_settings(), p0 in 70_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..200)) {
+        run_use(Drone::new(&s).unwrap(), &Limits::from(&s), p0, &steps)?;
+    }
+
+    #[test]
+    fn walk_random_settings(s in walk_settings(), p0 in 50_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..200)) {
+        run_use(Walk::new(&s).unwrap(), &Limits::from(&s), p0, &steps)?;
+    }
+
+    #[test]
+    fn balloon_random_settings(s in balloon_settings(), p0 in 60_000.0f32..105_000.0, steps in prop::collection::vec(step_strategy(), 1..200)) {
+        run_use(Balloon::<16>::new(&s).unwrap(), &Limits::from(&s), p0, &steps)?;
     }
 }
