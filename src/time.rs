@@ -114,31 +114,40 @@ impl Duration {
         self.micros
     }
 
-    /// The span in seconds, rounded once to the nearest `f32`.
+    /// The span in seconds as an `f32`.
     ///
-    /// Spans up to 4 295 s (a `u32` of microseconds) take the FPU's `u32` conversion,
-    /// one instruction on a Cortex-M4F; longer ones the library routine for `u64`.
-    /// Dividing by 10^6 (exact in `f32`) rounds correctly only once when the count is
-    /// exact in `f32` (below 2^24 us, 16.8 s); above, the result is within one unit in
-    /// the last place.
+    /// Spans up to 4 295 s (a `u32` of microseconds) are rounded once: the FPU's
+    /// `u32` conversion (one instruction on a Cortex-M4F), exact below 2^24 us
+    /// (16.8 s) and rounded once above, then a division by 10^6, exact in `f32`.
+    /// Longer spans are formed from the two 32-bit halves of the count (within two
+    /// units in the last place), so that no 64-bit floating-point routine is linked.
     pub fn as_secs_f32(self) -> f32 {
-        let count = match u32::try_from(self.micros) {
-            Ok(small) => small as f32,
-            Err(_) => self.micros as f32,
-        };
-        count / 1.0e6
+        match u32::try_from(self.micros) {
+            Ok(small) => small as f32 / 1.0e6,
+            Err(_) => {
+                let high = (self.micros >> 32) as u32;
+                let low = self.micros as u32;
+                (high as f32 * 4_294_967_296.0 + low as f32) / 1.0e6
+            }
+        }
     }
 
     /// The span `secs` seconds, rounded to the microsecond; `None` for a negative,
-    /// non-finite or too large value.
+    /// non-finite or too large value (beyond 4 294 967 295 s, 136 years). Whole
+    /// seconds and the fraction are converted apart, through `u32`, so that no 64-bit
+    /// floating-point routine is linked.
     pub fn from_secs_f32(secs: f32) -> Option<Self> {
-        // 1.8e13 s is beyond any span the library uses, and inside u64 microseconds
-        if secs.is_finite() && (0.0..=1.8e13).contains(&secs) {
-            // non-negative: adding a half and truncating rounds to nearest
-            Some(Self::from_micros((secs * 1.0e6 + 0.5) as u64))
-        } else {
-            None
+        // 4.294 967e9 is the largest f32 below 2^32
+        if !(0.0..=4.294_967e9).contains(&secs) {
+            return None;
         }
+        let whole = secs as u32;
+        // the fraction is exact in f32 (Sterbenz); adding a half and truncating rounds
+        // it to the nearest microsecond
+        let fraction_us = ((secs - whole as f32) * 1.0e6 + 0.5) as u32;
+        Some(Self::from_micros(
+            u64::from(whole) * 1_000_000 + u64::from(fraction_us),
+        ))
     }
 }
 

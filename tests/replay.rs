@@ -13,10 +13,10 @@ mod replay_tool;
 mod sim;
 
 use clap::Parser;
-use isohypse::pipeline::{Estimator, HeightModel, Output, Settings};
 use replay_tool::{
     Cli, DEMOS, Replay, replay, run, run_one, settings_for, write_output, write_plot,
 };
+use replay_tool::{ModelArg, Output, PresetArg, Settings};
 
 fn demo(name: &str) -> (&'static str, Settings) {
     let (_, text, preset, lat, start) = DEMOS
@@ -24,19 +24,11 @@ fn demo(name: &str) -> (&'static str, Settings) {
         .copied()
         .find(|d| d.0 == name)
         .expect("demo exists");
-    let mut s = match preset {
-        replay_tool::PresetArg::Balloon => Settings::balloon(),
-        replay_tool::PresetArg::Drone => Settings::drone(),
-        replay_tool::PresetArg::Hike => Settings::hike(),
-    };
+    let mut s = Settings::preset(preset);
     s.latitude_deg = lat;
     if start.is_some() {
         s.start_altitude_m = start;
     }
-    s.pressure_range_pa = (
-        isohypse::atmosphere::US_1976.top_pressure_pa(),
-        isohypse::atmosphere::US_1976.bottom_pressure_pa(),
-    );
     (text, s)
 }
 
@@ -164,7 +156,7 @@ fn drone_demo_against_truth() {
     assert!(rms_h <= 0.05, "height RMS {rms_h}");
     assert!(rms_v <= 0.10, "speed RMS {rms_v}");
     let events: Vec<&str> = r.events.iter().map(|e| e.0.as_str()).collect();
-    assert_eq!(events, ["ascent", "float", "descent", "landed"]);
+    assert_eq!(events, ["climbing", "holding", "descending", "landed"]);
 }
 
 #[test]
@@ -228,8 +220,8 @@ fn pointwise_standard_output_is_pressure_altitude() {
     // shared/design.md file contract: --model standard --filter off, no start altitude:
     // altitude_m is the standard pressure altitude (U.S. 1976, geometric) of each row.
     let (text, mut settings) = demo("balloon");
-    settings.model = HeightModel::Standard;
-    settings.estimator = Estimator::Off;
+    settings.model = Some(ModelArg::Standard);
+    settings.pointwise = true;
     settings.start_altitude_m = None;
     let r = replay(text, settings, false).unwrap();
     for (row, o) in &r.outputs {
@@ -253,7 +245,7 @@ time_s,pressure_pa,temperature_c
 5,95000,10,7
 6,95020,10
 ";
-    let r = replay(log, Settings::hike(), false).unwrap();
+    let r = replay(log, Settings::preset(PresetArg::Hike), false).unwrap();
     assert_eq!(
         r.outputs.len(),
         2,
@@ -279,7 +271,7 @@ time_s,pressure_pa,temperature_c
     }
     assert_eq!(r.rejected.values().sum::<usize>(), 6);
     // --strict stops at the first bad row with exit code 2
-    let err = replay(log, Settings::hike(), true).unwrap_err();
+    let err = replay(log, Settings::preset(PresetArg::Hike), true).unwrap_err();
     assert_eq!(err.code(), 2);
     assert!(err.message().starts_with("line 4:"), "{}", err.message());
 }
@@ -294,7 +286,7 @@ fn unusable_files_fail_with_code_3() {
         "time_s,pressure_pa\n",
         "time_s,pressure_pa\nx,y\n",
     ] {
-        let err = replay(log, Settings::hike(), false).unwrap_err();
+        let err = replay(log, Settings::preset(PresetArg::Hike), false).unwrap_err();
         assert_eq!(err.code(), 3, "{log:?}: {}", err.message());
     }
 }
@@ -410,7 +402,7 @@ fn line_numbers_count_every_line_of_the_file() {
     for ending in ["\n", "\r\n", "\r"] {
         let mut text = lines.join(ending);
         text.push_str(ending);
-        let r = replay(&text, Settings::hike(), false).unwrap();
+        let r = replay(&text, Settings::preset(PresetArg::Hike), false).unwrap();
         let got: Vec<String> = r.messages.clone();
         assert_eq!(got.len(), 2, "{ending:?}: {got:?}");
         for (m, line) in got.iter().zip(&bad) {
@@ -423,7 +415,7 @@ fn line_numbers_count_every_line_of_the_file() {
         let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
         assert_eq!(times, [0.0, 2.0, 4.0], "{ending:?}");
         // --strict stops at the first bad row, with its line
-        let err = replay(&text, Settings::hike(), true).unwrap_err();
+        let err = replay(&text, Settings::preset(PresetArg::Hike), true).unwrap_err();
         assert_eq!(err.code(), 2);
         assert!(
             err.message().starts_with(&format!("line {}: ", bad[0])),
@@ -433,7 +425,9 @@ fn line_numbers_count_every_line_of_the_file() {
         // a byte order mark at the start changes nothing
         let with_bom = format!("\u{feff}{text}");
         assert_eq!(
-            replay(&with_bom, Settings::hike(), false).unwrap().messages,
+            replay(&with_bom, Settings::preset(PresetArg::Hike), false)
+                .unwrap()
+                .messages,
             got
         );
     }
@@ -444,7 +438,7 @@ fn unclosed_quote_rejects_only_its_own_line() {
     // Contract: a bad row is rejected whole, with a message naming its line, and the
     // rows after it are read as usual (an open quote must not swallow them).
     let log = "time_s,pressure_pa,note\n0,95000,\"ok, quoted\"\n1,\"95010,x\n2,95020,y\n3,95030,\"say \"\"hi\"\"\"\n";
-    let r = replay(log, Settings::hike(), false).unwrap();
+    let r = replay(log, Settings::preset(PresetArg::Hike), false).unwrap();
     let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
     assert_eq!(times, [0.0, 2.0, 3.0], "{:?}", r.messages);
     assert_eq!(r.messages.len(), 1);
@@ -472,7 +466,7 @@ fn repeated_column_names_are_refused() {
             "temperature_c",
         ),
     ] {
-        let err = replay(log, Settings::hike(), false).unwrap_err();
+        let err = replay(log, Settings::preset(PresetArg::Hike), false).unwrap_err();
         assert_eq!(err.code(), 3, "{log:?}");
         assert!(
             err.message().contains(&format!("'{name}'")) && err.message().contains("line 1"),
@@ -483,7 +477,7 @@ fn repeated_column_names_are_refused() {
     // unknown columns may repeat: they are not read
     let r = replay(
         "time_s,pressure_pa,note,note\n0,95000,a,b\n",
-        Settings::hike(),
+        Settings::preset(PresetArg::Hike),
         false,
     )
     .unwrap();
@@ -831,7 +825,7 @@ time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
 10,NaN,15,40,,
 11,95000,15,40,,1e999
 ";
-    let r = replay(log, Settings::hike(), false).unwrap();
+    let r = replay(log, Settings::preset(PresetArg::Hike), false).unwrap();
     let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
     assert_eq!(times, [0.0, 1.0, 2.0, 3.0], "{:?}", r.messages);
     // rows 1 to 3 read the same pressure as row 0; empty cells are no value
@@ -870,7 +864,7 @@ time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
     // is counted, not dropped silently
     let r = replay(
         "time_s,pressure_pa,accel_up_mps2,known_altitude_m\n0,95000,0,\n0.5,,0.1,700\n1,95010,0,\n",
-        Settings::drone(),
+        Settings::preset(PresetArg::Drone),
         false,
     )
     .unwrap();
@@ -893,8 +887,8 @@ fn bytes_that_are_not_utf8_spoil_only_their_rows() {
     let input_s = input.to_string_lossy().into_owned();
     let c = cli(&[&input_s, "--preset", "hike", "--quiet"]);
     run(&c).unwrap();
-    let table = std::fs::read_to_string(dir.join("log.csv.out.csv")).unwrap();
-    let summary = std::fs::read_to_string(dir.join("log.csv.summary.txt")).unwrap();
+    let table = std::fs::read_to_string(dir.join("log.out.csv")).unwrap();
+    let summary = std::fs::read_to_string(dir.join("log.summary.txt")).unwrap();
     let _ = std::fs::remove_dir_all(&dir);
     let times: Vec<&str> = table
         .lines()
@@ -915,7 +909,7 @@ fn unusable_files_say_why_and_list_their_bad_rows() {
     // itself must carry the messages; a header-only file says it has no data row.
     let err = replay(
         "time_s,pressure_pa\n0,abc\n# note\n1,-5\n",
-        Settings::hike(),
+        Settings::preset(PresetArg::Hike),
         false,
     )
     .unwrap_err();
@@ -924,7 +918,12 @@ fn unusable_files_say_why_and_list_their_bad_rows() {
     assert!(m.contains("2 of 2 data rows rejected"), "{m}");
     assert!(m.contains("line 2: pressure_pa is not a number"), "{m}");
     assert!(m.contains("line 4: pressure_pa must be positive"), "{m}");
-    let err = replay("# log 12\ntime_s,pressure_pa\n\n", Settings::hike(), false).unwrap_err();
+    let err = replay(
+        "# log 12\ntime_s,pressure_pa\n\n",
+        Settings::preset(PresetArg::Hike),
+        false,
+    )
+    .unwrap_err();
     assert_eq!(err.code(), 3);
     assert!(
         err.message()
@@ -932,19 +931,28 @@ fn unusable_files_say_why_and_list_their_bad_rows() {
         "{}",
         err.message()
     );
-    let err = replay("\u{feff}# only comments\n# here\n", Settings::hike(), false).unwrap_err();
+    let err = replay(
+        "\u{feff}# only comments\n# here\n",
+        Settings::preset(PresetArg::Hike),
+        false,
+    )
+    .unwrap_err();
     assert_eq!(err.code(), 3);
     assert!(err.message().contains("no header row"), "{}", err.message());
     // --strict: a bad row stops the run with 2, a flagged (valid) row does not
     assert_eq!(
-        replay("time_s,pressure_pa\n0,95000\n1,x\n", Settings::hike(), true)
-            .unwrap_err()
-            .code(),
+        replay(
+            "time_s,pressure_pa\n0,95000\n1,x\n",
+            Settings::preset(PresetArg::Hike),
+            true
+        )
+        .unwrap_err()
+        .code(),
         2
     );
     let r = replay(
         "time_s,pressure_pa\n0,0.1\n1,95000\n",
-        Settings::hike(),
+        Settings::preset(PresetArg::Hike),
         true,
     )
     .unwrap();

@@ -679,6 +679,33 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         self.predict_correct(time, step, accel_up_mps2, height, sigma_m)
     }
 
+    /// Starts the filter again from the barometer height `height` with 1-sigma
+    /// `sigma_m` taken at `time`, whatever its time was (after a clock fault, or a
+    /// stamp out of order): height at the sample, speed and bias forgotten, covariance
+    /// as at the first sample. The settings and the disturbance flag are kept, and the
+    /// counts of rejections and re-acquisitions go on. Errors, filter unchanged: those
+    /// of [`Self::correct_with_sigma`] for the height and sigma.
+    pub fn restart(
+        &mut self,
+        time: Instant,
+        height: Height,
+        sigma_m: f32,
+    ) -> Result<KalmanOutcome, Error> {
+        self.sample_variance(sigma_m)?;
+        let z = height.meters();
+        if z < self.config().min_height_m {
+            return Err(Error::BelowModelBottom);
+        }
+        if z > self.config().max_height_m {
+            return Err(Error::AboveModelTop);
+        }
+        let (rejected, reacquisitions) = (self.rejected, self.reacquisitions);
+        self.reset();
+        self.rejected = rejected;
+        self.reacquisitions = reacquisitions.saturating_add(1);
+        self.predict_and_correct(time, None, height, sigma_m).1
+    }
+
     /// The time of the filter's state: its latest barometer or accelerometer sample,
     /// `None` before any.
     pub fn time(&self) -> Option<Instant> {

@@ -114,6 +114,11 @@ impl Flags {
         self.0 & (Self::REJECTED_TIME.0 | Self::REJECTED_PRESSURE.0 | Self::REJECTED_MODEL.0) != 0
     }
 
+    /// Sets every bit of `other`.
+    pub fn insert(&mut self, other: Flags) {
+        self.0 |= other.0;
+    }
+
     pub(crate) fn set(&mut self, other: Flags) {
         self.0 |= other.0;
     }

@@ -336,7 +336,7 @@ pub(crate) struct KalmanSample {
 /// from this sample. Returns height, speed and height variance (`None` before the
 /// filter holds an estimate); `Err` if the filter refused the sample (state unchanged).
 pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
-    held: &mut VerticalKalman<C>,
+    k: &mut VerticalKalman<C>,
     sample: &KalmanSample,
     time: &TimeStep,
     flags: &mut Flags,
@@ -347,17 +347,12 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
         sigma_m,
         accel_mps2,
     } = *sample;
-    let mut fresh = None;
-    if time.fault || held.time().is_some_and(|filter_t| filter_t > t) {
-        let mut k = *held;
-        k.reset();
-        fresh = Some(k);
+    if time.fault || k.time().is_some_and(|filter_t| filter_t > t) {
+        // in place: the restart refuses before it changes anything
+        k.restart(t, raw, sigma_m).map_err(|_| ())?;
         flags.set(Flags::REACQUIRED);
+        return Ok(k.height_speed_variance());
     }
-    let k = match fresh.as_mut() {
-        Some(k) => k,
-        None => &mut *held,
-    };
     let (predicted, corrected) = k.predict_and_correct(t, accel_mps2, raw, sigma_m);
     if predicted.is_err() {
         flags.set(Flags::ACCEL_IGNORED);
@@ -368,11 +363,7 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
         Ok(_) => {}
         Err(_) => return Err(()),
     }
-    let estimate = k.height_speed_variance();
-    if let Some(k) = fresh {
-        *held = k;
-    }
-    Ok(estimate)
+    Ok(k.height_speed_variance())
 }
 
 /// The flight trackers: the state machine and the ascent and descent totals.

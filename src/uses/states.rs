@@ -132,3 +132,23 @@ impl WalkState {
         }
     }
 }
+
+impl From<Phase> for DroneState {
+    fn from(p: Phase) -> Self {
+        Self::from_phase(p)
+    }
+}
+
+impl From<Phase> for BalloonState {
+    fn from(p: Phase) -> Self {
+        Self::from_phase(p)
+    }
+}
+
+/// The walk's word for a state of the shared machine, without the rest detector's
+/// verdict (a level stretch reads [`WalkState::Level`]).
+impl From<Phase> for WalkState {
+    fn from(p: Phase) -> Self {
+        Self::from_phase(p, false)
+    }
+}

@@ -12,7 +12,8 @@
 //! sample carries the previous, finite, estimate forward) except the NaN the tool
 //! prints for "no value" (height, speed and sigma of a row before the first accepted
 //! one; a pointwise speed without a step), never infinite; and every rejected row has a
-//! message naming its line (unless the run stopped with `--strict`).
+//! message naming its line or is counted among those left off (unless the run stopped
+//! with `--strict`); at most 100 messages are kept, each cut short.
 #![no_main]
 
 #[allow(dead_code, unused_imports)]
@@ -64,8 +65,13 @@ fuzz_target!(|data: &[u8]| {
             let rejected: usize = run.rejected.values().sum();
             assert_eq!(
                 rejected,
-                run.messages.len(),
+                run.messages.len() + run.messages_left_off,
                 "a rejected row without a message"
+            );
+            assert!(run.messages.len() <= 100, "the kept messages are bounded");
+            assert!(
+                run.messages.iter().all(|m| m.len() < 1000),
+                "a message echoes its cell cut short"
             );
             assert!(run.messages.iter().all(|m| m.starts_with("line ")));
         }

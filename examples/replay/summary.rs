@@ -1,0 +1,164 @@
+//! What a run adds up to, gathered row by row in bounded memory, and the summary text.
+
+use std::collections::BTreeMap;
+use std::fmt::Write as _;
+
+use super::engine::Settings;
+
+use super::engine::{Point, dropout_step_s, flag_names, settings_line};
+use super::messages::Messages;
+use super::steps::Steps;
+
+/// A phase change: (phase, time s, height m).
+pub(crate) type Event = (String, f64, f32);
+
+/// Totals of a run.
+#[derive(Debug, Default, Clone)]
+pub(crate) struct Stats {
+    /// Data rows read (not comments, blank lines or the header).
+    pub(crate) data_rows: usize,
+    /// Output rows (rows with a pressure).
+    pub(crate) rows: usize,
+    pub(crate) accel_rows: usize,
+    /// Rejected rows by reason.
+    pub(crate) rejected: BTreeMap<&'static str, usize>,
+    pub(crate) messages: Messages,
+    pub(crate) flag_counts: BTreeMap<&'static str, usize>,
+    /// The first [`Stats::EVENTS`] phase changes.
+    pub(crate) events: Vec<Event>,
+    pub(crate) events_left_off: usize,
+    /// The highest accepted height: (time s, height m).
+    top: Option<(f64, f32)>,
+    /// The last output row.
+    last: Option<Point>,
+    steps: Steps,
+}
+
+impl Stats {
+    /// Phase changes kept for the summary and the plot.
+    pub(crate) const EVENTS: usize = 100;
+
+    /// Count one output row.
+    pub(crate) fn add(&mut self, p: &Point) {
+        self.rows += 1;
+        if p.flags != 0 {
+            for name in flag_names(p.flags) {
+                self.count_flag(name);
+            }
+        }
+        if let Some((phase, t, h)) = p.event {
+            if self.events.len() < Self::EVENTS {
+                self.events.push((phase.to_string(), t, h));
+            } else {
+                self.events_left_off += 1;
+            }
+        }
+        // the last of equal tops, as a maximum search over the whole log would give
+        if p.accepted
+            && self
+                .top
+                .is_none_or(|(_, h)| p.altitude_m.total_cmp(&h).is_ge())
+        {
+            self.top = Some((p.time_s, p.altitude_m));
+        }
+        self.last = Some(*p);
+        self.steps.add(p.time_s);
+    }
+
+    pub(crate) fn count_flag(&mut self, name: &'static str) {
+        *self.flag_counts.entry(name).or_default() += 1;
+    }
+
+    /// Rows rejected in all.
+    pub(crate) fn rejected_rows(&self) -> usize {
+        self.rejected.values().sum()
+    }
+}
+
+/// The summary: settings, row counts, top, totals, phases, notes and flag counts (the
+/// bad rows' messages are added by the caller).
+pub(crate) fn summary_text(name: &str, settings: &Settings, stats: &Stats) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "== {name} ==");
+    let _ = writeln!(s, "{}", settings_line(settings));
+    let _ = writeln!(
+        s,
+        "rows: {} barometer rows in output, {} accelerometer-only rows, {} rejected",
+        stats.rows,
+        stats.accel_rows,
+        stats.rejected_rows()
+    );
+    for (reason, n) in &stats.rejected {
+        let _ = writeln!(s, "  rejected ({reason}): {n}");
+    }
+    if let Some((t, h)) = stats.top {
+        let _ = writeln!(s, "top: {h:.1} m at t = {t:.1} s");
+    }
+    if let Some(last) = &stats.last {
+        totals(&mut s, last);
+    }
+    phases(&mut s, stats);
+    if let Some(note) = slow_log_note(settings, stats) {
+        let _ = writeln!(s, "{note}");
+    }
+    if !stats.flag_counts.is_empty() {
+        let list: Vec<String> = stats
+            .flag_counts
+            .iter()
+            .map(|(k, v)| format!("{k} {v}"))
+            .collect();
+        let _ = writeln!(s, "flags: {}", list.join(", "));
+    }
+    s
+}
+
+fn totals(s: &mut String, last: &Point) {
+    let _ = writeln!(
+        s,
+        "totals: ascent {:.1} m, descent {:.1} m; final height {}; final phase {}",
+        last.ascent_m,
+        last.descent_m,
+        if last.altitude_m.is_finite() {
+            format!("{:.1} m", last.altitude_m)
+        } else {
+            "none (no accepted sample)".to_string()
+        },
+        last.phase
+    );
+    if let Some(t) = last.tendency_hpa {
+        let _ = writeln!(s, "3-hour pressure tendency: {t:+.2} hPa");
+    }
+}
+
+fn phases(s: &mut String, stats: &Stats) {
+    if stats.events.is_empty() {
+        let _ = writeln!(s, "phases: no phase change");
+        return;
+    }
+    let _ = writeln!(s, "phases:");
+    for (phase, t, h) in &stats.events {
+        let _ = writeln!(s, "  {phase:<8} from t = {t:.1} s at {h:.1} m");
+    }
+    if stats.events_left_off > 0 {
+        let _ = writeln!(s, "  ... {} more phase changes", stats.events_left_off);
+    }
+}
+
+/// A note for a log whose barometer rows are further apart than the Kalman filter's
+/// dropout step (`VerticalKalmanConfig::max_step_s`: 0.5 s in the drone preset): each
+/// such step is a dropout, so (nearly) every sample re-acquires at its own measurement,
+/// and the height is unfiltered and the speed meaningless. The preset is the user's
+/// choice, so the run goes on; the note says why the output looks so. `None` when the
+/// median step is within the dropout step or there is no Kalman filter.
+pub(crate) fn slow_log_note(settings: &Settings, stats: &Stats) -> Option<String> {
+    let max_step_s = dropout_step_s(settings)?;
+    let median = stats.steps.median()?;
+    (median > f64::from(max_step_s)).then(|| {
+        format!(
+            "note: the median step between barometer rows is {median:.3} s, longer than this \
+             preset's dropout step ({max_step_s} s): the filter re-acquires at nearly every \
+             sample, so heights are unfiltered and speeds not estimated; a preset for slower \
+             logs (--preset balloon or hike) suits this log"
+        )
+    })
+}
