@@ -1117,3 +1117,362 @@ fn a_log_slower_than_the_dropout_step_is_noted() {
     let (_, summary) = run_quietly("slow-log-hike", &log_at(1.0, 60), &["--preset", "hike"]);
     assert!(!summary.contains("note: the median step"), "{summary}");
 }
+
+#[test]
+fn a_huge_cell_is_echoed_cut_short_and_control_bytes_escaped() {
+    // Contract (shared/design.md): messages are bounded; a cell is echoed cut short with
+    // non-printable bytes escaped. A 1 MB cell in a row shorter than the tool's line
+    // limit is read and refused with its start and length; control characters (ESC,
+    // BEL, NUL: a terminal acts on them) are shown as escapes, never raw.
+    let huge = "x".repeat(1_000_000);
+    let log = format!(
+        "time_s,pressure_pa,temperature_c\n0,95000,10\n1,{huge},10\n2,95010,\u{1b}[31m\u{7}\0\n3,95020,10\n"
+    );
+    let r = replay(&log, Settings::hike(), false).unwrap();
+    let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
+    assert_eq!(times, [0.0, 3.0], "{:?}", r.messages);
+    assert_eq!(r.messages.len(), 2);
+    let big = &r.messages[0];
+    assert_eq!(
+        *big,
+        format!(
+            "line 3: pressure_pa is not a number: '{}...' (1000000 bytes)",
+            "x".repeat(40)
+        )
+    );
+    let control = &r.messages[1];
+    assert!(
+        control.starts_with("line 4: temperature_c is not a number: '\\u{1b}[31m\\u{7}\\0'"),
+        "{control}"
+    );
+    for m in &r.messages {
+        assert!(m.len() < 200, "{} bytes", m.len());
+        assert!(!m.chars().any(char::is_control), "{m:?}");
+    }
+}
+
+#[test]
+fn a_line_of_100_megabytes_is_refused_without_being_kept() {
+    // A file without line ends (or a binary blob) must not be read into memory whole:
+    // a line over the tool's limit (1 MiB) is refused with its length and start, and
+    // the rows after it are read as usual. The 100 MB line is generated as it is read
+    // (std::io::repeat), so the test itself holds none of it either.
+    use std::io::Read;
+    let input = "time_s,pressure_pa\n0,95000\n"
+        .as_bytes()
+        .chain(std::io::repeat(b'7').take(100_000_000))
+        .chain("\n2,95010\n".as_bytes());
+    let mut times = Vec::new();
+    let stats = replay_tool::stream::stream(
+        std::io::BufReader::with_capacity(1 << 16, input),
+        Settings::hike(),
+        false,
+        &mut replay_tool::progress::Progress::none(),
+        &mut |row, _, _| {
+            times.push(row.time_s);
+            Ok(())
+        },
+    )
+    .unwrap();
+    assert_eq!(times, [0.0, 2.0]);
+    let kept = stats.messages.kept();
+    assert_eq!(kept.len(), 1);
+    assert_eq!(
+        kept[0],
+        format!(
+            "line 3: 100000000 bytes, more than the 1048576 a row may have; it starts '{}...'",
+            "7".repeat(40)
+        )
+    );
+    assert_eq!(stats.rejected.get("line too long"), Some(&1));
+}
+
+#[test]
+fn the_list_of_bad_rows_stops_at_a_hundred_with_a_count() {
+    // Contract: a long list of bad lines ends with a count. 1000 bad rows: the run keeps
+    // the first 100 messages, in file order, and counts the other 900; the summary file
+    // lists those 100 and says how many more there are; the terminal would show 20.
+    let mut log = String::from("time_s,pressure_pa\n");
+    for i in 0..2000u32 {
+        if i % 2 == 1 {
+            log.push_str(&format!("{i},bad\n"));
+        } else {
+            log.push_str(&format!("{i},{}\n", 95_000 + i));
+        }
+    }
+    let r = replay(&log, Settings::hike(), false).unwrap();
+    assert_eq!(r.rejected.values().sum::<usize>(), 1000);
+    assert_eq!((r.messages.len(), r.messages_left_off), (100, 900));
+    for (k, m) in r.messages.iter().enumerate() {
+        // the bad row i = 2k + 1 is on line i + 2 (line 1 is the header)
+        assert!(m.starts_with(&format!("line {}: ", 2 * k + 3)), "{m}");
+    }
+    let (_, _, summary) = run_hike_quietly("hundred", &log);
+    assert_eq!(summary.matches("is not a number").count(), 100, "{summary}");
+    assert!(summary.contains("  line 201: pressure_pa is not a number: 'bad'\n"));
+    assert!(!summary.contains("line 203:"));
+    assert!(
+        summary.contains("  ... 900 more bad rows (not listed)\n"),
+        "{summary}"
+    );
+    assert!(summary.contains("1000 rejected"), "{summary}");
+}
+
+#[test]
+fn an_absurd_number_near_the_top_gives_short_messages() {
+    // A 301-digit time near the top of a log: every row after it is not after it in
+    // time and is refused; each message shows the number in exponent form (1e300), not
+    // its 301 digits, the list stops at 100, and the summary stays small.
+    let mut log = String::from("time_s,pressure_pa\n0,95000\n");
+    log.push_str(&format!("1{},95000\n", "0".repeat(300)));
+    for i in 2..20_000 {
+        log.push_str(&format!("{i},95000\n"));
+    }
+    let r = replay(&log, Settings::hike(), false).unwrap();
+    assert_eq!(r.outputs.len(), 2);
+    assert_eq!(r.messages.len() + r.messages_left_off, 19_998);
+    assert_eq!(
+        r.messages[0],
+        "line 4: time_s 2 is not after the previous row's 1e300"
+    );
+    let (_, _, summary) = run_hike_quietly("absurd", &log);
+    println!("summary of the absurd log: {} bytes", summary.len());
+    assert!(summary.len() < 20_000, "{} bytes", summary.len());
+}
+
+/// The pixels of an SVG file rendered at its own size.
+fn render(svg: &[u8]) -> resvg::tiny_skia::Pixmap {
+    let tree = resvg::usvg::Tree::from_data(svg, &resvg::usvg::Options::default())
+        .expect("well-formed SVG");
+    let size = tree.size().to_int_size();
+    let mut pixmap = resvg::tiny_skia::Pixmap::new(size.width(), size.height()).unwrap();
+    resvg::render(
+        &tree,
+        resvg::tiny_skia::Transform::default(),
+        &mut pixmap.as_mut(),
+    );
+    pixmap
+}
+
+#[test]
+fn a_long_log_gives_a_small_plot_that_keeps_a_one_sample_spike() {
+    // Contract: the plot is reduced to what a screen can show: at most 3 MB of SVG for
+    // any length. 200 000 rows at a constant pressure with one sample at 90 000 Pa
+    // (about 450 m above the others: U.S. 1976 pressure altitudes of 95 000 and 90 000
+    // Pa, common practice for the size): the spike must still be drawn. Pointwise
+    // (--filter off) the filtered height is the row's own, so the blue line has it.
+    let spike_row = 123_457;
+    let mut log = String::from("time_s,pressure_pa\n");
+    for i in 0..200_000u32 {
+        let p = if i == spike_row { 90_000 } else { 95_000 };
+        log.push_str(&format!("{},{p}\n", f64::from(i) * 0.02));
+    }
+    let (table, svg, _) = run_in_scratch(
+        "long-plot",
+        &log,
+        &["--preset", "hike", "--filter", "off", "--model", "standard"],
+    );
+    assert_eq!(table.lines().count(), 200_001);
+    println!("SVG of 200 000 rows: {} bytes", svg.len());
+    assert!(svg.len() < 3_000_000, "{} bytes", svg.len());
+    // The height axis runs from the flat line (near the bottom of the upper panel,
+    // about y = 370 of 430) to the spike (near its top, about y = 60). Blue pixels
+    // (the filtered height) half way up can only be the spike's line, in a column or
+    // two.
+    let pixmap = render(&svg);
+    let width = pixmap.width() as usize;
+    let blue: Vec<(usize, usize)> = pixmap
+        .pixels()
+        .iter()
+        .enumerate()
+        .filter(|(_, p)| p.blue() > 180 && p.red() < 90 && p.green() < 90)
+        .map(|(k, _)| (k % width, k / width))
+        .collect();
+    let middle: Vec<usize> = blue
+        .iter()
+        .filter(|(_, y)| (150..=280).contains(y))
+        .map(|(x, _)| *x)
+        .collect();
+    let (lo, hi) = (
+        middle.iter().min().copied().unwrap_or(0),
+        middle.iter().max().copied().unwrap_or(0),
+    );
+    println!(
+        "spike: {} blue pixels half way up, x {lo}..={hi}",
+        middle.len()
+    );
+    assert!(middle.len() >= 100, "spike not drawn: {blue:?}");
+    assert!(hi - lo <= 4, "x {lo}..={hi}");
+    // at the spike's time: the time axis spans t = 0..3999.98 s over x = 80..990 (the
+    // 1000-pixel plot less its 10-pixel margins and the 70-pixel label area on the
+    // left), so t = 2469.14 s is at x = 80 + 910 * 2469.14 / 3999.98 = 641.7
+    assert!(
+        lo.abs_diff(641) <= 4 && hi.abs_diff(641) <= 4,
+        "x {lo}..={hi}"
+    );
+}
+
+#[test]
+fn the_envelope_keeps_every_extreme_and_stays_bounded() {
+    // The reduced plot data over times that grow from microseconds to days: the
+    // spans double as needed; the lowest and highest value of the whole series is
+    // kept exactly, the points are at most four per span, in time order.
+    use replay_tool::envelope::{BUCKETS, Envelope};
+    let mut envelope = Envelope::default();
+    let mut t = 0.0f64;
+    let (mut lo, mut hi) = (f64::MAX, f64::MIN);
+    for k in 0..300_000u32 {
+        t += 1e-6 * (1.0 + f64::from(k % 7)) * (1.0 + f64::from(k) / 1000.0);
+        let v = (f64::from(k) * 0.37).sin() * 100.0 + if k == 250_001 { 5000.0 } else { 0.0 };
+        let v = v as f32;
+        lo = lo.min(f64::from(v));
+        hi = hi.max(f64::from(v));
+        let output = isohypse::pipeline::Output {
+            time_s: t,
+            altitude_m: v,
+            raw_altitude_m: v,
+            vertical_speed_mps: v,
+            ascent_m: v,
+            ..Default::default()
+        };
+        envelope.add(&replay_tool::engine::point(&output));
+    }
+    assert_eq!(envelope.range(1), Some((lo, hi)));
+    let points: Vec<(f64, f64)> = envelope.points(1).collect();
+    assert!(points.len() <= 4 * BUCKETS, "{} points", points.len());
+    assert!(points.len() >= 2 * BUCKETS, "{} points", points.len());
+    assert!(points.windows(2).all(|w| w[0].0 <= w[1].0));
+    assert!(points.iter().any(|p| p.1 == hi));
+    assert_eq!(envelope.time_range().map(|r| r.1), Some(t));
+}
+
+#[test]
+fn numbers_are_written_as_the_standard_formatter_writes_them() {
+    // The table's hand-written number formatting against `format!` (`{}` and `{:.N}`)
+    // over values as logs hold them (times to 0.01 s, pressures to 0.1 Pa), random
+    // bit patterns and the edges (signs, zero, NaN, infinities, huge and tiny).
+    use replay_tool::numbers::{fixed, shortest_f32, shortest_f64};
+    let mut state = 0x2545_f491_4f6c_dd1du64;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        state
+    };
+    let mut f64s = vec![
+        0.0,
+        -0.0,
+        1e300,
+        1e-300,
+        0.1 + 0.2,
+        5e-324,
+        f64::MAX,
+        1e15,
+        1e-6,
+    ];
+    let mut f32s = vec![
+        0.0f32,
+        -0.0,
+        0.0625,
+        -0.0005,
+        1e30,
+        f32::MAX,
+        1e-3,
+        1e7,
+        0.02,
+    ];
+    f32s.extend([f32::NAN, f32::INFINITY, f32::NEG_INFINITY]);
+    for _ in 0..200_000 {
+        let r = next();
+        f64s.push((r % 10_000_000) as f64 * 0.01);
+        f64s.push(f64::from_bits(r));
+        f32s.push(((r >> 20) % 2_000_000) as f32 * 0.1);
+        f32s.push(f32::from_bits(r as u32));
+        f32s.push((r % 100_000) as f32 * 0.001 - 50.0);
+    }
+    let mut out = Vec::new();
+    for v in f64s {
+        out.clear();
+        shortest_f64(&mut out, v);
+        assert_eq!(String::from_utf8_lossy(&out), format!("{v}"), "{v:e}");
+    }
+    for v in f32s {
+        out.clear();
+        shortest_f32(&mut out, v);
+        assert_eq!(String::from_utf8_lossy(&out), format!("{v}"), "{v:e}");
+        for decimals in [2, 3] {
+            out.clear();
+            fixed(&mut out, v, decimals);
+            assert_eq!(
+                String::from_utf8_lossy(&out),
+                format!("{v:.*}", decimals as usize),
+                "{v:e}"
+            );
+        }
+    }
+}
+
+#[test]
+fn the_first_row_waits_for_its_step_only_so_long() {
+    // Pointwise, the first taken row shows the speed of the step after it, and so do
+    // the flagged rows between (they carry its speed forward). The rows wait in a
+    // buffer of at most 4096 rows: with 10 flagged rows between they get the speed;
+    // with 5000 the first row keeps NaN (no step within the buffer), not a guess.
+    // 0.1 Pa is above the top of U.S. 1976 (0.373 Pa, as cited at
+    // `atmosphere::US_1976`), so those rows are flagged.
+    for (between, speed_known) in [(10usize, true), (5000, false)] {
+        let mut log = String::from("time_s,pressure_pa\n0,95000\n");
+        for k in 0..between {
+            log.push_str(&format!("{},0.1\n", 1 + k));
+        }
+        log.push_str(&format!("{},94000\n", between + 1));
+        let (table, _) = run_quietly(
+            "first-step",
+            &log,
+            &["--preset", "hike", "--filter", "off", "--model", "standard"],
+        );
+        let out = &table[1..];
+        assert_eq!(out.len(), between + 2);
+        let last = num(&out[between + 1][3]);
+        assert!(last > 0.0, "{:?}", out[between + 1]);
+        let first = num(&out[0][3]);
+        if speed_known {
+            assert_eq!(first, last);
+            assert!(out[1..=between].iter().all(|r| num(&r[3]) == last));
+        } else {
+            assert!(first.is_nan(), "{:?}", out[0]);
+        }
+    }
+}
+
+#[test]
+fn progress_is_shown_only_to_a_terminal_and_not_when_quiet() {
+    use replay_tool::progress::wanted;
+    assert!(wanted(false, true));
+    assert!(!wanted(true, true));
+    assert!(!wanted(false, false));
+    assert!(!wanted(true, false));
+}
+
+#[test]
+fn output_files_are_named_after_the_input() {
+    // x.csv gives x.out.csv, x.svg and x.summary.txt beside it; an output that would
+    // overwrite the input is refused (exit code 1) and the input is left as it was.
+    let dir = scratch("names");
+    let input = dir.join("walk.csv");
+    let log = "time_s,pressure_pa\n0,95000\n1,95010\n";
+    std::fs::write(&input, log).unwrap();
+    let input_s = input.to_string_lossy().into_owned();
+    run(&cli(&[&input_s, "--preset", "hike", "--quiet"])).unwrap();
+    for name in ["walk.out.csv", "walk.svg", "walk.summary.txt"] {
+        assert!(dir.join(name).is_file(), "{name} missing");
+    }
+    assert!(!dir.join("walk.csv.out.csv").exists());
+    for option in ["--out", "--plot", "--summary"] {
+        let err = run(&cli(&[&input_s, "--quiet", option, &input_s])).unwrap_err();
+        assert_eq!(err.code(), 1, "{option}");
+        assert!(err.message().contains(option), "{}", err.message());
+        assert_eq!(std::fs::read_to_string(&input).unwrap(), log);
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}

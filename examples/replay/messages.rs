@@ -7,12 +7,23 @@
 /// length in bytes.
 pub(crate) const ECHO_CHARS: usize = 40;
 
-/// A cell (or any text from the input) as a message shows it: at most [`ECHO_CHARS`]
-/// characters, control and other non-printable characters escaped as Rust escapes them
-/// in debug text (`\t`, `\0`, `\u{1b}`), a backslash doubled so that an escape cannot
-/// be confused with the text. Bytes that are not UTF-8 were read as U+FFFD and stay so.
+/// A cell (or any text from the input) as a message shows it: its [`start`], and the
+/// length in bytes of a text that was cut.
 pub(crate) fn echo(text: &str) -> String {
-    let mut shown = String::new();
+    let shown = start(text);
+    if text.chars().nth(ECHO_CHARS).is_some() {
+        format!("{shown} ({} bytes)", text.len())
+    } else {
+        shown
+    }
+}
+
+/// The first [`ECHO_CHARS`] characters of `text` in quotes, with `...` if there are
+/// more; control and other non-printable characters escaped as Rust escapes them in
+/// debug text (`\t`, `\0`, `\u{1b}`), a backslash doubled so that an escape cannot be
+/// confused with the text. Bytes that are not UTF-8 were read as U+FFFD and stay so.
+pub(crate) fn start(text: &str) -> String {
+    let mut shown = String::from("'");
     let mut chars = text.chars();
     for c in chars.by_ref().take(ECHO_CHARS) {
         if c == '"' || c == '\'' {
@@ -22,10 +33,10 @@ pub(crate) fn echo(text: &str) -> String {
         }
     }
     if chars.next().is_some() {
-        format!("'{shown}...' ({} bytes)", text.len())
-    } else {
-        format!("'{shown}'")
+        shown.push_str("...");
     }
+    shown.push('\'');
+    shown
 }
 
 /// A number as a message shows it: the shortest text that reads back to it, or its

@@ -3,7 +3,7 @@
 
 use super::Failure;
 use super::lines::{Fields, Line, MAX_LINE_BYTES, split_fields};
-use super::messages::{echo, number};
+use super::messages::{echo, number, start};
 
 /// The columns read, by name; the first two are required.
 pub(crate) const COLUMNS: [&str; 6] = [
@@ -57,7 +57,7 @@ impl Header {
             return Err(Failure::NoRows(format!(
                 "line {n}: the header row is {} bytes long, more than the {MAX_LINE_BYTES} a row may have; it starts {}",
                 line.bytes,
-                echo(&line.text)
+                start(&line.text)
             )));
         }
         let names = split_fields(&line.text)
@@ -113,7 +113,7 @@ pub(crate) fn parse(
             detail: format!(
                 "{} bytes, more than the {MAX_LINE_BYTES} a row may have; it starts {}",
                 line.bytes,
-                echo(&line.text)
+                start(&line.text)
             ),
         });
     }
