@@ -1128,7 +1128,7 @@ fn a_huge_cell_is_echoed_cut_short_and_control_bytes_escaped() {
     let log = format!(
         "time_s,pressure_pa,temperature_c\n0,95000,10\n1,{huge},10\n2,95010,\u{1b}[31m\u{7}\0\n3,95020,10\n"
     );
-    let r = replay(&log, Settings::hike(), false).unwrap();
+    let r = replay(&log, Settings::preset(PresetArg::Hike), false).unwrap();
     let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
     assert_eq!(times, [0.0, 3.0], "{:?}", r.messages);
     assert_eq!(r.messages.len(), 2);
@@ -1165,7 +1165,7 @@ fn a_line_of_100_megabytes_is_refused_without_being_kept() {
     let mut times = Vec::new();
     let stats = replay_tool::stream::stream(
         std::io::BufReader::with_capacity(1 << 16, input),
-        Settings::hike(),
+        Settings::preset(PresetArg::Hike),
         false,
         &mut replay_tool::progress::Progress::none(),
         &mut |row, _, _| {
@@ -1200,7 +1200,7 @@ fn the_list_of_bad_rows_stops_at_a_hundred_with_a_count() {
             log.push_str(&format!("{i},{}\n", 95_000 + i));
         }
     }
-    let r = replay(&log, Settings::hike(), false).unwrap();
+    let r = replay(&log, Settings::preset(PresetArg::Hike), false).unwrap();
     assert_eq!(r.rejected.values().sum::<usize>(), 1000);
     assert_eq!((r.messages.len(), r.messages_left_off), (100, 900));
     for (k, m) in r.messages.iter().enumerate() {
@@ -1228,7 +1228,7 @@ fn an_absurd_number_near_the_top_gives_short_messages() {
     for i in 2..20_000 {
         log.push_str(&format!("{i},95000\n"));
     }
-    let r = replay(&log, Settings::hike(), false).unwrap();
+    let r = replay(&log, Settings::preset(PresetArg::Hike), false).unwrap();
     assert_eq!(r.outputs.len(), 2);
     assert_eq!(r.messages.len() + r.messages_left_off, 19_998);
     assert_eq!(
@@ -1327,15 +1327,20 @@ fn the_envelope_keeps_every_extreme_and_stays_bounded() {
         let v = v as f32;
         lo = lo.min(f64::from(v));
         hi = hi.max(f64::from(v));
-        let output = isohypse::pipeline::Output {
+        envelope.add(&replay_tool::engine::Point {
             time_s: t,
             altitude_m: v,
             raw_altitude_m: v,
             vertical_speed_mps: v,
+            altitude_sigma_m: 0.0,
+            phase: "ground",
+            event: None,
             ascent_m: v,
-            ..Default::default()
-        };
-        envelope.add(&replay_tool::engine::point(&output));
+            descent_m: 0.0,
+            tendency_hpa: None,
+            flags: 0,
+            accepted: true,
+        });
     }
     assert_eq!(envelope.range(1), Some((lo, hi)));
     let points: Vec<(f64, f64)> = envelope.points(1).collect();
