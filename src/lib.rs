@@ -3,66 +3,53 @@
 //! Height from pressure and temperature on microcontrollers: `#![no_std]`, no heap, no
 //! panics.
 //!
-//! ## Height in five lines
+//! ## One type per use
 //!
-//! Make a pipeline from a preset, feed it each reading, read the result. The same
-//! pipeline runs in the host replay tool (`examples/replay.rs`) and on the device.
+//! | you build | type | it returns each sample |
+//! | --- | --- | --- |
+//! | a balloon payload | [`uses::Balloon`] | height to 40 km integrated layer by layer, ascent rate, burst, descent on the stored profile |
+//! | a drone's height hold | [`uses::Drone`] | height above take-off and vertical speed, barometer and accelerometer fused |
+//! | a hiking device | [`uses::Walk`] | smoothed height, climb and descent totals, rests, pressure tendency |
 //!
-//! A drone: height above the take-off point and vertical speed, barometer fused with the
-//! accelerometer, outliers gated out.
-//!
-//! ```
-//! use isohypse::time::Instant;
-//! use isohypse::pipeline::{Pipeline, Sample, Settings};
-//! let mut drone = Pipeline::<2>::new(Settings::drone())?;
-//! let mut sample = Sample::pressure(Instant::ZERO, 97_700.0);
-//! sample.accel_up_mps2 = Some(0.0);
-//! let out = drone.process(&sample);
-//! assert!(out.accepted() && out.altitude_m.abs() < 0.1);
-//! drone.accelerometer(Instant::from_micros(5_000), 0.02)?; // IMU samples between barometer samples
-//! # Ok::<(), isohypse::Error>(())
-//! ```
-//!
-//! On a device, keep the settings out of RAM. Fixed at compile time (a type with the
-//! settings as a constant, [`pipeline::Fixed`]), they take no RAM at all and the
-//! compiler leaves out the code of the options they do not use; they also name the parts
-//! the pipeline holds ([`pipeline::parts`]), so an unused part takes no RAM. The drone
-//! pipeline is then 240 bytes of state and 7 988 bytes of flash on a Cortex-M4F, the
-//! hike pipeline 256 bytes (measured with the firmware; README). Borrowed from a
-//! `static` (`&'static Settings`), they can be chosen at run time, for a reference and
-//! every part in RAM and more flash (9 844 bytes). See [`pipeline::SettingsStore`].
+//! Each borrows its settings (`const` presets you can change field by field, kept in
+//! flash on a device), takes one [`uses::Sample`] per barometer reading stamped with an
+//! integer [`time::Instant`], and speaks its own words for its states. Time as firmware
+//! keeps it: a wrapping `u32` tick counter goes through [`time::WrappingTicks`]; a clock
+//! that steps back or jumps costs at most one sample.
 //!
 //! ```
 //! use isohypse::time::Instant;
-//! use isohypse::pipeline::{parts, Fixed, FixedSettings, Pipeline, Sample, Settings};
-//! struct Drone;
-//! impl FixedSettings for Drone {
-//!     const SETTINGS: Settings = Settings::drone();
-//!     type Parts = parts::Drone;
+//! use isohypse::uses::{Drone, DroneSettings, Sample};
+//! static SETTINGS: DroneSettings = DroneSettings::DEFAULT;
+//! let mut drone = Drone::new(&SETTINGS)?;
+//! for k in 0..50u64 {
+//!     let mut sample = Sample::pressure(Instant::from_millis(20 * k), 97_700.0);
+//!     sample.accel_up_mps2 = Some(0.0);
+//!     let out = drone.process(&sample);
+//!     assert!(out.accepted() && out.altitude_m.abs() < 0.1);
 //! }
-//! let mut drone = Pipeline::<2, Fixed<Drone>>::new(Fixed::new())?;
-//! assert!(drone.process(&Sample::pressure(Instant::ZERO, 97_700.0)).accepted());
-//!
-//! static HIKE: Settings = Settings::hike();
-//! let mut hike = Pipeline::<2, &'static Settings>::new(&HIKE)?;
-//! assert!(hike.process(&Sample::pressure(Instant::ZERO, 97_700.0)).accepted());
+//! // accelerometer samples between barometer samples
+//! drone.accelerometer(Instant::from_millis(985), 0.02)?;
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 //!
-//! A balloon: layer-by-layer sounding from the launch elevation with the launch latitude's
-//! gravity, flight phases, descent on the profile stored on the way up (here 256 levels).
+//! A balloon: layer-by-layer sounding from the launch elevation with the launch
+//! latitude's gravity, its states, and the descent on the profile stored on the way up
+//! (here 256 levels, checked at compile time to be at least 8).
 //!
 //! ```
 //! use isohypse::time::Instant;
-//! use isohypse::pipeline::{Pipeline, Sample, Settings};
-//! let mut settings = Settings::balloon();
-//! settings.start_altitude_m = Some(310.0);
-//! settings.latitude_deg = Some(64.2);
-//! let mut balloon = Pipeline::<256>::new(settings)?;
+//! use isohypse::uses::{Balloon, BalloonSettings, Sample};
+//! const FIELD: BalloonSettings = BalloonSettings {
+//!     launch_altitude_m: Some(310.0),
+//!     latitude_deg: Some(64.2),
+//!     ..BalloonSettings::DEFAULT
+//! };
+//! let mut balloon = Balloon::<256>::new(&FIELD)?;
 //! let out = balloon.process(&Sample {
 //!     time: Instant::ZERO,
 //!     pressure_pa: 97_300.0,
-//!     temperature_c: Some(24.5),
+//!     temperature_c: Some(24.5), // the air's, from a probe outside the box
 //!     humidity_pct: Some(70.0),
 //!     ..Sample::default()
 //! });
@@ -70,14 +57,14 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 //!
-//! A walking device: smoothed height, ascent and descent totals that ignore noise and
+//! A walking device: smoothed height, climb and descent totals that ignore noise and
 //! weather drift at rest, known-elevation fixes, the 3-hour pressure tendency.
 //!
 //! ```
 //! use isohypse::time::Instant;
-//! use isohypse::pipeline::{Pipeline, Sample, Settings};
-//! let mut hike = Pipeline::<2>::new(Settings::hike())?;
-//! let out = hike.process(&Sample {
+//! use isohypse::uses::{Sample, Walk, WalkSettings};
+//! let mut walk = Walk::new(&WalkSettings::DEFAULT)?;
+//! let out = walk.process(&Sample {
 //!     time: Instant::ZERO,
 //!     pressure_pa: 93_500.0,
 //!     known_altitude_m: Some(652.0), // the trailhead sign
@@ -88,14 +75,17 @@
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 //!
+//! Each use type writes its whole state into a fixed-size byte array and restores it
+//! (`snapshot`, `restore`), so that firmware can carry on after a brown-out.
+//!
 //! ## Where things live
 //!
 //! The crate is built in layers; each uses only those above it in this list.
 //!
-//! 1. **Units, errors, maths** — [`units`] ([`Pressure`], [`Temperature`], [`Height`],
-//!    [`VerticalSpeed`], [`RelativeHumidity`]: a value that exists is finite and
-//!    physical), [`Error`], and the maths backend (`libm` by default, `micromath` as an
-//!    option).
+//! 1. **Units, errors, maths, time** — [`units`] ([`Pressure`], [`Temperature`],
+//!    [`Height`], [`VerticalSpeed`], [`RelativeHumidity`]: a value that exists is
+//!    finite and physical), [`Error`], the maths backend (`libm` by default,
+//!    `micromath` as an option), and [`time`] (integer instants and durations).
 //! 2. **Physics** — [`atmosphere`] (U.S. Standard Atmosphere 1976 to 86 km and the ICAO /
 //!    ISO 2533 constant set, forward and inverse), [`geopotential`] (geometric <->
 //!    geopotential height, WGS-84 normal gravity), [`hypsometric`] (layer thickness and
@@ -108,12 +98,15 @@
 //!    stored profile, heights on it for the descent).
 //! 5. **Filters** — [`filter`] (median, moving average, one-pole, alpha-beta, a Kalman
 //!    filter for height, vertical speed and accelerometer bias, ground reference).
-//! 6. **Trackers** — [`flight`] (flight phases: ground, ascent, float, burst, descent,
-//!    landed) and [`track`] (walking devices: ascent/descent totals with hysteresis,
-//!    weather drift at rest, known-elevation fixes, 3-hour pressure tendency).
-//! 7. **Pipeline** — [`pipeline`] (one call per sample, presets for balloon, drone and
-//!    hike), and the optional `embedded-hal` sensor adapter (`sensor`, and `sensor_async`
-//!    with `embedded-hal-async`) and `defmt` formatting.
+//! 6. **Trackers** — [`flight`] (the state machine: ground, ascent, float, burst,
+//!    descent, landed) and [`track`] (walking devices: ascent/descent totals with
+//!    hysteresis, weather drift at rest, known-elevation fixes, 3-hour pressure
+//!    tendency).
+//! 7. **Uses** — [`uses`] (one type per use: [`uses::Drone`], [`uses::Balloon`],
+//!    [`uses::Walk`], and [`uses::Device`] to choose at run time), the optional
+//!    `embedded-hal` sensor drivers (`sensor`, `sensor_async` with
+//!    `embedded-hal-async`, and drivers for real parts in `parts`) and `defmt`
+//!    formatting.
 //!
 //! Every formula's documentation gives the equation and its published source.
 //!
@@ -154,14 +147,13 @@ mod math;
 pub mod model;
 #[cfg(feature = "embedded-hal")]
 pub mod parts;
-pub mod pipeline;
 #[cfg(feature = "embedded-hal")]
 #[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal")))]
 pub mod sensor;
 #[cfg(feature = "embedded-hal-async")]
 #[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal-async")))]
 pub mod sensor_async;
-pub(crate) mod snapshot;
+pub mod snapshot;
 pub mod sounding;
 pub mod time;
 pub mod track;

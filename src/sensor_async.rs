@@ -30,7 +30,7 @@
 //! #     }
 //! # }
 //! let walk = Walk::new(&WalkSettings::DEFAULT)?;
-//! let mut driver = AsyncSensorDriver::new(Steady, NoWait, drone);
+//! let mut driver = AsyncSensorDriver::new(Steady, NoWait, walk);
 //! // the executor's clock on a device; here one that steps a second a reading
 //! let mut s = 0;
 //! let mut clock = || {

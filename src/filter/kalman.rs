@@ -573,12 +573,6 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
 
     /// The filter has a time: it is initialised, or has remembered an accelerometer
     /// sample.
-    /// The filter's time is after `t` (an accelerometer sample stamped later than a
-    /// barometer sample that follows it: the pipeline then starts the filter again).
-    pub(crate) fn is_ahead_of(&self, t: Instant) -> bool {
-        self.has_time() && self.time > t
-    }
-
     fn has_time(&self) -> bool {
         self.bits.get(INITIALIZED) || self.accel_age_s.is_finite()
     }
@@ -717,7 +711,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
     /// when the barometer sample is refused, the accelerometer sample is not applied
     /// either. A refused accelerometer sample alone does not stop the barometer sample;
     /// its error is the first result.
-    pub(crate) fn predict_correct(
+    fn predict_correct(
         &mut self,
         t: Instant,
         step: Step,
@@ -918,15 +912,6 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         self.accepted_age_s = 0.0;
         self.consecutive_rejections = 0;
         Some(KalmanOutcome::Accepted { nis })
-    }
-
-    /// The step from the filter's time to `t`, reusing `known` (the step from the time
-    /// `known.0` to `t`) when the filter's time is that time.
-    pub(crate) fn step_reusing(&self, t: Instant, known: Option<(Instant, Step)>) -> Step {
-        match known {
-            Some((from, step)) if self.bits.get(INITIALIZED) && from == self.time => step,
-            _ => self.step_to(t),
-        }
     }
 
     fn correct_with_variance(

@@ -525,13 +525,11 @@ impl HikeState {
     }
 
     /// The totals counter.
-    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
     pub(crate) fn totals(&self) -> &AscentTotals {
         &self.totals
     }
 
     /// The 3-hour tendency, hPa (see [`PressureTendency::tendency_hpa`]).
-    #[cfg_attr(not(feature = "pipeline-hike"), allow(dead_code))]
     pub(crate) fn tendency_hpa(&self) -> Option<f32> {
         self.tendency.tendency_hpa()
     }
