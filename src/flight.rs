@@ -172,7 +172,8 @@ impl PhaseSettings {
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct FlightPhases<S = PhaseSettings> {
-    core: PhaseCore<S>,
+    settings: S,
+    core: PhaseCore,
     /// Time of the latest sample, s, if `has_time` (8 bytes and a flag, not the 16 of an
     /// `Option`).
     last_time: Instant,
@@ -183,17 +184,15 @@ pub struct FlightPhases<S = PhaseSettings> {
     has_time: bool,
 }
 
-/// The phase state machine without a clock: what a [`crate::pipeline::Pipeline`] keeps
-/// (it has the time of its last sample, and keeps the settings in its store). Each
-/// step is given the time since the previous sample; the most recent event keeps the
-/// hold it was confirmed with, so that its start time is the confirming sample's time
-/// minus that hold (the same arithmetic as [`FlightPhases`]). 24 bytes with settings
-/// fixed at compile time on 32-bit Arm. Crate-internal.
+/// The phase state machine without a clock or settings: what the use types keep (they
+/// have the time of their last sample, and the settings in their own). Each step is
+/// given the settings and the time since the previous sample; the most recent event
+/// keeps the hold it was confirmed with, so that its start time is the confirming
+/// sample's time minus that hold (the same arithmetic as [`FlightPhases`]). 24 bytes
+/// on 32-bit Arm. Crate-internal.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub(crate) struct PhaseCore<S> {
-    /// The settings, owned or borrowed (`&'static PhaseSettings` keeps them in flash).
-    settings: S,
+pub(crate) struct PhaseCore {
     /// Height (m) of the apex; minus infinity before there is one (sample heights are
     /// finite).
     apex_m: f32,
@@ -223,12 +222,11 @@ pub(crate) struct PhaseStep {
     pub(crate) apex: bool,
 }
 
-impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
-    /// A tracker on the ground. Errors: [`Error::InvalidSetting`].
-    pub(crate) fn new(settings: S) -> Result<Self, Error> {
-        settings.borrow().validate()?;
+impl PhaseCore {
+    /// A tracker on the ground for `settings`. Errors: [`Error::InvalidSetting`].
+    pub(crate) fn new(settings: &PhaseSettings) -> Result<Self, Error> {
+        settings.validate()?;
         Ok(Self {
-            settings,
             apex_m: f32::NEG_INFINITY,
             candidate: None,
             candidate_m: 0.0,
@@ -243,11 +241,6 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
     /// Current phase.
     pub(crate) fn phase(&self) -> Phase {
         self.phase
-    }
-
-    /// Settings in use.
-    pub(crate) fn settings(&self) -> &PhaseSettings {
-        self.settings.borrow()
     }
 
     /// Height of the apex, m, once there is one.
@@ -273,6 +266,7 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
     /// state unchanged: [`Error::NotFinite`].
     pub(crate) fn step(
         &mut self,
+        s: &PhaseSettings,
         dt: f32,
         height_m: f32,
         speed_mps: f32,
@@ -280,7 +274,6 @@ impl<S: Borrow<PhaseSettings>> PhaseCore<S> {
         if !(height_m.is_finite() && speed_mps.is_finite()) {
             return Err(Error::NotFinite);
         }
-        let s = self.settings.borrow();
         if self.phase == Phase::Burst {
             self.phase = Phase::Descent;
         }
@@ -365,7 +358,8 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
     /// tracker's state). Errors: [`Error::InvalidSetting`].
     pub fn new(settings: S) -> Result<Self, Error> {
         Ok(Self {
-            core: PhaseCore::new(settings)?,
+            core: PhaseCore::new(settings.borrow())?,
+            settings,
             last_time: Instant::ZERO,
             apex_time: Instant::ZERO,
             event_time: Instant::ZERO,
@@ -380,13 +374,13 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
 
     /// Settings in use.
     pub fn settings(&self) -> &PhaseSettings {
-        self.core.settings()
+        self.settings.borrow()
     }
 
     /// Replace the settings (validated first; the phase is kept).
     pub fn set_settings(&mut self, settings: S) -> Result<(), Error> {
         settings.borrow().validate()?;
-        self.core.settings = settings;
+        self.settings = settings;
         Ok(())
     }
 
@@ -419,7 +413,9 @@ impl<S: Borrow<PhaseSettings>> FlightPhases<S> {
         } else {
             0.0
         };
-        let step = self.core.step(dt, height_m, speed_mps)?;
+        let step = self
+            .core
+            .step(self.settings.borrow(), dt, height_m, speed_mps)?;
         self.last_time = time;
         self.has_time = true;
         if step.apex {
@@ -446,7 +442,7 @@ crate::snapshot::snap_enum!(Phase {
     Phase::Landed,
 });
 // the settings are not state: a snapshot is restored with the same settings
-crate::snapshot::snap_fields!(impl[S] PhaseCore<S> {
+crate::snapshot::snap_fields!(PhaseCore {
     apex_m,
     candidate,
     candidate_m,

@@ -198,7 +198,7 @@ pub struct Balloon<'a, const N: usize> {
     kalman: VerticalKalman<&'a VerticalKalmanConfig>,
     ground: Option<Ground>,
     offset: Offset,
-    track: FlightTrack<'a>,
+    track: FlightTrack,
     time: TimeBase,
     model: ModelState<N>,
     last_temperature: Option<Temperature>,
@@ -263,8 +263,8 @@ impl<'a, const N: usize> Balloon<'a, N> {
     /// The last output (a zeroed one before any sample).
     pub fn last_output(&self) -> Output<BalloonState> {
         let time = self.time.last().unwrap_or(Instant::ZERO);
-        let mut out = self.carry(time, self.last.flags);
-        if self.last.changed {
+        let mut out = self.carry(time, self.last.flags());
+        if self.last.changed() {
             out.change = change_at(&self.track.phases, time, BalloonState::from_phase);
         }
         out
@@ -336,7 +336,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
             && v.abs() < s.states.rest_mps
             && !flags.contains(Flags::OUTLIER)
             && !flags.contains(Flags::REACQUIRED);
-        let changed = self.track.step(time.dt_or_zero(), h, v);
+        let changed = self.track.step(&s.states, time.dt_or_zero(), h, v);
         self.commit_model(change);
         let mut offset = offset;
         if let (Some(g), Some(mut d)) = (self.ground.as_mut(), datum) {
@@ -350,14 +350,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
         if t.is_some() {
             self.last_temperature = t;
         }
-        self.last = Carried {
-            altitude_m: h,
-            raw_altitude_m: raw_m,
-            vertical_speed_mps: v,
-            altitude_sigma_m: sigma_m,
-            flags,
-            changed,
-        };
+        self.last = Carried::new(h, raw_m, v, sigma_m, flags, changed);
         let mut out = self.carry(sample.time, flags);
         if changed {
             out.change = change_at(&self.track.phases, sample.time, BalloonState::from_phase);

@@ -125,7 +125,7 @@ pub struct Drone<'a> {
     kalman: VerticalKalman<&'a VerticalKalmanConfig>,
     ground: Ground,
     offset: Offset,
-    track: FlightTrack<'a>,
+    track: FlightTrack,
     time: TimeBase,
     altimeter_setting: AltimeterSetting,
     last_pressure_pa: f32,
@@ -163,8 +163,8 @@ impl<'a> Drone<'a> {
     /// The last output (a zeroed one before any sample).
     pub fn last_output(&self) -> Output<DroneState> {
         let time = self.time.last().unwrap_or(Instant::ZERO);
-        let mut out = self.carry(time, self.last.flags);
-        if self.last.changed {
+        let mut out = self.carry(time, self.last.flags());
+        if self.last.changed() {
             out.change = change_at(&self.track.phases, time, DroneState::from_phase);
         }
         out
@@ -287,21 +287,14 @@ impl<'a> Drone<'a> {
             && v.abs() < s.states.rest_mps
             && !flags.contains(Flags::OUTLIER)
             && !flags.contains(Flags::REACQUIRED);
-        let changed = self.track.step(time.dt_or_zero(), h, v);
+        let changed = self.track.step(&s.states, time.dt_or_zero(), h, v);
         let dt = time.dt_or_zero();
         self.ground
             .commit(&mut datum, at_rest.then_some(model_m), dt, sample.time);
         self.offset = datum.offset;
         self.time.commit(sample.time);
         self.last_pressure_pa = inputs.pressure.pa();
-        self.last = Carried {
-            altitude_m: h,
-            raw_altitude_m: raw_m,
-            vertical_speed_mps: v,
-            altitude_sigma_m: sigma_m,
-            flags,
-            changed,
-        };
+        self.last = Carried::new(h, raw_m, v, sigma_m, flags, changed);
         let mut out = self.carry(sample.time, flags);
         if changed {
             out.change = change_at(&self.track.phases, sample.time, DroneState::from_phase);
@@ -374,3 +367,7 @@ impl Use for Drone<'_> {
         Drone::restart_clock(self)
     }
 }
+
+// The design's goal for a drone's state on 32-bit cores, checked by every such build.
+#[cfg(target_pointer_width = "32")]
+const _: () = assert!(core::mem::size_of::<Drone<'static>>() <= 256);

@@ -56,10 +56,21 @@ pub(crate) fn check_common(
 }
 
 /// The time of the last sample taken.
-#[derive(Debug, Clone, Copy, PartialEq, Default)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct TimeBase {
-    last: Option<Instant>,
+    /// The last sample's time; [`NO_TIME`] before any (an `Option` would take 16
+    /// bytes with its tag; the sentinel is 584 542 years after any epoch).
+    last: Instant,
+}
+
+/// The time base's "no sample yet".
+const NO_TIME: Instant = Instant::from_micros(u64::MAX);
+
+impl Default for TimeBase {
+    fn default() -> Self {
+        Self { last: NO_TIME }
+    }
 }
 
 /// What the clock did between the last sample taken and this one.
@@ -83,7 +94,7 @@ impl TimeBase {
     /// The step to `t`. A repeated stamp is refused ([`Flags::REJECTED_TIME`]); a step
     /// back or beyond `max_gap_s` is a clock fault that starts a new time base.
     pub fn step(&self, t: Instant, max_gap_s: f32) -> Result<TimeStep, Flags> {
-        match self.last.map(|last| step_between(last, t)) {
+        match self.last().map(|last| step_between(last, t)) {
             None => Ok(TimeStep {
                 dt: None,
                 fault: false,
@@ -103,7 +114,7 @@ impl TimeBase {
     /// Whether an accelerometer stamp `t` is within `max_gap_s` of the last sample
     /// taken. Errors: [`Error::TimeJump`].
     pub fn check_ahead(&self, t: Instant, max_gap_s: f32) -> Result<(), Error> {
-        match self.last.map(|last| step_between(last, t)) {
+        match self.last().map(|last| step_between(last, t)) {
             Some(Step::Later(dt)) if dt > max_gap_s => Err(Error::TimeJump),
             _ => Ok(()),
         }
@@ -111,17 +122,18 @@ impl TimeBase {
 
     /// The last sample taken.
     pub fn last(&self) -> Option<Instant> {
-        self.last
+        (self.last != NO_TIME).then_some(self.last)
     }
 
-    /// Takes `t` as the last sample's time.
+    /// Takes `t` as the last sample's time (a sample at the very end of time leaves
+    /// the next one without a step, as a first one).
     pub fn commit(&mut self, t: Instant) {
-        self.last = Some(t);
+        self.last = t;
     }
 
     /// Forgets the time base (a known clock restart).
     pub fn forget(&mut self) {
-        self.last = None;
+        self.last = NO_TIME;
     }
 }
 
@@ -369,14 +381,14 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
 /// The flight trackers: the state machine and the ascent and descent totals.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub(crate) struct FlightTrack<'a> {
-    pub phases: PhaseCore<&'a PhaseSettings>,
+pub(crate) struct FlightTrack {
+    pub phases: PhaseCore,
     pub totals: AscentTotals,
 }
 
-impl<'a> FlightTrack<'a> {
+impl FlightTrack {
     /// Trackers with the thresholds `phases` and the totals' band `band_m`.
-    pub fn new(phases: &'a PhaseSettings, band_m: f32) -> Result<Self, Error> {
+    pub fn new(phases: &PhaseSettings, band_m: f32) -> Result<Self, Error> {
         Ok(Self {
             phases: PhaseCore::new(phases)?,
             totals: AscentTotals::new(band_m)?,
@@ -386,11 +398,11 @@ impl<'a> FlightTrack<'a> {
     /// One sample taken: `dt` seconds after the last, height `h_m`, speed `v_mps`.
     /// Returns whether a state change was confirmed. It cannot fail on finite input;
     /// if it did, the state machine would keep its state (it is atomic on error).
-    pub fn step(&mut self, dt: f32, h_m: f32, v_mps: f32) -> bool {
+    pub fn step(&mut self, s: &PhaseSettings, dt: f32, h_m: f32, v_mps: f32) -> bool {
         if let Ok(h) = Height::from_meters(h_m) {
             self.totals.update(h);
         }
-        matches!(self.phases.step(dt, h_m, v_mps), Ok(s) if s.event)
+        matches!(self.phases.step(s, dt, h_m, v_mps), Ok(step) if step.event)
     }
 
     /// The state now.
@@ -407,13 +419,45 @@ pub(crate) struct Carried {
     pub raw_altitude_m: f32,
     pub vertical_speed_mps: f32,
     pub altitude_sigma_m: f32,
-    /// The last output's flags.
+    /// The last output's flags, and in bit 31 ([`CHANGED`]) whether the last sample
+    /// confirmed a state change (one word for both: the state stays within 256 bytes).
     pub flags: Flags,
-    /// The last sample confirmed a state change.
-    pub changed: bool,
 }
 
+/// The bit of [`Carried::flags`] that says the last sample confirmed a change (no
+/// output flag uses it).
+const CHANGED: u32 = 1 << 31;
+
 impl Carried {
+    /// The last values: the output's `h`, `raw`, `v`, `sigma`, its flags, and whether
+    /// it confirmed a state change.
+    pub fn new(h: f32, raw: f32, v: f32, sigma: f32, flags: Flags, changed: bool) -> Self {
+        let changed = if changed { CHANGED } else { 0 };
+        Carried {
+            altitude_m: h,
+            raw_altitude_m: raw,
+            vertical_speed_mps: v,
+            altitude_sigma_m: sigma,
+            flags: Flags(flags.0 | changed),
+        }
+    }
+
+    /// The last output's flags.
+    pub fn flags(&self) -> Flags {
+        Flags(self.flags.0 & !CHANGED)
+    }
+
+    /// Whether the last sample confirmed a state change.
+    pub fn changed(&self) -> bool {
+        self.flags.0 & CHANGED != 0
+    }
+
+    /// Keeps `flags` as the last output's, which confirmed no change (a sample held
+    /// back).
+    pub fn set_flags(&mut self, flags: Flags) {
+        self.flags = flags;
+    }
+
     /// The carried values as an output at `time` with `flags`.
     pub fn output<S>(
         &self,
@@ -440,7 +484,7 @@ impl Carried {
 
 /// The state change the phase core confirmed, as of `time`, in the use's words.
 pub(crate) fn change_at<S>(
-    phases: &PhaseCore<&PhaseSettings>,
+    phases: &PhaseCore,
     time: Instant,
     words: fn(Phase) -> S,
 ) -> Option<Change<S>> {
@@ -577,9 +621,8 @@ crate::snapshot::snap_fields!(Carried {
     vertical_speed_mps,
     altitude_sigma_m,
     flags,
-    changed,
 });
-crate::snapshot::snap_fields!(impl['a] FlightTrack<'a> { phases, totals });
+crate::snapshot::snap_fields!(FlightTrack { phases, totals });
 
 impl crate::snapshot::Blank for Ground {
     /// An empty reference (loading fills it).

@@ -117,8 +117,10 @@ pub struct Walk<'a> {
     settings: &'a WalkSettings,
     hike: HikeState,
     gate: SpikeGate,
-    phases: PhaseCore<&'a PhaseSettings>,
-    offset: Offset,
+    phases: PhaseCore,
+    /// Offset of the height after a change of the altimeter setting, m; it slews back
+    /// to 0 (the walk's own fixes live in its tracker).
+    offset_m: f32,
     time: TimeBase,
     altimeter_setting: AltimeterSetting,
     last_pressure_pa: f32,
@@ -134,7 +136,7 @@ impl<'a> Walk<'a> {
             hike: HikeState::new(&settings.tracker)?,
             gate: SpikeGate::new(),
             phases: PhaseCore::new(&settings.states)?,
-            offset: Offset::default(),
+            offset_m: 0.0,
             time: TimeBase::default(),
             altimeter_setting: settings.altimeter_setting,
             last_pressure_pa: 0.0,
@@ -149,7 +151,7 @@ impl<'a> Walk<'a> {
 
     /// The state now.
     pub fn state(&self) -> WalkState {
-        let resting = self.last.flags.contains(Flags::AT_REST);
+        let resting = self.last.flags().contains(Flags::AT_REST);
         WalkState::from_phase(self.phases.phase(), resting)
     }
 
@@ -166,8 +168,8 @@ impl<'a> Walk<'a> {
     /// The last output (a zeroed one before any sample).
     pub fn last_output(&self) -> Output<WalkState> {
         let time = self.time.last().unwrap_or(Instant::ZERO);
-        let mut out = self.carry(time, self.last.flags);
-        if self.last.changed {
+        let mut out = self.carry(time, self.last.flags());
+        if self.last.changed() {
             out.change = change_at(&self.phases, time, walk_words);
         }
         out
@@ -178,7 +180,7 @@ impl<'a> Walk<'a> {
     pub fn set_altimeter_setting(&mut self, setting: AltimeterSetting) -> Result<(), Error> {
         check_altimeter(setting)?;
         let change = altimeter_change_m(self.last_pressure_pa, self.altimeter_setting, setting)?;
-        self.offset.offset_m -= change;
+        self.offset_m -= change;
         self.altimeter_setting = setting;
         Ok(())
     }
@@ -214,7 +216,11 @@ impl<'a> Walk<'a> {
             return self.carry(sample.time, Flags::REJECTED_MODEL);
         };
         let column_k = inputs.temperature.unwrap_or(t_std).kelvin();
-        let offset = self.offset.slewed(time.dt, s.fix_time_constant_s);
+        let offset = Offset {
+            offset_m: self.offset_m,
+            target_m: 0.0,
+        }
+        .slewed(time.dt, s.fix_time_constant_s);
         let raw_m = model_m + offset.offset_m;
         if Height::from_meters(raw_m).is_err() || HikeState::check_pressure(&s.tracker, p).is_err()
         {
@@ -279,19 +285,13 @@ impl<'a> Walk<'a> {
         }
         let (noise, dk) = (s.pressure_noise_pa, s.temperature_uncertainty_k);
         let sigma_m = pointwise_sigma_m(noise, dk, p, column_k, raw_m);
-        let changed = matches!(self.phases.step(gap + held_back_s, h, v), Ok(x) if x.event);
+        let changed =
+            matches!(self.phases.step(&s.states, gap + held_back_s, h, v), Ok(x) if x.event);
         self.gate = gate;
-        self.offset = offset;
+        self.offset_m = offset.offset_m;
         self.time.commit(sample.time);
         self.last_pressure_pa = p.pa();
-        self.last = Carried {
-            altitude_m: h,
-            raw_altitude_m: raw_m,
-            vertical_speed_mps: v,
-            altitude_sigma_m: sigma_m,
-            flags,
-            changed,
-        };
+        self.last = Carried::new(h, raw_m, v, sigma_m, flags, changed);
         let mut out = self.carry(sample.time, flags);
         out.tendency_hpa = r.tendency_hpa;
         if changed {
@@ -307,8 +307,7 @@ impl<'a> Walk<'a> {
         self.gate.hold(gap);
         let out = self.carry(time, flags);
         self.time.commit(time);
-        self.last.flags = flags;
-        self.last.changed = false;
+        self.last.set_flags(flags);
         out
     }
 
@@ -323,7 +322,7 @@ crate::snapshot::snap_fields!(impl['a] Walk<'a> {
     hike,
     gate,
     phases,
-    offset,
+    offset_m,
     time,
     altimeter_setting,
     last_pressure_pa,
@@ -371,3 +370,7 @@ impl Use for Walk<'_> {
         Walk::restart_clock(self)
     }
 }
+
+// The design's goal for a walk's state on 32-bit cores, checked by every such build.
+#[cfg(target_pointer_width = "32")]
+const _: () = assert!(core::mem::size_of::<Walk<'static>>() <= 256);
