@@ -129,6 +129,16 @@ impl<R: BufRead> Lines<R> {
     }
 }
 
+/// `text` without blanks (Unicode white space) at either end; a field that starts and
+/// ends with a visible ASCII character, as nearly every one does, is returned as it is
+/// without a look at its characters.
+pub(crate) fn trim(text: &str) -> &str {
+    match (text.as_bytes().first(), text.as_bytes().last()) {
+        (Some(a), Some(b)) if a.is_ascii_graphic() && b.is_ascii_graphic() => text,
+        _ => text.trim(),
+    }
+}
+
 /// A line that holds no row: blank, or a comment (`#` after any blanks).
 pub(crate) fn is_comment_or_blank(line: &str) -> bool {
     let t = line.trim();
@@ -159,7 +169,7 @@ impl Fields {
         }
         let mut start = 0;
         for piece in line.split(',') {
-            let trimmed = piece.trim();
+            let trimmed = trim(piece);
             let offset = trimmed.as_ptr() as usize - piece.as_ptr() as usize;
             self.ranges
                 .push((start + offset, start + offset + trimmed.len()));

@@ -62,11 +62,17 @@ impl Messages {
     /// Messages kept; a run with more bad rows lists these and the count of the rest.
     pub(crate) const LIMIT: usize = 100;
 
-    pub(crate) fn push(&mut self, message: String) {
+    /// Count a message; keep it (written by `message`) if there is room.
+    pub(crate) fn push_with(&mut self, message: impl FnOnce() -> String) {
         self.total += 1;
         if self.kept.len() < Self::LIMIT {
-            self.kept.push(message);
+            self.kept.push(message());
         }
+    }
+
+    /// The next message would be kept.
+    pub(crate) fn wants_more(&self) -> bool {
+        self.kept.len() < Self::LIMIT
     }
 
     /// The kept messages, in the order of the file.

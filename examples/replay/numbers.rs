@@ -12,33 +12,57 @@ const PAIRS: &[u8; 200] = b"\
 
 /// Append `n / 10^decimals` with `decimals` (at most 12) digits after the point (none:
 /// no point).
-fn decimal(out: &mut Vec<u8>, negative: bool, mut n: u64, decimals: u32) {
-    if negative {
-        out.push(b'-');
-    }
-    // digits written from the end, two at a time; zeros before them as needed
-    let mut digits = [b'0'; 24];
-    let mut start = digits.len();
-    let mut put = |start: &mut usize, pair: &[u8]| {
-        *start -= pair.len();
-        if let Some(slot) = digits.get_mut(*start..*start + pair.len()) {
-            slot.copy_from_slice(pair);
+fn decimal(out: &mut Vec<u8>, negative: bool, n: u64, decimals: u32) {
+    let point = (decimals as usize).min(12);
+    let (whole, fraction) = match point {
+        // constant divisors for the table's own decimals: a multiplication each
+        0 => (n, 0),
+        2 => (n / 100, n % 100),
+        3 => (n / 1000, n % 1000),
+        _ => {
+            let scale = 10u64.pow(point as u32);
+            (n / scale, n % scale)
         }
     };
-    while n >= 100 {
+    let whole_digits = whole.checked_ilog10().map_or(1, |l| l as usize + 1);
+    let sign = usize::from(negative);
+    let dot = usize::from(point > 0);
+    let len = sign + whole_digits + dot + point;
+    // Room for the text, zeros, appended at a fixed size and cut back: a fixed-size
+    // copy compiles to a few moves, where a copy of each number's own length called
+    // `memcpy` (a tenth of the time per row).
+    let start = out.len();
+    out.extend_from_slice(&[b'0'; 40]);
+    out.truncate(start + len);
+    let Some(text) = out.get_mut(start..) else {
+        return;
+    };
+    let (head, tail) = text.split_at_mut(sign + whole_digits);
+    if let Some(minus) = head.first_mut().filter(|_| negative) {
+        *minus = b'-';
+    }
+    digits_into(head, whole);
+    if let Some((dot_slot, fraction_slot)) = tail.split_first_mut() {
+        *dot_slot = b'.';
+        digits_into(fraction_slot, fraction);
+    }
+}
+
+/// Write the digits of `n` at the end of `slot` (already zeros), two at a time.
+fn digits_into(slot: &mut [u8], mut n: u64) {
+    let mut end = slot.len();
+    while n >= 10 && end >= 2 {
         let k = (n % 100) as usize * 2;
         n /= 100;
-        put(&mut start, PAIRS.get(k..k + 2).unwrap_or(b"00"));
+        end -= 2;
+        if let (Some(to), Some(pair)) = (slot.get_mut(end..end + 2), PAIRS.get(k..k + 2)) {
+            to.copy_from_slice(pair);
+        }
     }
-    let k = n as usize * 2;
-    let head = PAIRS.get(k..k + 2).unwrap_or(b"00");
-    put(&mut start, if n >= 10 { head } else { &head[1..] });
-    let point = digits.len() - (decimals as usize).min(12);
-    let start = start.min(point - 1);
-    out.extend_from_slice(digits.get(start..point).unwrap_or(&[]));
-    if decimals > 0 {
-        out.push(b'.');
-        out.extend_from_slice(digits.get(point..).unwrap_or(&[]));
+    if n > 0 {
+        if let Some(last) = end.checked_sub(1).and_then(|i| slot.get_mut(i)) {
+            *last = b'0' + n as u8;
+        }
     }
 }
 
@@ -48,9 +72,8 @@ fn decimal(out: &mut Vec<u8>, negative: bool, mut n: u64, decimals: u32) {
 /// same digits.
 pub(crate) fn fixed(out: &mut Vec<u8>, v: f32, decimals: u32) {
     let decimals = decimals.min(3);
-    let scaled = (f64::from(v) * 10f64.powi(decimals as i32))
-        .abs()
-        .round_ties_even();
+    let scale = [1.0, 10.0, 100.0, 1000.0][decimals as usize];
+    let scaled = (f64::from(v) * scale).abs().round_ties_even();
     if !v.is_finite() || scaled >= 1e18 {
         let _ = write!(out, "{v:.*}", decimals as usize);
         return;

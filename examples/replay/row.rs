@@ -2,7 +2,7 @@
 //! that reject a row whole (each with the reason counted in the summary and a message).
 
 use super::Failure;
-use super::lines::{Fields, Line, MAX_LINE_BYTES, split_fields};
+use super::lines::{Fields, Line, MAX_LINE_BYTES, split_fields, trim};
 use super::messages::{echo, number, start};
 
 /// The columns read, by name; the first two are required.
@@ -89,7 +89,7 @@ impl Header {
 
 /// Parse an optional numeric cell; `Err` names the problem.
 pub(crate) fn cell(text: Option<&str>, name: &str) -> Result<Option<f64>, String> {
-    match text.map(str::trim) {
+    match text.map(trim) {
         None | Some("") => Ok(None),
         Some(t) => match t.parse::<f64>() {
             Ok(v) if v.is_finite() => Ok(Some(v)),
@@ -100,32 +100,37 @@ pub(crate) fn cell(text: Option<&str>, name: &str) -> Result<Option<f64>, String
 }
 
 /// Read one data line into a row, or say why it is rejected. `last_time` is the time
-/// of the last accepted row, which this row's time must be after.
+/// of the last accepted row, which this row's time must be after. Without `describe`
+/// the commonest rejections come without their text (a run that lists no more
+/// messages does not spend its time writing them).
 pub(crate) fn parse(
     line: &Line<'_>,
     header: &Header,
     fields: &mut Fields,
     last_time: Option<f64>,
+    describe: bool,
 ) -> Result<Row, Rejection> {
+    let reject = |reason, detail: &dyn Fn() -> String| Rejection {
+        reason,
+        detail: if describe { detail() } else { String::new() },
+    };
     if line.too_long() {
-        return Err(Rejection {
-            reason: "line too long",
-            detail: format!(
+        return Err(reject("line too long", &|| {
+            format!(
                 "{} bytes, more than the {MAX_LINE_BYTES} a row may have; it starts {}",
                 line.bytes,
                 start(&line.text)
-            ),
-        });
+            )
+        }));
     }
     let text: &str = &line.text;
     fields
         .split(text)
         .map_err(rejection("unterminated quote"))?;
     if fields.len() != header.width {
-        return Err(Rejection {
-            reason: "wrong number of fields",
-            detail: format!("{} fields, the header has {}", fields.len(), header.width),
-        });
+        return Err(reject("wrong number of fields", &|| {
+            format!("{} fields, the header has {}", fields.len(), header.width)
+        }));
     }
     let row = cells(line.number, text, header, fields).map_err(rejection("unparsable value"))?;
     if row.pressure_pa.is_none() && row.accel_up_mps2.is_none() {
@@ -135,11 +140,13 @@ pub(crate) fn parse(
         return Err(rejection("non-physical value")(problem));
     }
     if let Some(t) = last_time.filter(|t| row.time_s <= *t) {
-        return Err(rejection("time not increasing")(format!(
-            "time_s {} is not after the previous row's {}",
-            number(row.time_s),
-            number(t)
-        )));
+        return Err(reject("time not increasing", &|| {
+            format!(
+                "time_s {} is not after the previous row's {}",
+                number(row.time_s),
+                number(t)
+            )
+        }));
     }
     Ok(row)
 }

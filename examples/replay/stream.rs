@@ -54,15 +54,20 @@ pub(crate) fn stream(
             continue;
         }
         stats.data_rows += 1;
-        let row = match parse(&line, &header, &mut fields, last_time) {
+        let describe = strict || stats.messages.wants_more();
+        let row = match parse(&line, &header, &mut fields, last_time, describe) {
             Ok(row) => row,
             Err(r) => {
-                let message = format!("line {}: {}", line.number, r.detail);
                 *stats.rejected.entry(r.reason).or_default() += 1;
                 if strict {
-                    return Err(Failure::StrictRow(message));
+                    return Err(Failure::StrictRow(format!(
+                        "line {}: {}",
+                        line.number, r.detail
+                    )));
                 }
-                stats.messages.push(message);
+                stats
+                    .messages
+                    .push_with(|| format!("line {}: {}", line.number, r.detail));
                 continue;
             }
         };
@@ -165,6 +170,7 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
             Ok(())
         },
     )?;
+    let flag_counts = stats.flag_counts();
     let (messages, messages_left_off) = stats.messages.into_parts();
     Ok(Replay {
         outputs,
@@ -172,7 +178,7 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
         rejected: stats.rejected,
         messages,
         messages_left_off,
-        flag_counts: stats.flag_counts,
+        flag_counts,
         events: stats.events,
     })
 }

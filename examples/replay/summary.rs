@@ -23,7 +23,10 @@ pub(crate) struct Stats {
     /// Rejected rows by reason.
     pub(crate) rejected: BTreeMap<&'static str, usize>,
     pub(crate) messages: Messages,
-    pub(crate) flag_counts: BTreeMap<&'static str, usize>,
+    /// Output rows with each flag bit set.
+    flag_bits: [usize; 32],
+    /// Flags of accelerometer-only rows (no output row), by name.
+    other_flags: BTreeMap<&'static str, usize>,
     /// The first [`Stats::EVENTS`] phase changes.
     pub(crate) events: Vec<Event>,
     pub(crate) events_left_off: usize,
@@ -41,10 +44,12 @@ impl Stats {
     /// Count one output row.
     pub(crate) fn add(&mut self, p: &Point) {
         self.rows += 1;
-        if p.flags != 0 {
-            for name in flag_names(p.flags) {
-                self.count_flag(name);
+        let mut bits = p.flags;
+        while bits != 0 {
+            if let Some(n) = self.flag_bits.get_mut(bits.trailing_zeros() as usize) {
+                *n += 1;
             }
+            bits &= bits - 1;
         }
         if let Some((phase, t, h)) = p.event {
             if self.events.len() < Self::EVENTS {
@@ -65,8 +70,20 @@ impl Stats {
         self.steps.add(p.time_s);
     }
 
+    /// Count a flag of a row without output (an accelerometer-only row).
     pub(crate) fn count_flag(&mut self, name: &'static str) {
-        *self.flag_counts.entry(name).or_default() += 1;
+        *self.other_flags.entry(name).or_default() += 1;
+    }
+
+    /// Rows with each flag, by the flag's name (as in the output's `flags` column).
+    pub(crate) fn flag_counts(&self) -> BTreeMap<&'static str, usize> {
+        let mut counts = self.other_flags.clone();
+        for (bit, n) in (0..32).zip(self.flag_bits) {
+            for name in flag_names(1 << bit).filter(|_| n > 0) {
+                *counts.entry(name).or_default() += n;
+            }
+        }
+        counts
     }
 
     /// Rows rejected in all.
@@ -101,9 +118,9 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, stats: &Stats) -> St
     if let Some(note) = slow_log_note(settings, stats) {
         let _ = writeln!(s, "{note}");
     }
-    if !stats.flag_counts.is_empty() {
-        let list: Vec<String> = stats
-            .flag_counts
+    let flag_counts = stats.flag_counts();
+    if !flag_counts.is_empty() {
+        let list: Vec<String> = flag_counts
             .iter()
             .map(|(k, v)| format!("{k} {v}"))
             .collect();

@@ -21,6 +21,8 @@ pub(crate) struct Table {
     /// The temporary name, if the table is renamed at the end.
     part: Option<PathBuf>,
     line: Vec<u8>,
+    /// The last row's flag bits and their names as written (rows mostly share them).
+    flags: (u32, Vec<u8>),
 }
 
 impl Table {
@@ -39,6 +41,7 @@ impl Table {
             path: path.to_path_buf(),
             part,
             line: Vec::with_capacity(256),
+            flags: (0, Vec::new()),
         };
         writeln!(table.file, "{HEADER}").map_err(io_failure(path))?;
         Ok(table)
@@ -69,12 +72,12 @@ impl Table {
         line.push(b',');
         fixed(line, p.descent_m, 2);
         line.push(b',');
-        for (i, name) in flag_names(p.flags).enumerate() {
-            if i > 0 {
-                line.push(b'|');
-            }
-            line.extend_from_slice(name.as_bytes());
+        if self.flags.0 != p.flags {
+            self.flags.0 = p.flags;
+            let names: Vec<&str> = flag_names(p.flags).collect();
+            self.flags.1 = names.join("|").into_bytes();
         }
+        line.extend_from_slice(&self.flags.1);
         line.push(b'\n');
         self.file.write_all(line).map_err(io_failure(&self.path))
     }
