@@ -40,7 +40,7 @@ impl Progress {
         {
             let bar = ProgressBar::with_draw_target(Some(total), ProgressDrawTarget::hidden());
             if let Ok(style) = ProgressStyle::with_template(
-                "{elapsed_precise} [{bar:30}] {bytes}/{total_bytes} ({bytes_per_sec}, {eta} left) {msg}",
+                "replay [{bar:25}] {percent:>3}% of {total_bytes}, {msg}, {eta} left",
             ) {
                 bar.set_style(style.progress_chars("=> "));
             }
@@ -61,8 +61,8 @@ impl Progress {
             bar.set_draw_target(ProgressDrawTarget::stderr());
             self.drawn = true;
         }
-        bar.set_position(position);
         bar.set_message(format!("{rows} rows"));
+        bar.set_position(position);
     }
 
     /// Remove the indicator from the terminal.
