@@ -1,8 +1,7 @@
 //! Numbers for the output table, written exactly as the standard formatter writes them
-//! (`{}` and `{:.3}`), only faster: with the standard formatter, formatting is the largest part of the time per
-//! row. The
-//! standard formatter remains the fallback for every case these do not cover, and the
-//! tests compare both on many values.
+//! (`{}` and `{:.3}`), only faster: with the standard formatter, formatting is the
+//! largest part of the time per row. The standard formatter remains the fallback for
+//! every case these do not cover, and the tests compare both on many values.
 
 use std::io::Write as _;
 
