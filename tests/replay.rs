@@ -1481,3 +1481,34 @@ fn output_files_are_named_after_the_input() {
     }
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn a_run_stopped_by_strict_leaves_no_table() {
+    // The table is written as the log is read; a run that stops (--strict, exit 2)
+    // must not leave half a table, nor its temporary file, and an older table at that
+    // path stays as it was.
+    let dir = scratch("strict-table");
+    let input = dir.join("log.csv");
+    std::fs::write(
+        &input,
+        "time_s,pressure_pa\n0,95000\n1,95010\n2,bad\n3,95020\n",
+    )
+    .unwrap();
+    let input_s = input.to_string_lossy().into_owned();
+    let err = run(&cli(&[&input_s, "--preset", "hike", "--quiet", "--strict"])).unwrap_err();
+    assert_eq!(err.code(), 2);
+    assert!(err.message().starts_with("line 4: "), "{}", err.message());
+    assert!(!dir.join("log.out.csv").exists());
+    assert!(!dir.join("log.out.csv.part").exists());
+    std::fs::write(dir.join("log.out.csv"), "older table\n").unwrap();
+    assert!(run(&cli(&[&input_s, "--preset", "hike", "--quiet", "--strict"])).is_err());
+    assert_eq!(
+        std::fs::read_to_string(dir.join("log.out.csv")).unwrap(),
+        "older table\n"
+    );
+    // without --strict the run goes on and writes the table
+    run(&cli(&[&input_s, "--preset", "hike", "--quiet"])).unwrap();
+    let table = std::fs::read_to_string(dir.join("log.out.csv")).unwrap();
+    assert_eq!(table.lines().count(), 4, "{table}");
+    let _ = std::fs::remove_dir_all(&dir);
+}
