@@ -346,7 +346,15 @@ pub(crate) fn run_input(
         }
     };
     table.finish()?;
-    let listed = format!(" (listed in {})", files.summary.display());
+    let listed = if stats.messages.left_off() > 0 {
+        format!(
+            " (the first {} are listed in {})",
+            Messages::LIMIT,
+            files.summary.display()
+        )
+    } else {
+        format!(" (listed in {})", files.summary.display())
+    };
     if !cli.quiet {
         eprint!(
             "{}",

@@ -86,7 +86,7 @@ impl Messages {
     }
 
     /// The first `n` kept messages as lines starting with `indent`, then a line with the
-    /// count of the others, if any, and `where_` (e.g. "listed in x.summary.txt").
+    /// count of the others, if any, followed by `rest_note` (e.g. " (listed in x.txt)").
     pub(crate) fn lines(&self, n: usize, indent: &str, rest_note: &str) -> String {
         let mut text = String::new();
         for m in self.kept.iter().take(n) {
