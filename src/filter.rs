@@ -9,7 +9,7 @@
 //! | [`MovingAverage`] | mean of the last `N` samples | O(1) | `4 N + 36` bytes, padded to 8 (64-bit host) |
 //! | [`OnePole`] | first-order low-pass, cut-off in Hz, any time step | O(1) | 24 bytes |
 //! | [`AlphaBeta`] | height and vertical speed, fixed gains | O(1) | 32 bytes |
-//! | [`VerticalKalman`] | height, vertical speed, accelerometer bias | O(1) | 152 bytes (64-bit host) |
+//! | [`VerticalKalman`] | height, vertical speed, accelerometer bias | O(1) | 168 bytes (64-bit host) |
 //! | [`GroundReference`] | mean height at rest before take-off | O(1) | 40 bytes |
 //!
 //! # Time stamps

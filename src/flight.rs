@@ -243,6 +243,11 @@ impl PhaseCore {
         self.phase
     }
 
+    /// Height (m) where the most recent phase change's condition started to hold.
+    pub(crate) fn event_height_m(&self) -> Option<f32> {
+        self.event_phase.map(|_| self.event_m)
+    }
+
     /// Height of the apex, m, once there is one.
     pub(crate) fn apex_m(&self) -> Option<f32> {
         (self.apex_m > f32::NEG_INFINITY).then_some(self.apex_m)

@@ -623,7 +623,7 @@ fn state_sizes() {
         assert_eq!(size_of::<GroundReference>(), 40);
         assert_eq!(size_of::<MovingAverage<8>>(), 72);
         assert_eq!(size_of::<MovingAverage<5>>(), 56);
-        assert_eq!(size_of::<VerticalKalman>(), 152);
+        assert_eq!(size_of::<VerticalKalman>(), 168);
     }
 }
 

@@ -16,6 +16,8 @@ const REACQUIRE_PENDING: u8 = 16;
 /// The covariance has settled: the next barometer sample may reuse it (see
 /// [`VerticalKalmanConfig::gain_reuse_tolerance`]).
 const SETTLED: u8 = 32;
+/// The last barometer sample was rejected above the prediction (below when clear).
+const REJECTED_ABOVE: u8 = 64;
 /// The cycle in [`Reuse`] applied an accelerometer sample taken with the barometer
 /// sample (clear: the constant-velocity model).
 const REUSE_WITH_ACCEL: u8 = 64;
@@ -61,6 +63,13 @@ pub struct VerticalKalmanConfig {
     /// the measurement (>= 1). A real, sudden change is then followed within this many
     /// samples instead of being rejected for ever.
     pub reacquire_after: u16,
+    /// How long a run of rejections, all on the same side of the prediction, must last
+    /// before the filter takes it for a change of motion it did not predict (a burst,
+    /// a hard climb, a drop, or a prediction run away on an accelerometer shock) and
+    /// starts again from the run: height from its last sample, speed from its first and
+    /// last, s (> 0; at least two samples either way). Rejections on both sides
+    /// (spikes, noise) wait for `reacquire_after` instead.
+    pub follow_after_s: f32,
     /// Longest step integrated in one prediction, s (> 0). A longer gap is a dropout:
     /// the state is propagated over at most this step and the next barometer sample
     /// re-acquires. Must exceed the slowest normal sample interval.
@@ -133,6 +142,7 @@ impl VerticalKalmanConfig {
         initial_bias_sigma_mps2: 0.3,
         gate_nis: 10.83,
         reacquire_after: 10,
+        follow_after_s: 0.1,
         max_step_s: 0.5,
         accel_timeout_s: 0.1,
         baro_timeout_s: 1.0,
@@ -174,6 +184,7 @@ impl VerticalKalmanConfig {
             && pos(self.initial_bias_sigma_mps2)
             && pos(self.gate_nis)
             && self.reacquire_after >= 1
+            && pos(self.follow_after_s)
             && pos(self.max_step_s)
             && pos(self.accel_timeout_s)
             && pos(self.baro_timeout_s)
@@ -387,7 +398,7 @@ const MAX_VAR_BIAS: f32 = 1.0e2;
 /// # Cost
 ///
 /// O(1) per sample, no `exp` or `sqrt` (only in [`Self::estimate`]). State: see
-/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 152 bytes on a 64-bit
+/// `size_of::<VerticalKalman>()` (printed by the drone-hop test: 168 bytes on a 64-bit
 /// host, of which 64 are the configuration).
 ///
 /// ```
@@ -429,7 +440,15 @@ pub struct VerticalKalman<C = VerticalKalmanConfig> {
     /// `time` is a flag, not `accel_age_s == 0`: a step below the smallest normal
     /// `f32`, 1.2e-38 s, is later but adds 0 to the age.)
     bits: Bits,
+    /// The current run of rejections has samples on both sides of the prediction (a
+    /// byte of its own: `bits` is full; it fills what would be padding).
+    run_mixed: bool,
     consecutive_rejections: u16,
+    /// The first rejected barometer height of the current run, m, and `accepted_age_s`
+    /// at it (valid while `consecutive_rejections` > 0): the age grows with every step
+    /// until a sample is taken, so its growth since is the run's duration.
+    run_start_m: f32,
+    run_start_age_s: f32,
     rejected: u32,
     reacquisitions: u32,
     /// The latest accepted full cycle, for reuse once settled (flag `SETTLED`).
@@ -464,7 +483,10 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             accel_age_s: f32::INFINITY,
             accepted_age_s: 0.0,
             bits: Bits::NONE,
+            run_mixed: false,
             consecutive_rejections: 0,
+            run_start_m: 0.0,
+            run_start_age_s: 0.0,
             rejected: 0,
             reacquisitions: 0,
             reuse: Reuse::NONE,
@@ -1012,15 +1034,32 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         let mut rejected = self.rejected;
         // Written so that a NaN (impossible: S >= R > 0) would count as outside.
         let inside_gate = nis <= self.config().gate_nis;
+        // A run of rejections all on the same side of the prediction lasting
+        // `follow_after_s` is a change of motion the prediction missed: the filter
+        // follows it (see `VerticalKalmanConfig::follow_after_s`).
+        let mut same_side_run = false;
+        let mut mixed = false;
         if !reacquire && !inside_gate {
             rejected = rejected.saturating_add(1);
             consecutive = consecutive.saturating_add(1);
             outcome = KalmanOutcome::Rejected { nis };
-            if consecutive >= self.config().reacquire_after {
+            let same_side =
+                consecutive < 2 || ((y > 0.0) == self.bits.get(REJECTED_ABOVE) && !self.run_mixed);
+            let span = accepted_age - self.run_start_age_s;
+            same_side_run = same_side && consecutive >= 2;
+            let motion_change = same_side_run && span >= self.config().follow_after_s;
+            mixed = !same_side;
+            if consecutive >= self.config().reacquire_after || motion_change {
                 reacquire = true;
             }
         }
-        if reacquire {
+        // a run on one side, followed or long enough to re-acquire, starts again from
+        // the run; anything else from the last sample with the predicted speed
+        let span = accepted_age - self.run_start_age_s;
+        if reacquire && same_side_run && span > 0.0 {
+            core = self.two_point_start(&core, z, r, span);
+            outcome = KalmanOutcome::Reacquired;
+        } else if reacquire {
             core.h = z;
             core.p.hh = r;
             core.p.hv = 0.0;
@@ -1050,15 +1089,23 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             KalmanOutcome::Rejected { .. } => {
                 self.consecutive_rejections = consecutive;
                 self.accepted_age_s = accepted_age;
+                if consecutive == 1 {
+                    self.run_start_m = z;
+                    self.run_start_age_s = accepted_age;
+                }
+                self.bits.set(REJECTED_ABOVE, y > 0.0);
+                self.run_mixed = mixed;
             }
             KalmanOutcome::Reacquired => {
                 self.consecutive_rejections = 0;
+                self.run_mixed = false;
                 self.bits.set(REACQUIRE_PENDING, false);
                 self.reacquisitions = self.reacquisitions.saturating_add(1);
                 self.accepted_age_s = 0.0;
             }
             _ => {
                 self.consecutive_rejections = 0;
+                self.run_mixed = false;
                 self.accepted_age_s = 0.0;
                 if self.reuse_on() {
                     (
@@ -1070,6 +1117,32 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             }
         }
         Ok(outcome)
+    }
+
+    /// The state started again from two barometer heights `dt` seconds apart: the
+    /// first of the run of rejections and `z` (variance `r` each). Height `z`, speed their difference over
+    /// `dt`, with the covariance of that difference: `P_hh = r`, `P_hv = r / dt`,
+    /// `P_vv = 2 r / dt^2` (the two-point start of a constant-velocity filter; Bar-Shalom,
+    /// Li and Kirubarajan, *Estimation with Applications to Tracking and Navigation*,
+    /// 2001, sec. 5.5.3, from memory). The accelerometer bias of the `predicted` state
+    /// is kept, its variance raised back to the initial one and its correlations
+    /// dropped.
+    fn two_point_start(&self, predicted: &Core, z: f32, r: f32, dt: f32) -> Core {
+        let c = self.config();
+        let b0 = c.initial_bias_sigma_mps2 * c.initial_bias_sigma_mps2;
+        Core {
+            h: z,
+            v: (z - self.run_start_m) / dt,
+            b: predicted.b,
+            p: Covariance {
+                hh: r,
+                hv: r / dt,
+                hb: 0.0,
+                vv: 2.0 * r / (dt * dt),
+                vb: 0.0,
+                bb: math::at_least(predicted.p.bb, b0),
+            },
+        }
     }
 
     /// Mean and covariance propagated over `dt` (s); also whether `dt` was a dropout.
@@ -1277,7 +1350,10 @@ crate::snapshot::snap_fields!(impl[C] VerticalKalman<C> {
     accel_age_s,
     accepted_age_s,
     bits,
+    run_mixed,
     consecutive_rejections,
+    run_start_m,
+    run_start_age_s,
     rejected,
     reacquisitions,
     reuse,
@@ -1390,23 +1466,67 @@ mod tests {
     }
 
     #[test]
-    fn reacquires_after_consecutive_rejections() {
+    fn follows_a_change_after_a_run_on_the_same_side() {
+        // The vehicle drops at 100 m/s^2 (10 g) and the accelerometer, saturated or
+        // misaligned, reports nothing: a run of rejections below the prediction.
+        let drop = |s: f64| 100.0 - 50.0 * s * s;
+        for (follow_after_s, n) in [(0.01f32, 2usize), (0.09, 6)] {
+            let config = VerticalKalmanConfig {
+                follow_after_s,
+                ..VerticalKalmanConfig::default()
+            };
+            let mut kf = VerticalKalman::new(config).unwrap();
+            kf.correct(at(0.0), h(100.0)).unwrap();
+            let mut t = 0.0;
+            for k in 1..=400 {
+                t = k as f64 * 0.005;
+                kf.predict(at(t), 0.0).unwrap();
+                if k % 4 == 0 {
+                    kf.correct(at(t), h(100.0)).unwrap();
+                }
+            }
+            let mut outcomes = Vec::new();
+            let mut k = 0;
+            while !outcomes.contains(&KalmanOutcome::Reacquired) && k < 40 {
+                k += 1;
+                t += 0.02;
+                kf.predict(at(t), 0.0).unwrap();
+                let z = drop(0.02 * f64::from(k)) as f32;
+                outcomes.push(kf.correct(at(t), h(z)).unwrap());
+            }
+            let first = outcomes
+                .iter()
+                .position(|o| matches!(o, KalmanOutcome::Rejected { .. }))
+                .unwrap();
+            assert_eq!(outcomes.len(), first + n, "{follow_after_s}: {outcomes:?}");
+            // the speed is the run's mean: the fall's speed at its middle
+            let e = kf.estimate().unwrap();
+            let middle = 0.02 * (f64::from(k) - (n as f64 - 1.0) / 2.0);
+            let truth_v = -100.0 * middle;
+            let v = f64::from(e.vertical_speed.mps());
+            assert!(
+                (v - truth_v).abs() < 1.0,
+                "{follow_after_s}: {v} vs {truth_v}"
+            );
+            assert!((f64::from(e.height.meters()) - drop(0.02 * f64::from(k))).abs() < 0.01);
+        }
+    }
+
+    #[test]
+    fn spikes_on_alternate_sides_reacquire_after_the_configured_count() {
         let (mut kf, mut t) = settled();
         let n = kf.config().reacquire_after;
         let mut outcomes = [KalmanOutcome::Initialized; 16];
-        for o in outcomes.iter_mut() {
+        for (k, o) in outcomes.iter_mut().enumerate() {
             t += 0.02;
             kf.predict(at(t), 0.0).unwrap();
-            // A real 20 m step the accelerometer did not see (e.g. a changed datum).
-            *o = kf.correct(at(t), h(120.0)).unwrap();
+            let z = if k % 2 == 0 { 120.0 } else { 80.0 };
+            *o = kf.correct(at(t), h(z)).unwrap();
         }
         for o in &outcomes[..usize::from(n) - 1] {
-            assert!(matches!(o, KalmanOutcome::Rejected { .. }));
+            assert!(matches!(o, KalmanOutcome::Rejected { .. }), "{outcomes:?}");
         }
         assert_eq!(outcomes[usize::from(n) - 1], KalmanOutcome::Reacquired);
-        assert!(matches!(outcomes[15], KalmanOutcome::Accepted { .. }));
-        assert_eq!(kf.reacquisition_count(), 1);
-        assert!((kf.estimate().unwrap().height.meters() - 120.0).abs() < 1e-3);
     }
 
     #[test]

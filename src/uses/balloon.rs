@@ -86,6 +86,9 @@ impl BalloonSettings {
             accel_timeout_s: 0.5,
             baro_timeout_s: 60.0,
             reacquire_after: 5,
+            // a burst is followed after a second of samples below the prediction (its
+            // second sample at 1 Hz)
+            follow_after_s: 1.0,
             ..VerticalKalmanConfig::DEFAULT
         },
         states: PhaseSettings::BALLOON,
@@ -336,8 +339,15 @@ impl<'a, const N: usize> Balloon<'a, N> {
             && v.abs() < s.states.rest_mps
             && !flags.contains(Flags::OUTLIER)
             && !flags.contains(Flags::REACQUIRED);
-        let changed = self.track.step(&s.states, time.dt_or_zero(), h, v);
-        self.commit_model(change);
+        let measured = !flags.contains(Flags::OUTLIER);
+        let changed = self
+            .track
+            .step(&s.states, time.dt_or_zero(), (h, v), measured);
+        // a sample the filter gated out does not become a level of the sounding: the
+        // next one is integrated from the last level taken
+        if !flags.contains(Flags::OUTLIER) {
+            self.commit_model(&mut change);
+        }
         let mut offset = offset;
         if let (Some(g), Some(mut d)) = (self.ground.as_mut(), datum) {
             d.offset = offset;
@@ -358,16 +368,22 @@ impl<'a, const N: usize> Balloon<'a, N> {
         out
     }
 
-    fn commit_model(&mut self, change: ModelChange<N>) {
+    /// Applies the model's change. By reference: moved by value, the change (which can
+    /// hold a whole sounding) would be copied on every sample.
+    fn commit_model(&mut self, change: &mut ModelChange<N>) {
         match change {
             ModelChange::Keep => {}
-            ModelChange::Start(state) => self.model = state,
+            ModelChange::Start(_) => {
+                if let ModelChange::Start(state) = core::mem::replace(change, ModelChange::Keep) {
+                    self.model = state;
+                }
+            }
             ModelChange::Step(pending, descending) => {
                 if let ModelState::Sounding(s) = &mut self.model {
-                    if descending {
+                    if *descending {
                         s.set_recording(false);
                     }
-                    s.commit(pending);
+                    s.commit(*pending);
                 }
             }
         }

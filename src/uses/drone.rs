@@ -287,7 +287,10 @@ impl<'a> Drone<'a> {
             && v.abs() < s.states.rest_mps
             && !flags.contains(Flags::OUTLIER)
             && !flags.contains(Flags::REACQUIRED);
-        let changed = self.track.step(&s.states, time.dt_or_zero(), h, v);
+        let measured = !flags.contains(Flags::OUTLIER);
+        let changed = self
+            .track
+            .step(&s.states, time.dt_or_zero(), (h, v), measured);
         let dt = time.dt_or_zero();
         self.ground
             .commit(&mut datum, at_rest.then_some(model_m), dt, sample.time);

@@ -395,14 +395,35 @@ impl FlightTrack {
         })
     }
 
-    /// One sample taken: `dt` seconds after the last, height `h_m`, speed `v_mps`.
-    /// Returns whether a state change was confirmed. It cannot fail on finite input;
-    /// if it did, the state machine would keep its state (it is atomic on error).
-    pub fn step(&mut self, s: &PhaseSettings, dt: f32, h_m: f32, v_mps: f32) -> bool {
-        if let Ok(h) = Height::from_meters(h_m) {
-            self.totals.update(h);
+    /// One sample taken: `dt` seconds after the last, height `h_m`, speed `v_mps`;
+    /// `measured`: the height follows a barometer sample the estimator took (not a
+    /// prediction carried over a gated one, which the totals do not count). Returns
+    /// whether a state change was confirmed. It cannot fail on finite input; if it
+    /// did, the state machine would keep its state (it is atomic on error).
+    pub fn step(
+        &mut self,
+        s: &PhaseSettings,
+        dt: f32,
+        (h_m, v_mps): (f32, f32),
+        measured: bool,
+    ) -> bool {
+        let before = self.phases.phase();
+        let event = matches!(self.phases.step(s, dt, h_m, v_mps), Ok(step) if step.event);
+        // The totals count the flight: from the take-off (the height where the climb
+        // began, then this sample) until the landing; on the ground an accelerometer
+        // shock or a gust moves nothing.
+        let flying = |p: Phase| !matches!(p, Phase::Ground | Phase::Landed);
+        if measured && flying(self.phases.phase()) {
+            if !flying(before) {
+                if let Some(start) = self.phases.event_height_m() {
+                    self.totals.update(Height::from_finite_meters(start));
+                }
+            }
+            if let Ok(h) = Height::from_meters(h_m) {
+                self.totals.update(h);
+            }
         }
-        matches!(self.phases.step(s, dt, h_m, v_mps), Ok(step) if step.event)
+        event
     }
 
     /// The state now.

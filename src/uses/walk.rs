@@ -307,7 +307,9 @@ impl<'a> Walk<'a> {
         self.gate.hold(gap);
         let out = self.carry(time, flags);
         self.time.commit(time);
-        self.last.set_flags(flags);
+        // the rest verdict stands until a sample is taken
+        let resting = self.last.flags().0 & Flags::AT_REST.0;
+        self.last.set_flags(Flags(flags.0 | resting));
         out
     }
 
