@@ -4,7 +4,7 @@
 # any input crashed. Exit status: 0 if nothing crashed; 1 on a crash or a build failure.
 #
 #   .ci/fuzz.sh                  # all targets, 30 s each
-#   FUZZ_SECONDS=600 .ci/fuzz.sh pipeline
+#   FUZZ_SECONDS=600 .ci/fuzz.sh uses
 #
 # Needs a nightly toolchain (libFuzzer instrumentation) and cargo-fuzz; installs both if
 # missing. The ONLY case in which it skips (exit 0 with a message) is a machine where
@@ -20,7 +20,7 @@ seconds="${FUZZ_SECONDS:-30}"
 seed="${FUZZ_SEED:-1}"
 targets=("$@")
 if [ ${#targets[@]} -eq 0 ]; then
-    targets=(pipeline replay_csv)
+    targets=(uses replay_csv)
 fi
 
 if ! cargo +nightly --version >/dev/null 2>&1; then

@@ -133,13 +133,18 @@ impl Noise {
     }
 }
 
+/// `t` in seconds since the demo's epoch, for the host's f64 demo maths.
+fn seconds(t: isohypse::time::Instant) -> f64 {
+    t.as_micros() as f64 / 1.0e6
+}
+
 /// Standard-atmosphere troposphere pressure at geometric height `h_m` (demo data only;
 /// the one-line power formula, common practice).
 fn troposphere_pa(h_m: f64) -> f64 {
     101_325.0 * (1.0 - 2.255_77e-5 * h_m).powf(5.255_88)
 }
 
-/// Writes the two invented demo flights and the host's pipeline outputs for them.
+/// Writes the two invented demo flights and the host's outputs of the use types for them.
 fn flights(src: &mut String) {
     use demo::*;
     let bits = |src: &mut String, name: &str, doc: &str, values: &[f32]| {
@@ -165,7 +170,7 @@ fn flights(src: &mut String) {
                 src,
                 "    crate::demo::HostOutput {{ altitude_m: {}, raw_altitude_m: {}, \
                  vertical_speed_mps: {}, altitude_sigma_m: {}, ascent_m: {}, descent_m: {}, \
-                 flags: 0x{:x}, phase: isohypse::flight::Phase::{:?} }}, // {:.3} m",
+                 flags: 0x{:x}, state: {:?} }}, // {:.3} m",
                 f(o.altitude_m),
                 f(o.raw_altitude_m),
                 f(o.vertical_speed_mps),
@@ -173,7 +178,7 @@ fn flights(src: &mut String) {
                 f(o.ascent_m),
                 f(o.descent_m),
                 o.flags,
-                o.phase,
+                o.state,
                 o.altitude_m
             )
             .unwrap();
@@ -188,7 +193,7 @@ fn flights(src: &mut String) {
     let field_m = 350.0;
     let (mut pressures, mut accels) = (Vec::new(), Vec::new());
     for i in 0..DEMO_COUNT {
-        let t = drone_time_s(i);
+        let t = seconds(drone_time(i));
         let w = 2.0 * std::f64::consts::PI / 2.4;
         let (h, a) = if (1.2..3.6).contains(&t) {
             let x = w * (t - 1.2);
@@ -199,14 +204,14 @@ fn flights(src: &mut String) {
         pressures.push((troposphere_pa(field_m + h) + 1.5 * noise.gaussian()) as f32);
         accels.push((a + 0.05 * noise.gaussian()) as f32);
     }
-    let mut drone = drone_pipeline().expect("drone preset");
+    let mut drone = demo::drone().expect("drone settings");
     demo::drone_warm_up(&pressures, &accels, |s| {
         drone.process(s);
     });
     let drone_out: Vec<HostOutput> = (0..DEMO_COUNT)
         .map(|i| HostOutput::of(&drone.process(&drone_sample(i, pressures[i], accels[i]))))
         .collect();
-    let mut drone_reuse = demo::drone_reuse_pipeline().expect("drone preset with gain reuse");
+    let mut drone_reuse = demo::drone_reuse().expect("drone settings with gain reuse");
     demo::drone_warm_up(&pressures, &accels, |s| {
         drone_reuse.process(s);
     });
@@ -228,14 +233,26 @@ fn flights(src: &mut String) {
     host(
         src,
         "DRONE_HOST",
-        "Drone hop: the drone preset's outputs computed on the host.",
+        "Drone hop: the drone's outputs (`DroneSettings::DEFAULT`) computed on the host.",
         &drone_out,
     );
     host(
         src,
         "DRONE_REUSE_HOST",
-        "Drone hop: the drone preset's outputs with gain reuse, computed on the host.",
+        "Drone hop: the drone's outputs with gain reuse (`DRONE_REUSE`), computed on the host.",
         &drone_reuse_out,
+    );
+
+    // Walk: the drone hop's pressures at 1 Hz (a walker stepping up a 3 m bank).
+    let mut walk = demo::walk().expect("walk settings");
+    let walk_out: Vec<HostOutput> = (0..DEMO_COUNT)
+        .map(|i| HostOutput::of(&walk.process(&walk_sample(i, pressures[i]))))
+        .collect();
+    host(
+        src,
+        "WALK_HOST",
+        "The drone hop's pressures at 1 Hz: the walk's outputs (`WalkSettings::DEFAULT`) computed on the host.",
+        &walk_out,
     );
 
     // Balloon ascent (invented): 10 s at rest at the launch site, then 5 m/s up;
@@ -246,7 +263,7 @@ fn flights(src: &mut String) {
     let (p0_pa, exponent) = (97_300.0, 9.806_65 / (287.053 * lapse));
     let (mut pressures, mut temperatures, mut humidities) = (Vec::new(), Vec::new(), Vec::new());
     for i in 0..DEMO_COUNT {
-        let t = balloon_time_s(i);
+        let t = seconds(balloon_time(i));
         let z = launch_m + 5.0 * (t - 10.0).max(0.0);
         let temperature_k = t0_k - lapse * (z - launch_m);
         pressures
@@ -254,7 +271,7 @@ fn flights(src: &mut String) {
         temperatures.push((temperature_k - 273.15 + 0.1 * noise.gaussian()) as f32);
         humidities.push((70.0 - (z - launch_m) / 100.0) as f32);
     }
-    let mut balloon = balloon_pipeline().expect("balloon preset");
+    let mut balloon = demo::balloon().expect("balloon settings");
     let balloon_out: Vec<HostOutput> = (0..DEMO_COUNT)
         .map(|i| {
             HostOutput::of(&balloon.process(&balloon_sample(
@@ -286,7 +303,7 @@ fn flights(src: &mut String) {
     host(
         src,
         "BALLOON_HOST",
-        "Balloon ascent: the balloon preset's outputs computed on the host.",
+        "Balloon ascent: the balloon's outputs (`BALLOON`, 64 levels) computed on the host.",
         &balloon_out,
     );
 }

@@ -13,9 +13,10 @@ RAM   = .data + .bss + .uninit (statics; the stack is not counted).
 
 With --symbols it also splits the difference by where the symbols come from (from the
 ELF symbol table; names matched on their mangled form): the library (`isohypse::` and the
-firmware's never-inlined `lib_process` wrapper around `Pipeline::process`), the maths
+firmware's never-inlined `lib_process` wrappers around the use types' `process`), the maths
 crates, the compiler's soft-float routines, core's formatting, and the firmware itself
-(harness code that the baseline build does not have, e.g. the pipeline check loop).
+(harness code that the baseline build does not have, e.g. the loop that checks the
+outputs against the host's).
 """
 
 import re
@@ -95,7 +96,8 @@ GROUPS = [
 ]
 
 
-# Design notes: library code in flash, full pipeline, <= 8 KiB on thumbv7em-none-eabihf.
+# Design notes: library code in flash, a drone's whole per-sample path, <= 8 KiB on
+# thumbv7em-none-eabihf.
 GOAL_FLASH_BYTES = 8192
 
 
@@ -162,7 +164,7 @@ def main(argv):
     print("| --- | ---: | ---: | ---: | ---: |")
     for label, f, r, ff, fr in rows:
         print(f"| {label} | {f} | {r} | {ff} | {fr} |")
-    # the design notes' flash goal is stated for the Cortex-M4F build of the pipeline
+    # the design notes' flash goal is stated for the Cortex-M4F build of the drone
     for label, f, _, _, _ in rows:
         if "flash probe:" in label and "thumbv7em" in label:
             verdict = "met" if f <= GOAL_FLASH_BYTES else "not met"

@@ -10,13 +10,14 @@ With `-singlestep -d exec,nochain` QEMU logs every guest instruction it executes
 ("Trace ...: [flags/PC/...]"). This script maps each PC to the function symbol that holds
 it (from the ELF symbol table, no binutils needed) and counts instructions while the
 program is inside WINDOW: from an instruction in a function whose name is WINDOW
-(e.g. `lib_process_drone`, the firmware's never-inlined wrapper around `Pipeline::process`)
+(e.g. `lib_process_drone`, the firmware's never-inlined wrapper around `Drone::process`)
 until an instruction in any other firmware function (the caller). Everything the window
 calls (library, maths, soft-float, memcpy) is counted under its own function. Counts are
-divided by CALLS (how many times the firmware calls the window function) to give
-instructions per call. SKIP (default 0) leaves out the first SKIP calls (a warm-up);
-CALLS then counts the calls after them. Names are printed mangled; pipe through
-`c++filt` to read them.
+divided by CALLS to give instructions per call. SKIP (default 0) leaves out the first
+SKIP calls of the window function (a warm-up); the CALLS calls after them are counted,
+later ones are not (the linker may fold wrappers with the same code into one, which the
+firmware then calls more often). Names are printed mangled; pipe through `c++filt` to
+read them.
 """
 
 import bisect
@@ -40,7 +41,7 @@ def functions(path):
 # Groups for the summary, first match wins (patterns on mangled names).
 GROUPS = [
     ("memory copies (memcpy / memset)", r"memcpy|memset|memclr|memmove"),
-    ("f64 soft-float (time stamps are f64)",
+    ("f64 soft-float",
      r"__aeabi_d|__aeabi_f2d|__aeabi_[ul]+2d|__aeabi_i2d|df3|^fmin$|^fmax$|4fmin|4fmax"),
     ("maths (libm / micromath, compiler-builtins fminf / fmaxf)",
      r"4libm|9micromath|^fminf$|^fmaxf$"),
@@ -50,7 +51,8 @@ GROUPS = [
     ("height model (atmosphere, geopotential, sounding, humidity)",
      r"10atmosphere|12geopotential|8sounding|8humidity|5model"),
     ("trackers (phases, totals, hike, ground reference)", r"6flight|5track|6ground"),
-    ("pipeline body (Pipeline::process, inlined into the wrapper)", r"lib_process|8pipeline"),
+    ("time base (integer microseconds)", r"8isohypse4time"),
+    ("use type's body (uses::*, process inlined into the wrapper)", r"lib_process|4uses"),
     ("other", r""),
 ]
 
@@ -87,7 +89,7 @@ def main(argv):
             inside = True
         elif "isohypse_firmware" in name:
             inside = False
-        if inside and entries > skip:
+        if inside and skip < entries <= skip + calls:
             counts[name] += 1
     total = sum(counts.values())
     print(f"instructions inside {window}: {total} in {calls} calls = {total / calls:.1f} per call")

@@ -106,8 +106,7 @@ for backend in $BACKENDS; do
         # shellcheck disable=SC2046
         build "$target" "$name" $(features_for "$backend")
         # shellcheck disable=SC2046
-        build "$target" "$name-size" --no-default-features --features presets \
-            $(features_for "$backend")
+        build "$target" "$name-size" --no-default-features $(features_for "$backend")
         # shellcheck disable=SC2046
         build "$target" "$name-size-drone" --no-default-features --features drone-only \
             $(features_for "$backend")
@@ -118,9 +117,6 @@ for backend in $BACKENDS; do
         build_probe "$target" "$name-probe" --no-default-features $(features_for "$backend")
         # shellcheck disable=SC2046
         build_probe "$target" "$name-probe-empty" --no-default-features --features probe-empty \
-            $(features_for "$backend")
-        # shellcheck disable=SC2046
-        build_probe "$target" "$name-probe-borrowed" --no-default-features --features probe-borrowed \
             $(features_for "$backend")
         # shellcheck disable=SC2046
         build_probe "$target" "$name-probe-reuse" --no-default-features --features probe-reuse \
@@ -144,18 +140,18 @@ for backend in $BACKENDS; do
             echo "(second run printed the same output, byte for byte)"
         fi
 
-        # The drone-only build leaves the library's pipeline options out; its drone
-        # pipeline must still agree bit for bit with the host (which has them all on).
-        say "run $name-size-drone on QEMU (drone pipeline only, pipeline options left out)"
+        # The drone-only build links the drone alone; it must still agree bit for bit
+        # with the host.
+        say "run $name-size-drone on QEMU (the drone alone)"
         run_elf "$target" "$out/$name-size-drone.elf" "$out/$name-drone.run.txt"
-        grep -E "^check |^\| Pipeline<2|^goal: pipeline state" "$out/$name-drone.run.txt" || true
+        grep -E "^check |^goal: state" "$out/$name-drone.run.txt" || true
         if [ "$rc" != 0 ]; then
             cat "$out/$name-drone.run.txt" >&2
             echo "FAIL: $name-size-drone exited with status $rc (124 = timeout)" >&2
             status=1
         fi
 
-        # The flash probe runs its eight samples through the pipeline and exits.
+        # The flash probe runs its eight samples through the drone and exits.
         run_elf "$target" "$out/$name-probe.elf" "$out/$name-probe.run.txt"
         if [ "$rc" != 0 ]; then
             cat "$out/$name-probe.run.txt" >&2
@@ -232,8 +228,8 @@ side_by_side() {
 }
 
 for backend in $BACKENDS; do
-    say "per-sample rows, backend $backend: calls, instructions per call, ratio vs the baseline formula"
-    side_by_side "^per-sample instructions per call" "$backend" calls instr. ratio
+    say "per-sample rows, backend $backend: calls, instructions per call, ratio vs the baseline formula, instructions of forming the inputs (subtracted)"
+    side_by_side "^per-sample instructions per call" "$backend" calls instr. ratio "inputs subtr."
     say "state sizes, backend $backend (size_of on the target, bytes)"
     side_by_side "^state sizes on" "$backend" bytes
 done
@@ -242,20 +238,20 @@ say "flash and RAM: firmware with the library calls minus the same firmware with
 pairs=()
 for backend in $BACKENDS; do
     for target in $TARGETS; do
-        pairs+=("$(core_name "$target") $target $backend, all rows (Pipeline<2> + Pipeline<64>, settings in flash)=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
-        pairs+=("$(core_name "$target") $target $backend, drone pipeline only (Pipeline<2, Fixed<DronePreset>>)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
-        pairs+=("$(core_name "$target") $target $backend, flash probe: drone pipeline alone minus an empty loop (src/bin/probe.rs)=$out/$target-$backend-probe.elf:$out/$target-$backend-probe-empty.elf")
-        pairs+=("$(core_name "$target") $target $backend, flash probe, settings borrowed at run time (feature probe-borrowed)=$out/$target-$backend-probe-borrowed.elf:$out/$target-$backend-probe-empty.elf")
+        pairs+=("$(core_name "$target") $target $backend, all rows (Drone + Balloon<64> + Walk, settings in flash)=$out/$target-$backend-size.elf:$out/$target-$backend-size-baseline.elf")
+        pairs+=("$(core_name "$target") $target $backend, the drone only (Drone, two settings)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
+        pairs+=("$(core_name "$target") $target $backend, flash probe: Drone alone minus an empty loop (src/bin/probe.rs)=$out/$target-$backend-probe.elf:$out/$target-$backend-probe-empty.elf")
         pairs+=("$(core_name "$target") $target $backend, flash probe, Kalman gain reuse on (feature probe-reuse)=$out/$target-$backend-probe-reuse.elf:$out/$target-$backend-probe-empty.elf")
     done
 done
 python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
 
-# ---- optional profile: where the pipeline's instructions go ---------------------------
+# ---- optional profile: where the use types' instructions go --------------------------
 # PROFILE=1: re-runs the firmware with QEMU's per-instruction trace and prints a flat
-# profile of Pipeline::process (profile.py): the drone preset from the drone-only build
-# (the check's 200 calls after its 2 000-sample warm-up), the balloon preset from the full build (400 calls: the check
-# and the measured row). About a minute per core.
+# profile of `Drone::process` and `Balloon::<64>::process` (profile.py): the drone from
+# the drone-only build (the check's 200 calls after its 2 000-sample warm-up), the
+# balloon from the full build (400 calls: the check and the measured row). About a
+# minute per core.
 if [ "${PROFILE:-0}" = 1 ]; then
     for backend in $BACKENDS; do
         for target in $TARGETS; do

@@ -238,28 +238,68 @@ pub(crate) fn flag_names(flags: u32) -> impl Iterator<Item = &'static str> {
 }
 
 /// How the run estimates: a use type, or the pointwise conversion.
-enum Estimation {
-    Filtered(Box<Device<'static, PROFILE_LEVELS>>),
+enum Estimation<'s> {
+    Filtered(Box<Device<'s, PROFILE_LEVELS>>),
     Pointwise(Box<Pointwise>),
+}
+
+/// The settings of the run's use type, held by the caller for the run (the use type
+/// borrows them, as firmware borrows a `static`).
+pub(crate) enum UseSettings {
+    Drone(DroneSettings),
+    Balloon(BalloonSettings),
+    Walk(WalkSettings),
+}
+
+impl UseSettings {
+    /// The use's settings for the run. The replay accepts every physical pressure; the
+    /// uses' narrower ranges are for firmware plausibility checks.
+    pub(crate) fn new(s: &Settings) -> Self {
+        let (lo, hi) = (US_1976.top_pressure_pa(), US_1976.bottom_pressure_pa());
+        match s.preset {
+            PresetArg::Drone => UseSettings::Drone(DroneSettings {
+                takeoff_altitude_m: s.start_altitude_m.unwrap_or(0.0),
+                min_pressure_pa: lo,
+                max_pressure_pa: hi,
+                ..DroneSettings::DEFAULT
+            }),
+            PresetArg::Balloon => UseSettings::Balloon(BalloonSettings {
+                model: s.balloon_model(),
+                launch_altitude_m: s.start_altitude_m,
+                latitude_deg: s.latitude_deg,
+                min_pressure_pa: lo,
+                max_pressure_pa: hi,
+                ..BalloonSettings::DEFAULT
+            }),
+            PresetArg::Hike => UseSettings::Walk(WalkSettings {
+                start_altitude_m: s.start_altitude_m,
+                min_pressure_pa: lo,
+                max_pressure_pa: hi,
+                ..WalkSettings::DEFAULT
+            }),
+        }
+    }
 }
 
 /// The use type (or pointwise conversion) for one run, and what the output table shows
 /// of it ([`Shown`]).
-pub(crate) struct Engine {
-    estimation: Estimation,
+pub(crate) struct Engine<'s> {
+    estimation: Estimation<'s>,
     shown: Shown,
     /// The first row's time, s: instants count microseconds from it.
     epoch_s: Option<f64>,
 }
 
-impl Engine {
-    pub(crate) fn new(s: Settings) -> Result<Self, Failure> {
+impl<'s> Engine<'s> {
+    /// The engine of a run with `s`, its use type borrowing `use_settings` (made by
+    /// [`UseSettings::new`] from the same `s`).
+    pub(crate) fn new(s: Settings, use_settings: &'s UseSettings) -> Result<Self, Failure> {
         s.check()
             .map_err(|e| Failure::Usage(format!("invalid settings: {e}")))?;
         let estimation = if s.pointwise {
             Estimation::Pointwise(Box::new(Pointwise::new(&s)?))
         } else {
-            Estimation::Filtered(Box::new(device(&s)?))
+            Estimation::Filtered(Box::new(device(use_settings)?))
         };
         Ok(Self {
             estimation,
@@ -309,43 +349,13 @@ impl Engine {
     }
 }
 
-/// The use type for the settings. Its settings are leaked to `'static` (once per run
-/// of a host tool) so that the device can borrow them as firmware borrows a `static`.
-fn device(s: &Settings) -> Result<Device<'static, PROFILE_LEVELS>, Failure> {
-    // The replay accepts every physical pressure; the uses' narrower ranges are for
-    // firmware plausibility checks.
-    let (lo, hi) = (US_1976.top_pressure_pa(), US_1976.bottom_pressure_pa());
+/// The use type for the settings.
+fn device(s: &UseSettings) -> Result<Device<'_, PROFILE_LEVELS>, Failure> {
     let usage = |e: isohypse::Error| Failure::Usage(format!("invalid settings: {e}"));
-    Ok(match s.preset {
-        PresetArg::Drone => {
-            let d: &'static DroneSettings = Box::leak(Box::new(DroneSettings {
-                takeoff_altitude_m: s.start_altitude_m.unwrap_or(0.0),
-                min_pressure_pa: lo,
-                max_pressure_pa: hi,
-                ..DroneSettings::DEFAULT
-            }));
-            Device::Drone(Drone::new(d).map_err(usage)?)
-        }
-        PresetArg::Balloon => {
-            let b: &'static BalloonSettings = Box::leak(Box::new(BalloonSettings {
-                model: s.balloon_model(),
-                launch_altitude_m: s.start_altitude_m,
-                latitude_deg: s.latitude_deg,
-                min_pressure_pa: lo,
-                max_pressure_pa: hi,
-                ..BalloonSettings::DEFAULT
-            }));
-            Device::Balloon(Balloon::new(b).map_err(usage)?)
-        }
-        PresetArg::Hike => {
-            let w: &'static WalkSettings = Box::leak(Box::new(WalkSettings {
-                start_altitude_m: s.start_altitude_m,
-                min_pressure_pa: lo,
-                max_pressure_pa: hi,
-                ..WalkSettings::DEFAULT
-            }));
-            Device::Walk(Walk::new(w).map_err(usage)?)
-        }
+    Ok(match s {
+        UseSettings::Drone(d) => Device::Drone(Drone::new(d).map_err(usage)?),
+        UseSettings::Balloon(b) => Device::Balloon(Balloon::new(b).map_err(usage)?),
+        UseSettings::Walk(w) => Device::Walk(Walk::new(w).map_err(usage)?),
     })
 }
 

@@ -10,7 +10,7 @@ use super::engine::{Output, Settings};
 
 use super::Failure;
 use super::delay::Delay;
-use super::engine::{Engine, Point, point};
+use super::engine::{Engine, Point, UseSettings, point};
 use super::lines::{Fields, Lines, is_comment_or_blank};
 use super::progress::Progress;
 use super::row::{Header, Row, parse};
@@ -31,7 +31,8 @@ pub(crate) fn stream(
     progress: &mut Progress,
     sink: &mut Sink<'_>,
 ) -> Result<Stats, Failure> {
-    let mut engine = Engine::new(settings)?;
+    let use_settings = UseSettings::new(&settings);
+    let mut engine = Engine::new(settings, &use_settings)?;
     let mut lines = Lines::new(input);
     let header = read_header(&mut lines)?;
     let mut stats = Stats::default();

@@ -303,13 +303,13 @@ impl<'a> Walk<'a> {
     /// A spike held back: the estimate carried forward and flagged; its time counts as
     /// the last one (the gate counts toward taking a real step).
     fn hold_back(&mut self, time: Instant, gap: f32, flags: Flags) -> Output<WalkState> {
-        let flags = Flags(flags.0 | Flags::OUTLIER.0);
+        // the rest verdict stands until a sample is taken
+        let resting = self.last.flags().0 & Flags::AT_REST.0;
+        let flags = Flags(flags.0 | Flags::OUTLIER.0 | resting);
         self.gate.hold(gap);
         let out = self.carry(time, flags);
         self.time.commit(time);
-        // the rest verdict stands until a sample is taken
-        let resting = self.last.flags().0 & Flags::AT_REST.0;
-        self.last.set_flags(Flags(flags.0 | resting));
+        self.last.set_flags(flags);
         out
     }
 

@@ -1,51 +1,55 @@
-//! The per-sample pipeline runs that the firmware checks and measures, shared word for
-//! word with `build.rs`, which runs them on the host to make the reference outputs.
+//! The per-sample runs of the use types that the firmware checks and measures, shared
+//! word for word with `build.rs`, which runs them on the host to make the reference
+//! outputs.
 //!
 //! Two invented demo flights (demo data only, made up for this firmware):
 //!
 //! - a drone hop: `DEMO_COUNT` samples at 50 Hz (4 s), pressure and vertical
-//!   acceleration, the drone preset (`Pipeline<2, Fixed<DronePreset>>`), after a
-//!   warm-up of 40 s at rest (`drone_warm_up`);
+//!   acceleration, through a [`Drone`] with [`DroneSettings::DEFAULT`] (and with the
+//!   Kalman filter's gain reuse on, [`DRONE_REUSE`]), after a warm-up of 40 s at rest
+//!   (`drone_warm_up`); the same pressures at 1 Hz through a [`Walk`] with
+//!   [`WalkSettings::DEFAULT`] (a walker stepping up a 3 m bank);
 //! - the first minutes of a balloon ascent: `DEMO_COUNT` samples at 1 Hz, pressure,
-//!   temperature and humidity, the balloon preset with a small stored profile
-//!   (`Pipeline<PROFILE_LEVELS, Fixed<BalloonPreset>>`), launch elevation and latitude
-//!   set.
+//!   temperature and humidity, through a [`Balloon`] with a `PROFILE_LEVELS`-level
+//!   stored profile and [`BalloonSettings::DEFAULT`] with launch elevation and latitude
+//!   set ([`BALLOON`]).
 //!
-//! `build.rs` makes the samples (f64 maths on the host) and stores them as f32 bit
-//! patterns; both sides then build the same `Sample`s with the functions below and run
-//! the same library code.
+//! The settings are `static`s: each use type borrows them, so on the device they stay
+//! in flash. `build.rs` makes the samples (f64 maths on the host) and stores them as
+//! f32 bit patterns; both sides then build the same `Sample`s with the functions below
+//! (time stamps in integer microseconds, as a device's timer gives them) and run the
+//! same library code.
 
 use isohypse::Error;
 use isohypse::filter::VerticalKalmanConfig;
-use isohypse::flight::Phase;
-use isohypse::pipeline::{
-    Estimator, Fixed, FixedSettings, Output, Pipeline, Sample, Settings, parts,
-};
+use isohypse::time::Instant;
+use isohypse::uses::{Balloon, BalloonSettings, BalloonState, Drone, DroneSettings, DroneState};
+use isohypse::uses::{Output, Sample, Walk, WalkSettings, WalkState};
 
 /// Samples in each demo flight.
 pub const DEMO_COUNT: usize = 200;
 /// Capacity of the balloon's stored profile.
 pub const PROFILE_LEVELS: usize = 64;
-/// Drone sample period, s (50 Hz).
-pub const DRONE_PERIOD_S: f64 = 0.02;
-/// Balloon sample period, s (1 Hz).
-pub const BALLOON_PERIOD_S: f64 = 1.0;
+/// Drone sample period, us (50 Hz).
+pub const DRONE_PERIOD_US: u64 = 20_000;
+/// Balloon sample period, us (1 Hz).
+pub const BALLOON_PERIOD_US: u64 = 1_000_000;
 /// Balloon launch elevation, m (invented).
 pub const LAUNCH_ELEVATION_M: f32 = 310.0;
 /// Balloon launch latitude, degrees (invented).
 pub const LAUNCH_LATITUDE_DEG: f32 = 64.2;
 
-/// Time of drone sample `i`, s.
-pub fn drone_time_s(i: usize) -> f64 {
-    i as f64 * DRONE_PERIOD_S
+/// Time of drone sample `i`.
+pub fn drone_time(i: usize) -> Instant {
+    Instant::from_micros(i as u64 * DRONE_PERIOD_US)
 }
 
-/// Time of balloon sample `i`, s.
-pub fn balloon_time_s(i: usize) -> f64 {
-    i as f64 * BALLOON_PERIOD_S
+/// Time of balloon sample `i`.
+pub fn balloon_time(i: usize) -> Instant {
+    Instant::from_micros(i as u64 * BALLOON_PERIOD_US)
 }
 
-/// Samples at rest fed to the drone pipeline before the hop (40 s at 50 Hz): long
+/// Samples at rest fed to the drone before the hop (40 s at 50 Hz): long
 /// enough for its Kalman covariance to settle (about 30 s with the drone preset), so
 /// that the checked and measured hop runs as a drone in flight does, on the settled
 /// covariance.
@@ -61,7 +65,7 @@ pub fn drone_sample(i: usize, pressure_pa: f32, accel_up_mps2: f32) -> Sample {
 
 /// Drone sample number `n` counted from the start of the warm-up.
 fn drone_sample_at(n: usize, pressure_pa: f32, accel_up_mps2: f32) -> Sample {
-    let mut s = Sample::pressure(drone_time_s(n), pressure_pa);
+    let mut s = Sample::pressure(drone_time(n), pressure_pa);
     s.accel_up_mps2 = Some(accel_up_mps2);
     s
 }
@@ -80,7 +84,7 @@ pub fn drone_warm_up(pressures: &[f32], accels: &[f32], mut process: impl FnMut(
 /// Balloon sample: pressure, temperature and humidity.
 pub fn balloon_sample(i: usize, pressure_pa: f32, temperature_c: f32, humidity_pct: f32) -> Sample {
     Sample {
-        time_s: balloon_time_s(i),
+        time: balloon_time(i),
         pressure_pa,
         temperature_c: Some(temperature_c),
         humidity_pct: Some(humidity_pct),
@@ -88,90 +92,81 @@ pub fn balloon_sample(i: usize, pressure_pa: f32, temperature_c: f32, humidity_p
     }
 }
 
-/// The pipelines' settings are fixed at compile time (`Pipeline<N, Fixed<P>>`): they
-/// take no RAM, and the compiler drops the code of the options a preset leaves unused.
-/// A preset as a type: its settings as a constant.
-pub struct DronePreset;
+/// The drone's settings: the preset as shipped (heights above the ground reference
+/// taken at rest).
+pub static DRONE: DroneSettings = DroneSettings::DEFAULT;
 
-impl FixedSettings for DronePreset {
-    /// The drone preset as shipped (height above the ground reference taken at rest).
-    const SETTINGS: Settings = Settings::drone();
-    type Parts = parts::Drone;
-}
-
-/// The drone pipeline's type.
-pub type DronePipeline = Pipeline<2, Fixed<DronePreset>>;
-
-/// The drone pipeline.
-pub fn drone_pipeline() -> Result<DronePipeline, Error> {
-    Pipeline::new(Fixed::new())
-}
-
-/// The drone preset with its Kalman filter reusing a settled covariance
+/// The drone's settings with the Kalman filter reusing a settled covariance
 /// (`VerticalKalmanConfig::with_gain_reuse`).
-pub struct DroneReusePreset;
+pub static DRONE_REUSE: DroneSettings = DroneSettings {
+    kalman: VerticalKalmanConfig::DEFAULT.with_gain_reuse(),
+    ..DroneSettings::DEFAULT
+};
 
-impl FixedSettings for DroneReusePreset {
-    const SETTINGS: Settings = {
-        let mut s = Settings::drone();
-        s.estimator = Estimator::Kalman(VerticalKalmanConfig::DEFAULT.with_gain_reuse());
-        s
-    };
-    type Parts = parts::Drone;
+/// The drone.
+pub fn drone() -> Result<Drone<'static>, Error> {
+    Drone::new(&DRONE)
 }
 
-/// The drone pipeline with gain reuse.
-pub type DroneReusePipeline = Pipeline<2, Fixed<DroneReusePreset>>;
-
-/// The drone pipeline with gain reuse.
-pub fn drone_reuse_pipeline() -> Result<DroneReusePipeline, Error> {
-    Pipeline::new(Fixed::new())
+/// The drone with gain reuse.
+pub fn drone_reuse() -> Result<Drone<'static>, Error> {
+    Drone::new(&DRONE_REUSE)
 }
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The balloon preset with the launch elevation and latitude set.
-pub struct BalloonPreset;
+/// The balloon's settings: the preset with the launch elevation and latitude set.
+#[cfg(any(not(feature = "drone-only"), not(target_os = "none")))]
+pub static BALLOON: BalloonSettings = BalloonSettings {
+    launch_altitude_m: Some(LAUNCH_ELEVATION_M),
+    latitude_deg: Some(LAUNCH_LATITUDE_DEG),
+    ..BalloonSettings::DEFAULT
+};
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-impl FixedSettings for BalloonPreset {
-    const SETTINGS: Settings = {
-        let mut s = Settings::balloon();
-        s.start_altitude_m = Some(LAUNCH_ELEVATION_M);
-        s.latitude_deg = Some(LAUNCH_LATITUDE_DEG);
-        s
-    };
-    type Parts = parts::Balloon;
+/// The balloon's type, with a `PROFILE_LEVELS`-level stored profile.
+pub type DemoBalloon = Balloon<'static, PROFILE_LEVELS>;
+
+/// The balloon.
+#[cfg(any(not(feature = "drone-only"), not(target_os = "none")))]
+pub fn balloon() -> Result<DemoBalloon, Error> {
+    Balloon::new(&BALLOON)
 }
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The balloon pipeline's type, with a `PROFILE_LEVELS`-level stored profile.
-pub type BalloonPipeline = Pipeline<PROFILE_LEVELS, Fixed<BalloonPreset>>;
+/// The walk's settings: the preset as shipped.
+#[cfg(any(not(feature = "drone-only"), not(target_os = "none")))]
+pub static WALK: WalkSettings = WalkSettings::DEFAULT;
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The balloon pipeline.
-pub fn balloon_pipeline() -> Result<BalloonPipeline, Error> {
-    Pipeline::new(Fixed::new())
+/// The walk.
+#[cfg(any(not(feature = "drone-only"), not(target_os = "none")))]
+pub fn walk() -> Result<Walk<'static>, Error> {
+    Walk::new(&WALK)
 }
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The hike preset.
-pub struct HikePreset;
-
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-impl FixedSettings for HikePreset {
-    const SETTINGS: Settings = Settings::hike();
-    type Parts = parts::Hike;
+/// Walk sample `i`: the drone hop's pressure `i` at 1 Hz.
+pub fn walk_sample(i: usize, pressure_pa: f32) -> Sample {
+    Sample::pressure(balloon_time(i), pressure_pa)
 }
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The hike pipeline's type.
-pub type HikePipeline = Pipeline<2, Fixed<HikePreset>>;
+/// A use type's state words by name, so that one check serves all three.
+pub trait StateName: Copy {
+    /// The lower-case name (the library's `name()`).
+    fn state_name(self) -> &'static str;
+}
 
-#[cfg(any(feature = "presets", not(target_os = "none")))]
-/// The hike pipeline (measured only: instruction count, no reference outputs).
-#[cfg_attr(not(target_os = "none"), allow(dead_code))]
-pub fn hike_pipeline() -> Result<HikePipeline, Error> {
-    Pipeline::new(Fixed::new())
+impl StateName for DroneState {
+    fn state_name(self) -> &'static str {
+        self.name()
+    }
+}
+
+impl StateName for BalloonState {
+    fn state_name(self) -> &'static str {
+        self.name()
+    }
+}
+
+impl StateName for WalkState {
+    fn state_name(self) -> &'static str {
+        self.name()
+    }
 }
 
 /// What the host computed for one sample, as compared on the target.
@@ -191,14 +186,14 @@ pub struct HostOutput {
     pub descent_m: f32,
     /// [`Output::flags`] bits.
     pub flags: u32,
-    /// [`Output::phase`].
-    pub phase: Phase,
+    /// [`Output::state`], by name.
+    pub state: &'static str,
 }
 
 impl HostOutput {
     /// The fields of `out` that are compared.
     #[cfg_attr(target_os = "none", allow(dead_code))]
-    pub fn of(out: &Output) -> Self {
+    pub fn of<S: StateName>(out: &Output<S>) -> Self {
         Self {
             altitude_m: out.altitude_m,
             raw_altitude_m: out.raw_altitude_m,
@@ -207,7 +202,7 @@ impl HostOutput {
             ascent_m: out.ascent_m,
             descent_m: out.descent_m,
             flags: out.flags.0,
-            phase: out.phase,
+            state: out.state.state_name(),
         }
     }
 

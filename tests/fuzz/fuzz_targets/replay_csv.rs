@@ -1,9 +1,10 @@
-//! Fuzz target: the host replay tool's CSV reader and its run of the pipeline.
+//! Fuzz target: the host replay tool's CSV reader and its run of the use types.
 //!
 //! `examples/replay.rs` is compiled in as a module (its `replay(text, settings, strict)`
 //! is `pub(crate)`), so this exercises the very code the tool runs: header lookup by
 //! name, comments, field counts, number parsing, physical checks, time order, and every
-//! accepted row through `Pipeline::process`.
+//! accepted row through the use type's `process` (or, with `--filter off`, the tool's
+//! pointwise conversion).
 //!
 //! Input: the first byte picks the preset, `--filter off` and `--strict`; the rest is
 //! the file (bytes that are not UTF-8 are replaced, as a lossy read would).
@@ -20,26 +21,20 @@
 #[path = "../../../examples/replay.rs"]
 mod replay;
 
-use isohypse::pipeline::{Estimator, Flags, Settings};
+use isohypse::uses::Flags;
+use replay::{PresetArg, Settings};
 use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
     let Some((&choice, rest)) = data.split_first() else {
         return;
     };
-    let mut settings = match choice % 3 {
-        0 => Settings::balloon(),
-        1 => Settings::drone(),
-        _ => Settings::hike(),
-    };
-    if choice & 0x04 != 0 {
-        settings.estimator = Estimator::Off;
-    }
-    // As the tool does (replay::settings_for): every physical pressure is accepted.
-    settings.pressure_range_pa = (
-        isohypse::atmosphere::US_1976.top_pressure_pa(),
-        isohypse::atmosphere::US_1976.bottom_pressure_pa(),
-    );
+    let mut settings = Settings::preset(match choice % 3 {
+        0 => PresetArg::Balloon,
+        1 => PresetArg::Drone,
+        _ => PresetArg::Hike,
+    });
+    settings.pointwise = choice & 0x04 != 0;
     let strict = choice & 0x08 != 0;
     let text = String::from_utf8_lossy(rest);
     match replay::replay(&text, settings, strict) {

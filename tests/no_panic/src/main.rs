@@ -1,4 +1,4 @@
-//! Link-time proof that isohypse's core conversion, filter and pipeline functions contain
+//! Link-time proof that isohypse's core conversion, filter and per-use functions contain
 //! no reachable panic: every wrapper below is `#[no_panic]` (the `no-panic` crate), which
 //! makes the link fail if the optimised code of the wrapper, with everything inlined into
 //! it, still references the panic machinery.
@@ -17,16 +17,17 @@ use isohypse::atmosphere::{self, AtmosphereState, US_1976};
 use isohypse::datum::AltimeterSetting;
 use isohypse::filter::GroundReference;
 use isohypse::filter::{
-    AlphaBeta, KalmanOutcome, Median, MovingAverage, OnePole, VerticalKalman,
-    VerticalKalmanConfig,
+    AlphaBeta, KalmanOutcome, Median, MovingAverage, OnePole, VerticalKalman, VerticalKalmanConfig,
 };
 use isohypse::flight::{FlightPhases, PhaseSettings};
 use isohypse::geopotential::Gravity;
 use isohypse::hypsometric;
 use isohypse::model::{AirSample, ColumnModel, Reference, TemperatureModel};
-use isohypse::pipeline::{Output, Pipeline, Sample, Settings};
 use isohypse::sounding::{Level, Profile, Sounding};
+use isohypse::time::{Duration, Instant, WrappingTicks};
 use isohypse::track::{AscentTotals, PressureTendency};
+use isohypse::uses::{Balloon, BalloonSettings, BalloonState, Drone, DroneSettings, DroneState};
+use isohypse::uses::{Output, Sample, Walk, WalkSettings, WalkState};
 use isohypse::{Error, Height, Pressure, Temperature};
 use no_panic::no_panic;
 
@@ -71,22 +72,22 @@ fn moving_average_push(m: &mut MovingAverage<8>, x: f32) -> Result<f32, Error> {
 }
 
 #[no_panic]
-fn one_pole_update(f: &mut OnePole, t: f64, x: f32) -> Result<f32, Error> {
+fn one_pole_update(f: &mut OnePole, t: Instant, x: f32) -> Result<f32, Error> {
     f.update(t, x)
 }
 
 #[no_panic]
-fn alpha_beta_update(f: &mut AlphaBeta, t: f64, h: Height) -> Result<(), Error> {
+fn alpha_beta_update(f: &mut AlphaBeta, t: Instant, h: Height) -> Result<(), Error> {
     f.update(t, h)
 }
 
 #[no_panic]
-fn kalman_predict(k: &mut VerticalKalman, t: f64, a: f32) -> Result<(), Error> {
+fn kalman_predict(k: &mut VerticalKalman, t: Instant, a: f32) -> Result<(), Error> {
     k.predict(t, a)
 }
 
 #[no_panic]
-fn kalman_correct(k: &mut VerticalKalman, t: f64, h: Height) -> Result<KalmanOutcome, Error> {
+fn kalman_correct(k: &mut VerticalKalman, t: Instant, h: Height) -> Result<KalmanOutcome, Error> {
     k.correct(t, h)
 }
 
@@ -111,28 +112,106 @@ fn profile_height(s: &Profile<64>, p: Pressure) -> Result<Height, Error> {
 }
 
 #[no_panic]
-fn flight_phases_update(f: &mut FlightPhases, t: f64, h: f32, v: f32) -> bool {
+fn flight_phases_update(f: &mut FlightPhases, t: Instant, h: f32, v: f32) -> bool {
     f.update(t, h, v).is_ok()
 }
 
 #[no_panic]
-fn ground_reference_push(g: &mut GroundReference, t: f64, h: Height) -> Result<bool, Error> {
+fn ground_reference_push(g: &mut GroundReference, t: Instant, h: Height) -> Result<bool, Error> {
     g.push(t, h)
 }
 
 #[no_panic]
-fn tendency_update(td: &mut PressureTendency, t: f64, p: Pressure) -> Result<(), Error> {
+fn tendency_update(td: &mut PressureTendency, t: Instant, p: Pressure) -> Result<(), Error> {
     td.update(t, p)
 }
 
 #[no_panic]
-fn pipeline_new_drone() -> Result<Pipeline<2>, Error> {
-    Pipeline::new(Settings::drone())
+fn drone_new(settings: &DroneSettings) -> Result<Drone<'_>, Error> {
+    Drone::new(settings)
 }
 
 #[no_panic]
-fn pipeline_process(p: &mut Pipeline<64>, s: &Sample) -> Output {
-    p.process(s)
+fn drone_process(d: &mut Drone<'_>, s: &Sample) -> Output<DroneState> {
+    d.process(s)
+}
+
+#[no_panic]
+fn drone_accelerometer(d: &mut Drone<'_>, t: Instant, a: f32) -> Result<(), Error> {
+    d.accelerometer(t, a)
+}
+
+#[no_panic]
+fn drone_snapshot(d: &Drone<'_>, out: &mut [u8]) -> Result<usize, Error> {
+    d.snapshot(out)
+}
+
+#[no_panic]
+fn drone_restore<'a>(settings: &'a DroneSettings, bytes: &[u8]) -> Result<Drone<'a>, Error> {
+    Drone::restore(settings, bytes)
+}
+
+/// The balloon with 64 stored levels, as the firmware measures it.
+type Balloon64<'a> = Balloon<'a, 64>;
+
+#[no_panic]
+fn balloon_new(settings: &BalloonSettings) -> Result<Balloon64<'_>, Error> {
+    Balloon::new(settings)
+}
+
+#[no_panic]
+fn balloon_process(b: &mut Balloon64<'_>, s: &Sample) -> Output<BalloonState> {
+    b.process(s)
+}
+
+#[no_panic]
+fn balloon_snapshot(b: &Balloon64<'_>, out: &mut [u8]) -> Result<usize, Error> {
+    b.snapshot(out)
+}
+
+#[no_panic]
+fn balloon_restore<'a>(
+    settings: &'a BalloonSettings,
+    bytes: &[u8],
+) -> Result<Balloon64<'a>, Error> {
+    Balloon::restore(settings, bytes)
+}
+
+#[no_panic]
+fn walk_new(settings: &WalkSettings) -> Result<Walk<'_>, Error> {
+    Walk::new(settings)
+}
+
+#[no_panic]
+fn walk_process(w: &mut Walk<'_>, s: &Sample) -> Output<WalkState> {
+    w.process(s)
+}
+
+#[no_panic]
+fn walk_snapshot(w: &Walk<'_>, out: &mut [u8]) -> Result<usize, Error> {
+    w.snapshot(out)
+}
+
+#[no_panic]
+fn walk_restore<'a>(settings: &'a WalkSettings, bytes: &[u8]) -> Result<Walk<'a>, Error> {
+    Walk::restore(settings, bytes)
+}
+
+#[no_panic]
+fn wrapping_ticks_instant(clock: &mut WrappingTicks<32_768>, ticks: u32) -> Instant {
+    clock.instant(ticks)
+}
+
+#[no_panic]
+fn duration_between(later: Instant, earlier: Instant) -> Option<f32> {
+    later
+        .checked_duration_since(earlier)
+        .map(Duration::as_secs_f32)
+}
+
+#[no_panic]
+fn duration_from_secs(secs: f32) -> Option<Duration> {
+    Duration::from_secs_f32(secs)
 }
 
 #[no_panic]
@@ -176,23 +255,31 @@ fn main() {
     if let Ok(mut lp) = OnePole::new(black_box(1.0)) {
         println!(
             "{:?}",
-            one_pole_update(black_box(&mut lp), black_box(0.5), black_box(2.0))
+            one_pole_update(
+                black_box(&mut lp),
+                black_box(Instant::from_millis(500)),
+                black_box(2.0)
+            )
         );
     }
     if let Ok(mut ab) = AlphaBeta::new(0.5, 0.1, 1.0) {
         println!(
             "{:?}",
-            alpha_beta_update(black_box(&mut ab), black_box(0.5), h)
+            alpha_beta_update(black_box(&mut ab), black_box(Instant::from_millis(500)), h)
         );
     }
     if let Ok(mut kf) = VerticalKalman::new(VerticalKalmanConfig::default()) {
         println!(
             "{:?}",
-            kalman_correct(black_box(&mut kf), black_box(0.0), h)
+            kalman_correct(black_box(&mut kf), black_box(Instant::ZERO), h)
         );
         println!(
             "{:?}",
-            kalman_predict(black_box(&mut kf), black_box(0.01), black_box(0.1))
+            kalman_predict(
+                black_box(&mut kf),
+                black_box(Instant::from_millis(10)),
+                black_box(0.1)
+            )
         );
     }
     if let Ok(mut totals) = AscentTotals::new(3.0) {
@@ -222,28 +309,101 @@ fn main() {
     if let Ok(mut phases) = FlightPhases::new(PhaseSettings::BALLOON) {
         println!(
             "{}",
-            flight_phases_update(black_box(&mut phases), black_box(1.0), 2.0, 3.0)
+            flight_phases_update(
+                black_box(&mut phases),
+                black_box(Instant::from_secs(1)),
+                2.0,
+                3.0
+            )
         );
     }
     if let Ok(mut ground) = GroundReference::new(Default::default()) {
         println!(
             "{:?}",
-            ground_reference_push(black_box(&mut ground), black_box(1.0), h)
+            ground_reference_push(black_box(&mut ground), black_box(Instant::from_secs(1)), h)
         );
     }
     if let Ok(mut tendency) = PressureTendency::new(Default::default()) {
         println!(
             "{:?}",
-            tendency_update(black_box(&mut tendency), black_box(1.0), p)
+            tendency_update(
+                black_box(&mut tendency),
+                black_box(Instant::from_secs(1)),
+                p
+            )
         );
     }
-    println!("{}", pipeline_new_drone().is_ok());
-    for settings in [Settings::drone(), Settings::balloon(), Settings::hike()] {
-        if let Ok(mut pipe) = Pipeline::<64>::new(settings) {
-            let sample = Sample::pressure(black_box(1.0), black_box(95_000.0));
-            println!("{:?}", pipeline_process(black_box(&mut pipe), black_box(&sample)));
-        }
-    }
+    use_types();
+    let mut clock = WrappingTicks::<32_768>::new();
+    println!(
+        "{:?}",
+        wrapping_ticks_instant(black_box(&mut clock), black_box(u32::MAX))
+    );
+    println!(
+        "{:?}",
+        duration_between(
+            black_box(Instant::from_micros(u64::MAX)),
+            black_box(Instant::from_secs(1))
+        )
+    );
+    println!("{:?}", duration_from_secs(black_box(0.02)));
     let mut median = Median::<5>::new();
     println!("{:?}", median_push(black_box(&mut median), black_box(1.0)));
+}
+
+/// Calls the use types' wrappers: each use's presets through `new`, one sample, an
+/// accelerometer sample for the drone, and a snapshot restored.
+fn use_types() {
+    let sample = Sample {
+        accel_up_mps2: Some(black_box(0.1)),
+        ..Sample::pressure(black_box(Instant::from_secs(1)), black_box(95_000.0))
+    };
+    let drone_settings = black_box(&DroneSettings::DEFAULT);
+    if let Ok(mut drone) = drone_new(drone_settings) {
+        println!(
+            "{:?}",
+            drone_process(black_box(&mut drone), black_box(&sample))
+        );
+        let t = black_box(Instant::from_micros(1_005_000));
+        println!(
+            "{:?}",
+            drone_accelerometer(black_box(&mut drone), t, black_box(0.2))
+        );
+        let mut buf = [0u8; Drone::SNAPSHOT_LEN];
+        println!(
+            "{:?}",
+            drone_snapshot(black_box(&drone), black_box(&mut buf))
+        );
+        println!(
+            "{:?}",
+            drone_restore(drone_settings, black_box(&buf)).map(|d| d == drone)
+        );
+    }
+    let balloon_settings = black_box(&BalloonSettings::DEFAULT);
+    if let Ok(mut balloon) = balloon_new(balloon_settings) {
+        println!(
+            "{:?}",
+            balloon_process(black_box(&mut balloon), black_box(&sample))
+        );
+        let mut buf = [0u8; Balloon64::SNAPSHOT_LEN];
+        println!(
+            "{:?}",
+            balloon_snapshot(black_box(&balloon), black_box(&mut buf))
+        );
+        let back = balloon_restore(balloon_settings, black_box(&buf));
+        println!("{:?}", back.map(|b| b == balloon));
+    }
+    let walk_settings = black_box(&WalkSettings::DEFAULT);
+    if let Ok(mut walk) = walk_new(walk_settings) {
+        println!(
+            "{:?}",
+            walk_process(black_box(&mut walk), black_box(&sample))
+        );
+        let mut buf = [0u8; Walk::SNAPSHOT_LEN];
+        println!("{:?}", walk_snapshot(black_box(&walk), black_box(&mut buf)));
+        println!(
+            "{:?}",
+            walk_restore(walk_settings, black_box(&buf)).map(|w| w == walk)
+        );
+    }
 }
