@@ -83,8 +83,11 @@ impl Flags {
     /// of a new time base. The estimator re-acquired; stored profile, totals and datum
     /// were kept.
     pub const CLOCK_FAULT: Flags = Flags(1 << 16);
+    /// A humidity between 100 and 110 % (real sensors read so in cloud) was taken as
+    /// 100 %.
+    pub const HUMIDITY_CLAMPED: Flags = Flags(1 << 17);
 
-    const NAMES: [(Flags, &'static str); 17] = [
+    const NAMES: [(Flags, &'static str); 18] = [
         (Flags::REJECTED_TIME, "rejected_time"),
         (Flags::REJECTED_PRESSURE, "rejected_pressure"),
         (Flags::REJECTED_MODEL, "rejected_model"),
@@ -102,6 +105,7 @@ impl Flags {
         (Flags::FALLING_PRESSURE, "falling_pressure"),
         (Flags::GROUND_AVERAGING, "ground_averaging"),
         (Flags::CLOCK_FAULT, "clock_fault"),
+        (Flags::HUMIDITY_CLAMPED, "humidity_clamped"),
     ];
 
     /// True if every bit of `other` is set.

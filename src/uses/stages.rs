@@ -166,8 +166,18 @@ impl Inputs {
             Flags::TEMPERATURE_IGNORED,
             &mut flags,
         );
+        // Humidity sensors read up to about 110 % in cloud (supersaturation is a
+        // fraction of a percent in real air: the excess is the sensor's; common
+        // practice): taken as 100 %, flagged.
+        let humidity_pct = match sample.humidity_pct {
+            Some(h) if h > 100.0 && h <= 110.0 => {
+                flags.set(Flags::HUMIDITY_CLAMPED);
+                Some(100.0)
+            }
+            other => other,
+        };
         let humidity = optional(
-            sample.humidity_pct.map(RelativeHumidity::from_percent),
+            humidity_pct.map(RelativeHumidity::from_percent),
             Flags::HUMIDITY_IGNORED,
             &mut flags,
         );
