@@ -285,7 +285,15 @@ impl PhaseCore {
         // The phase this sample argues for, and how long it must hold.
         let wanted: Option<(Phase, f32)> = match self.phase {
             Phase::Ground | Phase::Landed => {
-                (speed_mps > s.ascent_mps).then_some((Phase::Ascent, s.debounce_s))
+                if speed_mps > s.ascent_mps {
+                    Some((Phase::Ascent, s.debounce_s))
+                } else if self.phase == Phase::Ground && speed_mps < -s.descent_mps {
+                    // a device that starts in the air, falling (a sonde dropped from
+                    // an aircraft, a power-on in flight): no launch was seen
+                    Some((Phase::Descent, s.debounce_s))
+                } else {
+                    None
+                }
             }
             Phase::Ascent | Phase::Float => {
                 if speed_mps < -s.burst_mps {

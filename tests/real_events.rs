@@ -181,3 +181,49 @@ fn an_accelerometer_shock_costs_at_most_a_second() {
     );
     let _ = Pressure::from_pa(p);
 }
+
+/// A sonde released from an aircraft at 13 km, falling at 20 m/s from its first
+/// sample: its state turns to descent within the debounce, not ground for the whole
+/// fall, and its heights follow the fall.
+#[test]
+fn a_device_that_starts_falling_is_in_descent() {
+    const DROP: BalloonSettings = BalloonSettings::DEFAULT; // no launch: pressure altitude
+    let mut b = Balloon::<64>::new(&DROP).unwrap();
+    let mut states = Vec::new();
+    let mut worst_pct = 0.0f64;
+    for k in 0..600u64 {
+        let z = 13_000.0 - 20.0 * k as f64;
+        let out = b.process(&balloon_sample(k, z, 0.0));
+        if states.last() != Some(&out.state) {
+            states.push(out.state);
+        }
+        if k > 10 {
+            worst_pct = worst_pct.max((f64::from(out.altitude_m) - z).abs() / z * 100.0);
+        }
+    }
+    let names: Vec<_> = states.iter().map(|s| s.name()).collect();
+    println!("dropped at 13 km: states {names:?}, worst height error {worst_pct:.3} %");
+    assert_eq!(names, ["ground", "descent"]);
+    assert!(worst_pct < 0.3, "{worst_pct} %");
+}
+
+/// A radiosonde released at once, gathering speed from 0 to 5 m/s over its first
+/// 10 s (2 Pa noise): the launch reference takes no sample of the climb.
+#[test]
+fn the_launch_reference_takes_no_sample_of_a_climb() {
+    let mut b = Balloon::<64>::new(&BALLOON).unwrap();
+    let mut rng = Lcg(11);
+    let mut err = 0.0f64;
+    for k in 0..120u64 {
+        let t = k as f64;
+        let z = if t < 10.0 {
+            300.0 + 0.25 * t * t
+        } else {
+            325.0 + 5.0 * (t - 10.0)
+        };
+        let out = b.process(&balloon_sample(k, z, 2.0 * rng.unit()));
+        err = (f64::from(out.altitude_m) - z).abs();
+    }
+    println!("released at once: height error after 2 minutes {err:.3} m");
+    assert!(err < 0.5, "{err} m");
+}

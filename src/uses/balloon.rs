@@ -3,7 +3,8 @@
 
 use super::stages::{
     Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset, TimeBase, change_at, check_common,
-    fix_target, kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_height,
+    fix_target, ground_tolerance_m, kalman_sigma_m, kalman_step, pointwise_sigma_m,
+    standard_height,
 };
 use super::{BalloonState, Flags, Output, Sample, Use};
 use crate::Error;
@@ -335,7 +336,9 @@ impl<'a, const N: usize> Balloon<'a, N> {
                 (raw_m, 0.0, pointwise_sigma_m(noise, dk, p, column_k, above))
             }
         };
+        let agrees = |g: &Ground| g.agrees(model_m, ground_tolerance_m(baro.sigma_m));
         let at_rest = datum.is_some_and(|d| d.averaging)
+            && self.ground.as_ref().is_some_and(agrees)
             && v.abs() < s.states.rest_mps
             && !flags.contains(Flags::OUTLIER)
             && !flags.contains(Flags::REACQUIRED);

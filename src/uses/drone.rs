@@ -3,8 +3,8 @@
 
 use super::stages::{
     Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset, TimeBase, altimeter_change_m,
-    change_at, check_altimeter, check_common, fix_target, kalman_sigma_m, kalman_step,
-    pointwise_sigma_m, standard_height,
+    change_at, check_altimeter, check_common, fix_target, ground_tolerance_m, kalman_sigma_m,
+    kalman_step, pointwise_sigma_m, standard_height,
 };
 use super::{DroneState, Flags, Output, Sample, Use};
 use crate::Error;
@@ -285,6 +285,9 @@ impl<'a> Drone<'a> {
         // the reference takes samples the filter accepted, at rest only
         let at_rest = datum.averaging
             && v.abs() < s.states.rest_mps
+            && self
+                .ground
+                .agrees(model_m, ground_tolerance_m(baro.sigma_m))
             && !flags.contains(Flags::OUTLIER)
             && !flags.contains(Flags::REACQUIRED);
         let measured = !flags.contains(Flags::OUTLIER);

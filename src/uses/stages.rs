@@ -321,6 +321,17 @@ impl Ground {
         self.frozen = step.frozen;
     }
 
+    /// Whether a sample at model height `model_m` (m) agrees with the samples averaged
+    /// so far: within `tolerance_m` of their mean (any sample agrees with none). A
+    /// device that already climbs or falls at start (a sonde released at once, a
+    /// power-on in flight) then averages nothing but its first sample.
+    pub fn agrees(&self, model_m: f32, tolerance_m: f32) -> bool {
+        match self.reference.running_mean() {
+            Ok(mean) => (model_m - mean.meters()).abs() <= tolerance_m,
+            Err(_) => true,
+        }
+    }
+
     /// Starts a new average (re-arming on the ground).
     pub fn rezero(&mut self) {
         self.reference.rezero();
@@ -524,6 +535,14 @@ pub(crate) fn change_at<S>(
         time: e.time,
         altitude_m: e.height_m,
     })
+}
+
+/// How far a sample at rest may lie from the ground reference's mean and still join
+/// it, m: five times the sample's own 1-sigma `sigma_m`, at least 0.5 m (a sample
+/// further off is a climb that has begun, or a gust; choice of this crate).
+pub(crate) fn ground_tolerance_m(sigma_m: f32) -> f32 {
+    let t = 5.0 * sigma_m;
+    if t > 0.5 { t } else { 0.5 }
 }
 
 /// 1-sigma height noise from the pressure noise `noise_pa` at `p` in a column at
