@@ -15,17 +15,39 @@
 //!
 //! Input: CSV with a header row, columns by name in any order (a name given twice is
 //! refused), `#` lines are comments (also indented ones), blank lines are skipped:
-//! `time_s` (required, strictly increasing), `pressure_pa` (required column; an empty
-//! cell is allowed only in a row that carries `accel_up_mps2`: an accelerometer-only
-//! row between barometer samples, used by the estimator and given no output row),
-//! `temperature_c`, `humidity_pct`, `accel_up_mps2`, `known_altitude_m`. One line is one
-//! row (`\n`, `\r\n` or `\r` ends it; a quoted field cannot span lines), and line
-//! numbers in messages count every line of the file, comments and blank ones included.
-//! Column names are matched exactly (case matters) after trimming blanks; other columns
-//! are ignored. Blanks around a field are ignored; an empty cell in an optional column
-//! means "no value" (not a bad row). Numbers: decimal point, optional sign and exponent
-//! (`+1.01325e5`); `inf`, `nan` and values beyond the physical ranges reject the row.
-//! Bytes that are not UTF-8 spoil only the rows they are in (a Latin-1 comment is fine).
+//! `time_s` (required, s, strictly increasing), `pressure_pa` (required column, Pa; an
+//! empty cell is allowed only in a row that carries `accel_up_mps2`: an
+//! accelerometer-only row between barometer samples, used by the estimator and given no
+//! output row), and the optional channels:
+//!
+//! - `temperature_c`: AIR temperature, degC (100..400 K);
+//! - `sensor_temperature_c`: the barometer's own temperature, degC (100..400 K), read
+//!   and checked but never used as air temperature (a sensor warmed by its board reads
+//!   warmer than the air);
+//! - `humidity_pct`: relative humidity, % (0..110; above 100 is taken as 100 and flagged
+//!   `humidity_clamped`: real sensors read so in cloud);
+//! - `accel_up_mps2`: earth-frame vertical acceleration, gravity removed, m/s^2 (within
+//!   20 g);
+//! - `known_altitude_m`: an exact known elevation (summit marker, surveyed point), m
+//!   (-5 km..90 km);
+//! - `gnss_altitude_m`: satellite altitude, geometric above mean sea level, m (-5 km..90
+//!   km), and `gnss_accuracy_m`, its 1-sigma vertical accuracy, m (above 0, at most
+//!   10 km): read and checked, not fused into the height (the summary says so).
+//!
+//! One line is one row (`\n`, `\r\n` or `\r` ends it; a quoted field cannot span
+//! lines), and line numbers in messages count every line of the file, comments and
+//! blank ones included. Column names are matched exactly (case matters) after trimming
+//! blanks; other columns are ignored. Blanks around a field are ignored; an empty cell
+//! in an optional column means "no value" (not a bad row). Numbers: decimal point,
+//! optional sign and exponent (`+1.01325e5`). Bytes that are not UTF-8 spoil only the
+//! rows they are in (a Latin-1 comment is fine).
+//!
+//! A bad required value (time, pressure: missing, unparsable, `inf`, `nan` or beyond
+//! its physical range) rejects the row. A bad optional value (unparsable, `inf`, `nan`
+//! or out of the range above) drops that channel only: the row is kept, a warning
+//! names its line and the value, and the output row's flags name the channel dropped
+//! (`temperature_ignored`, `humidity_ignored`, `accel_ignored`, `fix_ignored`,
+//! `sensor_temperature_ignored`, `gnss_altitude_ignored`, `gnss_accuracy_ignored`).
 //!
 //! Output: `time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
 //! ascent_m,descent_m,flags`, one row per accepted barometer row. `NaN` in a numeric
@@ -38,14 +60,17 @@
 //!
 //! Messages are bounded: a cell is echoed cut short (40 characters) with control
 //! characters escaped; a line over 1 MiB is rejected without being read into memory;
-//! the terminal shows the first 20 bad rows and the summary file the first 100, each
-//! with the count of the others.
+//! the terminal shows the first 20 bad rows and the first 20 dropped-channel warnings,
+//! the summary file the first 100 of each, each list with the count of the others.
 //!
-//! Exit codes: 0 success (rows may have been skipped: see the summary, which lists the
-//! bad rows); 1 bad command line or a file that cannot be read or written; 2 a bad row
-//! with `--strict`; 3 no usable row at all (empty file, no data row, every row bad: the
-//! error lists them; missing or repeated required column).
+//! Exit codes: 0 success (rows may have been skipped or channels dropped: see the
+//! summary, which lists them); 1 bad command line or a file that cannot be read or
+//! written; 2 a bad row or a bad optional value with `--strict`; 3 no usable row at all
+//! (empty file, no data row, every row bad: the error lists them; missing or repeated
+//! required column).
 
+#[path = "replay/channels.rs"]
+pub(crate) mod channels;
 #[path = "replay/delay.rs"]
 mod delay;
 #[path = "replay/engine.rs"]
@@ -154,7 +179,8 @@ pub(crate) struct Cli {
     /// gravity 9.80665 m/s^2.
     #[arg(long, value_name = "D", allow_hyphen_values = true, value_parser = finite_number)]
     pub(crate) latitude_deg: Option<f32>,
-    /// Stop at the first bad row with exit code 2 instead of skipping it.
+    /// Stop at the first bad row or bad optional value with exit code 2 instead of
+    /// skipping the row or dropping the channel.
     #[arg(long)]
     pub(crate) strict: bool,
     /// Print nothing but errors (no messages, summary or progress).
@@ -163,24 +189,33 @@ pub(crate) struct Cli {
 }
 
 const AFTER_HELP: &str = "\
-Input columns: time_s (required), pressure_pa (required; empty only in an
-accelerometer-only row), temperature_c, humidity_pct, accel_up_mps2, known_altitude_m.
+Input columns: time_s (required, s), pressure_pa (required, Pa; empty only in an
+accelerometer-only row), and optional: temperature_c (AIR temperature, degC),
+sensor_temperature_c (the barometer's own temperature, degC: checked, never used as
+air temperature), humidity_pct (0..110; above 100 is taken as 100, flagged
+humidity_clamped), accel_up_mps2 (vertical, gravity removed, within 20 g),
+known_altitude_m (an exact known elevation), gnss_altitude_m and gnss_accuracy_m
+(satellite altitude above mean sea level and its 1-sigma, m: checked, not fused).
 Names match exactly (case matters); other columns are ignored. Lines starting with #
 (after any blanks) are comments; blank lines are skipped. Blanks around fields are
-ignored; an empty optional cell means no value. Numbers like 95000, +1.01325e5; inf and
-nan are refused.
+ignored; an empty optional cell means no value. Numbers like 95000, +1.01325e5.
 Output columns: time_s,pressure_pa,altitude_m,vertical_speed_mps,altitude_sigma_m,phase,
 ascent_m,descent_m,flags. NaN means no value: a flagged row before the first accepted
 one has no height, speed or sigma. With --filter off the speed is the difference to the
 previous accepted row (the first accepted row shows the step after it).
-A bad row (wrong field count, unparsable or non-physical value, time not after the
-previous row) is reported with its line number and skipped, or stops the run with
---strict (exit 2); line numbers count every line of the file. A cell is echoed cut
-short, control characters escaped; a line over 1 MiB is a bad row. The first 20
-messages are printed, the summary file lists the first 100, each with the count of
-the others. Output files default to the input's name: x.csv gives x.out.csv, x.svg
+A bad row (wrong field count; time or pressure missing, unparsable, inf, nan or
+non-physical; time not after the previous row) is reported with its line number and
+skipped. A bad optional value (unparsable, inf, nan, out of range: temperatures
+outside 100..400 K, humidity outside 0..110 %) drops that channel only: the row is
+kept, a warning names its line, and the row's flags name the channel
+(temperature_ignored, humidity_ignored, accel_ignored, fix_ignored,
+sensor_temperature_ignored, gnss_altitude_ignored, gnss_accuracy_ignored). With
+--strict either stops the run (exit 2). Line numbers count every line of the file. A
+cell is echoed cut short, control characters escaped; a line over 1 MiB is a bad
+row. The first 20 bad rows and 20 warnings are printed, the summary file lists the
+first 100 of each, each with the count of the others. Output files default to the input's name: x.csv gives x.out.csv, x.svg
 and x.summary.txt. Progress is shown on stderr for long runs when it is a terminal. Exit codes: 0 ok, 1 usage or I/O error,
-2 bad row with --strict, 3 no usable row (the error lists the bad rows) or a missing
+2 bad row or value with --strict, 3 no usable row (the error lists the bad rows) or a missing
 or repeated column name.
 Not certified for aviation, navigation or life-safety use (see SAFETY.md).";
 
@@ -346,20 +381,14 @@ pub(crate) fn run_input(
         }
     };
     table.finish()?;
-    let listed = if stats.messages.left_off() > 0 {
-        format!(
-            " (the first {} are listed in {})",
-            Messages::LIMIT,
-            files.summary.display()
-        )
-    } else {
-        format!(" (listed in {})", files.summary.display())
-    };
+    let lists = [
+        (&stats.messages, "bad rows"),
+        (&stats.warnings, "rows with a dropped channel"),
+    ];
     if !cli.quiet {
-        eprint!(
-            "{}",
-            stats.messages.lines(20, &format!("{name}: "), &listed)
-        );
+        for (messages, what) in lists {
+            eprint!("{}", terminal_list(name, messages, what, &files.summary));
+        }
     }
     plot::draw(&files.plot, name, &envelope, &stats.events)?;
     let mut text = summary::summary_text(name, &settings, &stats);
@@ -369,14 +398,31 @@ pub(crate) fn run_input(
         files.plot.display(),
         files.summary.display()
     ));
-    // The file gets the first bad rows' messages and the count of the others.
+    // The file gets the first messages of each list and the count of the others.
     let mut file_text = text.clone();
-    if stats.messages.kept().len() + stats.messages.left_off() > 0 {
-        file_text.push_str("bad rows:\n");
-        file_text.push_str(&stats.messages.lines(Messages::LIMIT, "  ", " (not listed)"));
+    for (messages, what) in lists {
+        if messages.kept().len() + messages.left_off() > 0 {
+            file_text.push_str(&format!("{what}:\n"));
+            file_text.push_str(&messages.lines(Messages::LIMIT, "  ", what, " (not listed)"));
+        }
     }
     fs::write(&files.summary, &file_text).map_err(io_failure(&files.summary))?;
     Ok(text)
+}
+
+/// The first 20 messages of a list for the terminal, each after the log's `name`, and
+/// the count of the others with where they are listed.
+fn terminal_list(name: &str, messages: &Messages, what: &str, summary: &Path) -> String {
+    let listed = if messages.left_off() > 0 {
+        format!(
+            " (the first {} are listed in {})",
+            Messages::LIMIT,
+            summary.display()
+        )
+    } else {
+        format!(" (listed in {})", summary.display())
+    };
+    messages.lines(20, &format!("{name}: "), what, &listed)
 }
 
 /// Run the log file `input` as the command line asks.

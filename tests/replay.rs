@@ -13,6 +13,7 @@ mod replay_tool;
 mod sim;
 
 use clap::Parser;
+use isohypse::uses::Flags;
 use replay_tool::{
     Cli, DEMOS, Replay, replay, run, run_one, settings_for, write_output, write_plot,
 };
@@ -246,19 +247,26 @@ time_s,pressure_pa,temperature_c
 6,95020,10
 ";
     let r = replay(log, Settings::preset(PresetArg::Hike), false).unwrap();
+    // the temperature of -400 degC (line 7) is a bad optional value: that channel is
+    // dropped, the row kept (shared/design.md file contract)
     assert_eq!(
-        r.outputs.len(),
-        2,
-        "rows at t=0 and t=6: {:?}\n{:?}",
         r.outputs.iter().map(|o| o.0.time_s).collect::<Vec<_>>(),
+        [0.0, 4.0, 6.0],
+        "{:?}",
         r.messages
+    );
+    assert!(r.outputs[1].1.flags.contains(Flags::TEMPERATURE_IGNORED));
+    assert_eq!(r.warnings.len(), 1, "{:?}", r.warnings);
+    assert!(
+        r.warnings[0].starts_with("line 7: temperature_c -400"),
+        "{:?}",
+        r.warnings
     );
     let joined = r.messages.join("\n");
     for (line, text) in [
         (4, "fields"),
         (5, "not a number"),
         (6, "positive"),
-        (7, "temperature_c"),
         (8, "not after"),
         (9, "fields"),
     ] {
@@ -269,7 +277,7 @@ time_s,pressure_pa,temperature_c
             "line {line} ({text}) missing in:\n{joined}"
         );
     }
-    assert_eq!(r.rejected.values().sum::<usize>(), 6);
+    assert_eq!(r.rejected.values().sum::<usize>(), 5);
     // --strict stops at the first bad row with exit code 2
     let err = replay(log, Settings::preset(PresetArg::Hike), true).unwrap_err();
     assert_eq!(err.code(), 2);
@@ -374,7 +382,9 @@ fn cli(args: &[&str]) -> Cli {
 fn line_numbers_count_every_line_of_the_file() {
     // Contract: "a message names its line number"; line numbers count comment and
     // blank lines as lines of the file. The expected numbers are the positions of the
-    // marked lines in the list below (1-based), whatever ends the lines.
+    // marked lines in the list below (1-based), whatever ends the lines: a bad
+    // pressure (a bad row) and a bad temperature (a warning: the channel is dropped,
+    // the row kept).
     let lines = [
         "# recorder 7, invented test log",
         "",
@@ -403,17 +413,21 @@ fn line_numbers_count_every_line_of_the_file() {
         let mut text = lines.join(ending);
         text.push_str(ending);
         let r = replay(&text, Settings::preset(PresetArg::Hike), false).unwrap();
-        let got: Vec<String> = r.messages.clone();
-        assert_eq!(got.len(), 2, "{ending:?}: {got:?}");
-        for (m, line) in got.iter().zip(&bad) {
+        let got: Vec<String> = r.messages.iter().chain(&r.warnings).cloned().collect();
+        assert_eq!(
+            (r.messages.len(), r.warnings.len()),
+            (1, 1),
+            "{ending:?}: {got:?}"
+        );
+        for ((m, line), column) in got.iter().zip(&bad).zip(["pressure_pa", "temperature_c"]) {
             assert!(
-                m.starts_with(&format!("line {line}: ")) && m.contains("not a number"),
+                m.starts_with(&format!("line {line}: {column} ")) && m.contains("not a number"),
                 "{ending:?}: {m}"
             );
         }
         // the comments (indented ones too) and blank lines are no rows
         let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
-        assert_eq!(times, [0.0, 2.0, 4.0], "{ending:?}");
+        assert_eq!(times, [0.0, 2.0, 3.0, 4.0], "{ending:?}");
         // --strict stops at the first bad row, with its line
         let err = replay(&text, Settings::preset(PresetArg::Hike), true).unwrap_err();
         assert_eq!(err.code(), 2);
@@ -424,12 +438,9 @@ fn line_numbers_count_every_line_of_the_file() {
         );
         // a byte order mark at the start changes nothing
         let with_bom = format!("\u{feff}{text}");
-        assert_eq!(
-            replay(&with_bom, Settings::preset(PresetArg::Hike), false)
-                .unwrap()
-                .messages,
-            got
-        );
+        let r = replay(&with_bom, Settings::preset(PresetArg::Hike), false).unwrap();
+        let with_bom_got: Vec<String> = r.messages.iter().chain(&r.warnings).cloned().collect();
+        assert_eq!(with_bom_got, got);
     }
 }
 
@@ -806,10 +817,12 @@ fn rows_before_the_first_estimate_show_no_number() {
 #[test]
 fn number_formats_blanks_empty_cells_and_unknown_columns() {
     // Contract: columns by name (others are not read); a row is rejected for an
-    // unparsable or non-physical value. Blanks around a field, a `+` sign and
-    // exponents are ordinary number text (Rust's and C's number syntax, common
-    // practice in CSV files); an empty optional cell means "no value" and is no reason
-    // to reject the row. inf and nan are not physical values.
+    // unparsable or non-physical required value (time, pressure), and a bad optional
+    // value drops that channel only (the row kept, a warning, the row flagged).
+    // Blanks around a field, a `+` sign and exponents are ordinary number text (Rust's
+    // and C's number syntax, common practice in CSV files); an empty optional cell
+    // means "no value" and is no reason to reject the row. inf and nan are not
+    // physical values. Humidity between 100 and 110 % is a value (taken as 100 %).
     let log = "\
 time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
 0,95000,,,start,
@@ -827,7 +840,12 @@ time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
 ";
     let r = replay(log, Settings::preset(PresetArg::Hike), false).unwrap();
     let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
-    assert_eq!(times, [0.0, 1.0, 2.0, 3.0], "{:?}", r.messages);
+    assert_eq!(
+        times,
+        [0.0, 1.0, 2.0, 3.0, 5.0, 6.0, 7.0, 9.0, 11.0],
+        "{:?}",
+        r.messages
+    );
     // rows 1 to 3 read the same pressure as row 0; empty cells are no value
     for (row, _) in &r.outputs {
         assert_eq!(row.pressure_pa, Some(95_000.0));
@@ -837,19 +855,16 @@ time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
     assert_eq!(r.outputs[2].0.humidity_pct, None);
     assert_eq!(r.outputs[1].0.temperature_c, Some(15.0));
     assert_eq!(r.outputs[3].0.humidity_pct, Some(40.0));
+    assert_eq!(r.outputs[6].0.humidity_pct, Some(100.5));
     // U.S. 1976 pressure altitude of 95 000 Pa, f64 from the standard's constants
     // (tests/common `US76`), within the crate's stated accuracy
     let z = common::US76.pressure_altitude(95_000.0);
     assert!((f64::from(r.outputs[0].1.altitude_m) - z).abs() <= common::height_limit(z));
+    // bad rows: a bad required value
     for (line, text) in [
         (6, "pressure_pa is not finite"),
-        (7, "temperature_c is not finite"),
-        (8, "humidity_pct is not finite"),
-        (9, "humidity_pct 100.5 outside 0..100"),
         (10, "pressure_pa must be positive"),
-        (11, "temperature_c -274"),
         (12, "pressure_pa is not finite"),
-        (13, "known_altitude_m is not finite"),
     ] {
         assert!(
             r.messages
@@ -859,7 +874,42 @@ time_s , pressure_pa,temperature_c,humidity_pct, comment ,known_altitude_m
             r.messages
         );
     }
-    assert_eq!(r.messages.len(), 8);
+    assert_eq!(r.messages.len(), 3);
+    // warnings: a bad optional value, its channel dropped and flagged
+    for (line, text, t, flag) in [
+        (
+            7,
+            "temperature_c is not finite",
+            5.0,
+            Flags::TEMPERATURE_IGNORED,
+        ),
+        (
+            8,
+            "humidity_pct is not finite",
+            6.0,
+            Flags::HUMIDITY_IGNORED,
+        ),
+        (11, "temperature_c -274", 9.0, Flags::TEMPERATURE_IGNORED),
+        (
+            13,
+            "known_altitude_m is not finite",
+            11.0,
+            Flags::FIX_IGNORED,
+        ),
+    ] {
+        assert!(
+            r.warnings
+                .iter()
+                .any(|m| m.starts_with(&format!("line {line}: ")) && m.contains(text)),
+            "line {line} ({text}) missing in {:?}",
+            r.warnings
+        );
+        let (_, o) = r.outputs.iter().find(|(row, _)| row.time_s == t).unwrap();
+        assert!(o.flags.contains(flag), "t = {t}: {:?}", o.flags);
+    }
+    assert_eq!(r.warnings.len(), 4);
+    // 100.5 % is taken as 100 % and flagged, without a warning
+    assert!(r.outputs[6].1.flags.contains(Flags::HUMIDITY_CLAMPED));
     // a known elevation in an accelerometer-only row (no pressure) cannot be used: it
     // is counted, not dropped silently
     let r = replay(
@@ -1130,8 +1180,10 @@ fn a_huge_cell_is_echoed_cut_short_and_control_bytes_escaped() {
     );
     let r = replay(&log, Settings::preset(PresetArg::Hike), false).unwrap();
     let times: Vec<f64> = r.outputs.iter().map(|(row, _)| row.time_s).collect();
-    assert_eq!(times, [0.0, 3.0], "{:?}", r.messages);
-    assert_eq!(r.messages.len(), 2);
+    // the control bytes are in the (optional) temperature: that channel is dropped
+    // with a warning, the row kept
+    assert_eq!(times, [0.0, 2.0, 3.0], "{:?}", r.messages);
+    assert_eq!((r.messages.len(), r.warnings.len()), (1, 1));
     let big = &r.messages[0];
     assert_eq!(
         *big,
@@ -1140,12 +1192,12 @@ fn a_huge_cell_is_echoed_cut_short_and_control_bytes_escaped() {
             "x".repeat(40)
         )
     );
-    let control = &r.messages[1];
+    let control = &r.warnings[0];
     assert!(
         control.starts_with("line 4: temperature_c is not a number: '\\u{1b}[31m\\u{7}\\0'"),
         "{control}"
     );
-    for m in &r.messages {
+    for m in r.messages.iter().chain(&r.warnings) {
         assert!(m.len() < 200, "{} bytes", m.len());
         assert!(!m.chars().any(char::is_control), "{m:?}");
     }
@@ -1511,4 +1563,367 @@ fn a_run_stopped_by_strict_leaves_no_table() {
     let table = std::fs::read_to_string(dir.join("log.out.csv")).unwrap();
     assert_eq!(table.lines().count(), 4, "{table}");
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// Runs `log` and `reference` (the same log with one kind of cell changed) with
+/// `settings`; asserts that they give the same rows and outputs but for `flag`, which
+/// the rows of `log` at the times `flagged` carry and those of the reference do not.
+/// Returns the run of `log`.
+fn same_but_flagged(
+    log: &str,
+    reference: &str,
+    settings: Settings,
+    flag: Flags,
+    flagged: &[f64],
+) -> Replay {
+    let r = replay(log, settings, false).unwrap();
+    let e = replay(reference, settings, false).unwrap();
+    assert_eq!(r.outputs.len(), e.outputs.len(), "{settings:?}");
+    assert!(
+        r.rejected.is_empty() && e.rejected.is_empty(),
+        "{settings:?}"
+    );
+    for ((row, o), (_, reference)) in r.outputs.iter().zip(&e.outputs) {
+        let mut expected = *reference;
+        assert_eq!(expected.flags.0 & flag.0, 0, "{settings:?}: {reference:?}");
+        if flagged.contains(&row.time_s) {
+            expected.flags.insert(flag);
+        }
+        // Debug text: equal exactly when the numbers are (NaN included)
+        assert_eq!(
+            format!("{o:?}"),
+            format!("{expected:?}"),
+            "{settings:?}: t = {}",
+            row.time_s
+        );
+    }
+    r
+}
+
+/// Every preset, filter on and off, with the preset's own model.
+fn every_run() -> impl Iterator<Item = Settings> {
+    [PresetArg::Balloon, PresetArg::Drone, PresetArg::Hike]
+        .into_iter()
+        .flat_map(|preset| {
+            [false, true].map(|pointwise| Settings {
+                pointwise,
+                ..Settings::preset(preset)
+            })
+        })
+}
+
+#[test]
+fn a_bad_temperature_keeps_the_row_and_its_pressure_height() {
+    // Contract (shared/design.md): a bad OPTIONAL channel (e.g. a temperature below
+    // 0 K) drops that channel only: the line is named in a warning, the row is kept,
+    // the output flags say which channel was dropped. -300 degC is below 0 K
+    // (-273.15 degC, SI). The row must run exactly as with an empty temperature cell,
+    // flagged temperature_ignored, for every preset, filter on and off.
+    let log_with = |t: &str| {
+        format!(
+            "time_s,pressure_pa,temperature_c\n0,95000,15\n1,94990,15\n2,94980,{t}\n3,94970,15\n"
+        )
+    };
+    let (bad, empty) = (log_with("-300"), log_with(""));
+    for settings in every_run() {
+        let r = same_but_flagged(&bad, &empty, settings, Flags::TEMPERATURE_IGNORED, &[2.0]);
+        assert_eq!(r.outputs.len(), 4);
+        assert_eq!(r.outputs[2].0.temperature_c, None);
+        assert_eq!(
+            r.warnings,
+            ["line 4: temperature_c -300 outside 100..400 K (dropped; the row is kept)"],
+            "{settings:?}"
+        );
+    }
+    // the table as written: the row keeps its pressure height, the U.S. 1976 pressure
+    // altitude of 94 980 Pa (f64 from the standard's constants, tests/common `US76`,
+    // within the crate's stated accuracy plus the printed decimals), flagged; the
+    // summary file lists the warning
+    let (table, summary) = run_quietly(
+        "bad-temperature",
+        &bad,
+        &["--preset", "hike", "--filter", "off", "--model", "standard"],
+    );
+    let row = &table[3];
+    let z = common::US76.pressure_altitude(94_980.0);
+    assert!(
+        (num(&row[2]) - z).abs() <= common::height_limit(z) + 0.0005,
+        "{row:?}, expected {z}"
+    );
+    assert_eq!(row[8], "temperature_ignored");
+    assert!(
+        summary.contains("rows with a dropped channel:\n  line 4: temperature_c -300"),
+        "{summary}"
+    );
+    assert!(summary.contains("temperature_ignored 1"), "{summary}");
+}
+
+/// A balloon-like log: pressure and temperature of the U.S. 1976 troposphere on an
+/// ascent of 5 m/s (p = 101325 (1 - 2.25577e-5 z)^5.25588 Pa, T = 15 - 0.0065 z degC:
+/// U.S. Standard Atmosphere 1976, eq. 33a with its Table 4 values; common practice in
+/// this closed form), with the humidity cell of each row from `humidity(i)`.
+fn ascent_log(rows: usize, humidity: impl Fn(usize) -> String) -> String {
+    let mut log = String::from("time_s,pressure_pa,temperature_c,humidity_pct\n");
+    for i in 0..rows {
+        let z = 100.0 + 5.0 * i as f64;
+        let p = 101_325.0 * (1.0 - 2.25577e-5 * z).powf(5.25588);
+        let t = 15.0 - 0.0065 * z;
+        log.push_str(&format!("{i},{p:.1},{t:.2},{}\n", humidity(i)));
+    }
+    log
+}
+
+#[test]
+fn humidity_over_100_up_to_110_is_taken_as_100_and_flagged() {
+    // Contract: humidity between 100 and 110 % (real sensors in cloud) is clamped to
+    // 100 % and flagged. A run with 105 % must equal the run with 100 % but for the
+    // flag humidity_clamped, with no warning, filter on and off; --strict does not
+    // stop on it (it is a value the contract accepts).
+    let with = |h: &'static str| ascent_log(40, move |i| if i == 20 { h } else { "80" }.into());
+    for settings in every_run() {
+        let r = same_but_flagged(
+            &with("105"),
+            &with("100"),
+            settings,
+            Flags::HUMIDITY_CLAMPED,
+            &[20.0],
+        );
+        assert!(r.warnings.is_empty(), "{:?}", r.warnings);
+        assert!(replay(&with("105"), settings, true).is_ok());
+    }
+    // the humidity is used (sounding model): 100 % and 0 % give other heights, so the
+    // equality above is no accident of a model that ignores humidity
+    for pointwise in [false, true] {
+        let s = Settings {
+            pointwise,
+            ..Settings::preset(PresetArg::Balloon)
+        };
+        let (wet, dry) = (replay(&with("100"), s, false), replay(&with("0"), s, false));
+        let (wet, dry) = (wet.unwrap(), dry.unwrap());
+        let top = |r: &Replay| r.outputs.last().unwrap().1.altitude_m;
+        assert_ne!(top(&wet), top(&dry), "pointwise {pointwise}");
+    }
+    // the table: the flag by name
+    let (table, _) = run_quietly(
+        "humidity-105",
+        &with("105"),
+        &["--preset", "balloon", "--filter", "off"],
+    );
+    assert_eq!(table[21][8], "humidity_clamped", "{:?}", table[21]);
+}
+
+#[test]
+fn humidity_over_110_is_dropped_and_flagged() {
+    // Contract: a bad optional channel drops that channel only. 120 % is beyond the
+    // 110 % a sensor reads in cloud: the row runs as with an empty humidity cell,
+    // flagged humidity_ignored, with a warning naming its line; filter on and off.
+    let with = |h: &'static str| ascent_log(40, move |i| if i == 20 { h } else { "80" }.into());
+    for settings in every_run() {
+        let r = same_but_flagged(
+            &with("120"),
+            &with(""),
+            settings,
+            Flags::HUMIDITY_IGNORED,
+            &[20.0],
+        );
+        assert_eq!(
+            r.warnings,
+            ["line 22: humidity_pct 120 outside 0..110 % (dropped; the row is kept)"]
+        );
+    }
+}
+
+#[test]
+fn strict_stops_on_a_bad_optional_value() {
+    // Contract: with --strict a bad optional channel stops the run with a non-zero
+    // exit (2, as for a bad row), naming the line and the column. Without it the row
+    // is kept. The values are outside each channel's range (temperatures below 0 K,
+    // humidity over 110 %, 1000 m/s^2 beyond 20 g, heights beyond 90 km, a 1-sigma
+    // that is not positive) or no number at all.
+    let columns = [
+        ("temperature_c", "-300"),
+        ("humidity_pct", "120"),
+        ("accel_up_mps2", "1000"),
+        ("known_altitude_m", "1e6"),
+        ("sensor_temperature_c", "-300"),
+        ("gnss_altitude_m", "1e6"),
+        ("gnss_accuracy_m", "-1"),
+    ];
+    for (column, bad) in columns {
+        for value in [bad, "x", "inf", "nan", "1e999"] {
+            let log = format!("time_s,pressure_pa,{column}\n0,95000,\n1,95010,{value}\n2,95020,\n");
+            for settings in every_run() {
+                let err = replay(&log, settings, true).unwrap_err();
+                assert_eq!(err.code(), 2, "{column} {value}");
+                assert!(
+                    err.message().starts_with(&format!("line 3: {column} ")),
+                    "{column} {value}: {}",
+                    err.message()
+                );
+                let r = replay(&log, settings, false).unwrap();
+                assert_eq!(r.outputs.len(), 3, "{column} {value}");
+                assert_eq!(r.warnings.len(), 1, "{column} {value}");
+                assert!(r.rejected.is_empty());
+            }
+        }
+    }
+    // the command line: exit code 2, no table left
+    let dir = scratch("strict-optional");
+    let input = dir.join("log.csv");
+    std::fs::write(
+        &input,
+        "time_s,pressure_pa,humidity_pct\n0,95000,50\n1,95010,abc\n",
+    )
+    .unwrap();
+    let input_s = input.to_string_lossy().into_owned();
+    let err = run(&cli(&[&input_s, "--quiet", "--strict"])).unwrap_err();
+    assert_eq!(err.code(), 2);
+    assert!(
+        err.message()
+            .starts_with("line 3: humidity_pct is not a number: 'abc'"),
+        "{}",
+        err.message()
+    );
+    assert!(!dir.join("log.out.csv").exists());
+    let _ = std::fs::remove_dir_all(&dir);
+    // an accelerometer-only row whose acceleration is bad is kept without it: counted
+    // as accel_ignored, with a warning (it has no output row to flag)
+    let log = "time_s,pressure_pa,accel_up_mps2\n0,95000,0\n0.5,,1000\n1,95010,0\n";
+    let r = replay(log, Settings::preset(PresetArg::Drone), false).unwrap();
+    assert_eq!((r.outputs.len(), r.accel_rows), (2, 1));
+    assert_eq!(r.flag_counts.get("accel_ignored"), Some(&1));
+    assert_eq!(
+        r.warnings,
+        ["line 3: accel_up_mps2 1000 beyond 20 g (196.133 m/s^2) (dropped; the row is kept)"]
+    );
+    assert_eq!(
+        replay(log, Settings::preset(PresetArg::Drone), true)
+            .unwrap_err()
+            .code(),
+        2
+    );
+}
+
+#[test]
+fn the_barometer_temperature_and_satellite_columns_are_read_not_used() {
+    // Contract: `sensor_temperature_c` is the barometer's own temperature (never air
+    // temperature), `gnss_altitude_m` and `gnss_accuracy_m` a satellite altitude and
+    // its 1-sigma. Read and checked as optional channels; the library does not fuse
+    // the satellite altitude: every output equals that of the log without the
+    // columns, and the summary says "gnss_altitude_m present: not fused". A sensor
+    // temperature of 40 degC with no air temperature leaves the air temperature
+    // assumed (standard atmosphere), as without the column.
+    let mut plain = String::from("time_s,pressure_pa\n");
+    let mut full =
+        String::from("time_s,gnss_accuracy_m,pressure_pa,sensor_temperature_c,gnss_altitude_m\n");
+    for i in 0..30 {
+        let p = 95_000 - 12 * i;
+        plain.push_str(&format!("{i},{p}\n"));
+        full.push_str(&format!("{i},4.5,{p},40,{}\n", 540 + i));
+    }
+    for settings in every_run() {
+        let r = same_but_flagged(&full, &plain, settings, Flags::default(), &[]);
+        assert_eq!(r.outputs.len(), 30);
+        assert!(r.warnings.is_empty());
+        let row = r.outputs[3].0;
+        assert_eq!(
+            (
+                row.sensor_temperature_c,
+                row.gnss_altitude_m,
+                row.gnss_accuracy_m
+            ),
+            (Some(40.0), Some(543.0), Some(4.5))
+        );
+        assert_eq!(row.temperature_c, None);
+    }
+    let r = replay(&full, Settings::preset(PresetArg::Balloon), false).unwrap();
+    assert!(r.outputs[0].1.flags.contains(Flags::TEMPERATURE_ASSUMED));
+    let (_, summary) = run_quietly("new-columns", &full, &["--preset", "balloon"]);
+    assert!(
+        summary.contains("gnss_altitude_m present: not fused"),
+        "{summary}"
+    );
+    assert!(
+        summary.contains("sensor_temperature_c present: not used as air temperature"),
+        "{summary}"
+    );
+    // a column without values says nothing
+    let empty = "time_s,pressure_pa,gnss_altitude_m\n0,95000,\n1,95010,\n";
+    let (_, summary) = run_quietly("new-columns-empty", empty, &[]);
+    assert!(!summary.contains("gnss_altitude_m present"), "{summary}");
+    // bad values drop their channel only, flagged by the tool's own names
+    let bad = "time_s,pressure_pa,sensor_temperature_c,gnss_altitude_m,gnss_accuracy_m\n\
+               0,95000,20,540,3\n1,95010,-300,1e6,0\n2,95020,20,abc,3\n";
+    let (table, summary) = run_quietly("new-columns-bad", bad, &["--preset", "hike"]);
+    assert_eq!(table.len(), 4, "{table:?}");
+    assert_eq!(table[1][8], "");
+    assert_eq!(
+        table[2][8],
+        "sensor_temperature_ignored|gnss_altitude_ignored|gnss_accuracy_ignored"
+    );
+    assert_eq!(table[3][8], "gnss_altitude_ignored");
+    for text in [
+        "line 3: sensor_temperature_c -300 outside 100..400 K; gnss_altitude_m 1000000 outside -5 km..90 km; gnss_accuracy_m 0 is not a 1-sigma",
+        "line 4: gnss_altitude_m is not a number: 'abc'",
+        "gnss_altitude_ignored 2",
+    ] {
+        assert!(summary.contains(text), "{text} missing in:\n{summary}");
+    }
+}
+
+#[test]
+fn a_sonde_log_in_cloud_loses_no_row() {
+    // Real sondes report 100 to 111 % in cloud (common practice: capacitive sensors
+    // read above saturation when wet). An invented ascent where every third row reads
+    // 100, 101, ... 111 % in turn (the others 60 %): no row may be lost. Rows over
+    // 100 % and up to 110 % are taken as 100 % (flagged humidity_clamped), 111 % is
+    // dropped (flagged humidity_ignored, with a warning); every row runs as in the
+    // same log with those cells written 100 or left empty.
+    let rows = 600;
+    let cell = |i: usize| (i % 3 == 0).then(|| 100 + (i / 3) % 12);
+    let log = ascent_log(rows, |i| cell(i).map_or("60".into(), |h| h.to_string()));
+    let set = |wanted: fn(usize) -> bool| -> Vec<f64> {
+        (0..rows)
+            .filter(|&i| cell(i).is_some_and(wanted))
+            .map(|i| i as f64)
+            .collect()
+    };
+    let (clamped, dropped) = (set(|h| h > 100 && h <= 110), set(|h| h > 110));
+    assert_eq!((clamped.len(), dropped.len()), (167, 16));
+    let as_100 = ascent_log(rows, |i| match cell(i) {
+        Some(h) if h > 110 => format!("{h}"),
+        Some(_) => "100".into(),
+        None => "60".into(),
+    });
+    let reference = ascent_log(rows, |i| match cell(i) {
+        Some(h) if h > 110 => String::new(),
+        Some(_) => "100".into(),
+        None => "60".into(),
+    });
+    for settings in every_run() {
+        let r = replay(&log, settings, false).unwrap();
+        assert_eq!(r.outputs.len(), rows, "{settings:?}");
+        assert!(r.rejected.is_empty(), "{settings:?}");
+        assert_eq!(r.warnings.len(), dropped.len());
+        for (row, o) in &r.outputs {
+            let t = row.time_s;
+            assert_eq!(
+                o.flags.contains(Flags::HUMIDITY_CLAMPED),
+                clamped.contains(&t)
+            );
+            assert_eq!(
+                o.flags.contains(Flags::HUMIDITY_IGNORED),
+                dropped.contains(&t)
+            );
+        }
+        // the clamped rows run as 100 %, the dropped as no humidity
+        same_but_flagged(&log, &as_100, settings, Flags::HUMIDITY_CLAMPED, &clamped);
+        same_but_flagged(
+            &as_100,
+            &reference,
+            settings,
+            Flags::HUMIDITY_IGNORED,
+            &dropped,
+        );
+    }
 }

@@ -18,6 +18,7 @@ use isohypse::uses::{
 use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
 
 use super::Failure;
+use super::channels::{Channel, Dropped, tool_flag_names};
 use super::row::Row;
 use super::{Cli, FilterArg, ModelArg, PresetArg};
 
@@ -199,8 +200,9 @@ pub(crate) struct Point {
     pub(crate) ascent_m: f32,
     pub(crate) descent_m: f32,
     pub(crate) tendency_hpa: Option<f32>,
-    /// The flag bits; [`flag_names`] names them.
-    pub(crate) flags: u32,
+    /// The flag bits: the library's (low 32 bits) and the tool's own for dropped
+    /// channels the library does not read (high 32 bits); [`flag_names`] names them.
+    pub(crate) flags: u64,
     /// The sample was used (not rejected; an outlier is used, with its estimate held).
     pub(crate) accepted: bool,
 }
@@ -227,14 +229,42 @@ pub(crate) fn point(o: &Output, row: &Row) -> Point {
         ascent_m: o.ascent_m,
         descent_m: o.descent_m,
         tendency_hpa: o.tendency_hpa,
-        flags: o.flags.0,
+        flags: u64::from(o.flags.0) | dropped_flags(row.dropped),
         accepted: o.accepted(),
     }
 }
 
-/// The names of the flag bits `flags` (as in the output's `flags` column).
-pub(crate) fn flag_names(flags: u32) -> impl Iterator<Item = &'static str> {
-    Flags(flags).names()
+/// The names of the flag bits `flags` of a [`Point`] (as in the output's `flags`
+/// column): the library's, then the tool's own.
+pub(crate) fn flag_names(flags: u64) -> impl Iterator<Item = &'static str> {
+    let library = (flags & u64::from(u32::MAX)) as u32;
+    Flags(library)
+        .names()
+        .chain(tool_flag_names((flags >> 32) as u32))
+}
+
+/// The library's flag for a dropped channel it reads.
+fn library_flag(c: Channel) -> Option<Flags> {
+    match c {
+        Channel::Temperature => Some(Flags::TEMPERATURE_IGNORED),
+        Channel::Humidity => Some(Flags::HUMIDITY_IGNORED),
+        Channel::Accel => Some(Flags::ACCEL_IGNORED),
+        Channel::Fix => Some(Flags::FIX_IGNORED),
+        Channel::SensorTemperature | Channel::GnssAltitude | Channel::GnssAccuracy => None,
+    }
+}
+
+/// The flag bits of a row's dropped channels, as in [`Point::flags`]: the library's
+/// `*_IGNORED` flags, and the tool's own for the channels the library does not read.
+pub(crate) fn dropped_flags(d: Dropped) -> u64 {
+    if d.is_empty() {
+        return 0;
+    }
+    let library = d
+        .channels()
+        .filter_map(library_flag)
+        .fold(0, |bits, f| bits | f.0);
+    u64::from(library) | (u64::from(d.tool_bits()) << 32)
 }
 
 /// How the run estimates: a use type, or the pointwise conversion.
@@ -335,6 +365,11 @@ impl<'s> Engine<'s> {
             Estimation::Filtered(d) => d.process(&sample),
             Estimation::Pointwise(p) => p.process(&sample),
         };
+        let mut o = o;
+        // a channel the tool dropped is flagged as the library flags one it drops
+        o.flags.insert(Flags(
+            (dropped_flags(row.dropped) & u64::from(u32::MAX)) as u32,
+        ));
         let pointwise = self.pointwise();
         self.shown.output(o, row.time_s, pointwise)
     }
@@ -442,6 +477,7 @@ impl Pointwise {
     /// The model height of the sample (before the datum), m.
     fn height(&mut self, s: &Sample, flags: &mut Flags) -> Result<f32, isohypse::Error> {
         let p = Pressure::from_pa(s.pressure_pa)?;
+        let rh = humidity(s.humidity_pct, flags);
         let std = isohypse::atmosphere::pressure_altitude(p)?;
         let t_std = US_1976.temperature_at(std)?;
         if self.model == ModelArg::Standard {
@@ -472,9 +508,6 @@ impl Pointwise {
                 }
             }
         };
-        let rh = s
-            .humidity_pct
-            .and_then(|h| RelativeHumidity::from_percent(h).ok());
         let base = match self.start_altitude_m {
             Some(h) => Height::from_meters(h)?,
             None => std,
@@ -606,6 +639,27 @@ impl Pointwise {
         };
         self.last_output = Some(o);
         o
+    }
+}
+
+/// A sample's humidity as the use types take it: above 100 and up to 110 % as 100 %
+/// (flagged `HUMIDITY_CLAMPED`; real sensors read so in cloud), any other value outside
+/// 0..100 % dropped (flagged `HUMIDITY_IGNORED`).
+fn humidity(pct: Option<f32>, flags: &mut Flags) -> Option<RelativeHumidity> {
+    let pct = match pct {
+        Some(h) if h > 100.0 && h <= 110.0 => {
+            flags.insert(Flags::HUMIDITY_CLAMPED);
+            Some(100.0)
+        }
+        other => other,
+    };
+    match pct.map(RelativeHumidity::from_percent) {
+        Some(Ok(rh)) => Some(rh),
+        Some(Err(_)) => {
+            flags.insert(Flags::HUMIDITY_IGNORED);
+            None
+        }
+        None => None,
     }
 }
 

@@ -50,8 +50,8 @@ pub(crate) fn number<T: std::fmt::Display + std::fmt::LowerExp>(v: T) -> String 
     }
 }
 
-/// The messages about bad rows: the first [`Messages::LIMIT`] are kept, the rest only
-/// counted.
+/// A list of messages (about bad rows, or about dropped channels): the first
+/// [`Messages::LIMIT`] are kept, the rest only counted.
 #[derive(Debug, Default, Clone)]
 pub(crate) struct Messages {
     kept: Vec<String>,
@@ -86,15 +86,16 @@ impl Messages {
     }
 
     /// The first `n` kept messages as lines starting with `indent`, then a line with the
-    /// count of the others, if any, followed by `rest_note` (e.g. " (listed in x.txt)").
-    pub(crate) fn lines(&self, n: usize, indent: &str, rest_note: &str) -> String {
+    /// count of the others, if any, called `what` (e.g. "bad rows") and followed by
+    /// `rest_note` (e.g. " (listed in x.txt)").
+    pub(crate) fn lines(&self, n: usize, indent: &str, what: &str, rest_note: &str) -> String {
         let mut text = String::new();
         for m in self.kept.iter().take(n) {
             text.push_str(&format!("{indent}{m}\n"));
         }
         let more = self.total - self.kept.len().min(n);
         if more > 0 {
-            text.push_str(&format!("{indent}... {more} more bad rows{rest_note}\n"));
+            text.push_str(&format!("{indent}... {more} more {what}{rest_note}\n"));
         }
         text
     }

@@ -10,7 +10,7 @@ use super::engine::{Output, Settings};
 
 use super::Failure;
 use super::delay::Delay;
-use super::engine::{Engine, Point, UseSettings, point};
+use super::engine::{Engine, Point, UseSettings, dropped_flags, flag_names, point};
 use super::lines::{Fields, Lines, is_comment_or_blank};
 use super::progress::Progress;
 use super::row::{Header, Row, parse};
@@ -38,6 +38,7 @@ pub(crate) fn stream(
     let mut stats = Stats::default();
     let mut delay = Delay::new(engine.pointwise());
     let mut fields = Fields::default();
+    let mut dropped = Vec::new();
     let mut last_time = None;
     let mut emit = |row: Row, o: Output, stats: &mut Stats| {
         let p = point(&o, &row);
@@ -55,8 +56,15 @@ pub(crate) fn stream(
             continue;
         }
         stats.data_rows += 1;
-        let describe = strict || stats.messages.wants_more();
-        let row = match parse(&line, &header, &mut fields, last_time, describe) {
+        let describe = strict || stats.messages.wants_more() || stats.warnings.wants_more();
+        let row = match parse(
+            &line,
+            &header,
+            &mut fields,
+            last_time,
+            describe,
+            &mut dropped,
+        ) {
             Ok(row) => row,
             Err(r) => {
                 *stats.rejected.entry(r.reason).or_default() += 1;
@@ -72,6 +80,10 @@ pub(crate) fn stream(
                 continue;
             }
         };
+        if !row.dropped.is_empty() {
+            warn(line.number, &dropped, strict, &mut stats)?;
+        }
+        stats.count_channels(&row);
         last_time = Some(row.time_s);
         match row.pressure_pa {
             None => accelerometer_row(&mut engine, &row, &mut stats),
@@ -88,6 +100,25 @@ pub(crate) fn stream(
     Ok(stats)
 }
 
+/// A kept row with dropped channels (their `problems`): a warning, or with `strict`
+/// the end of the run.
+fn warn(line: u64, problems: &[String], strict: bool, stats: &mut Stats) -> Result<(), Failure> {
+    if strict {
+        return Err(Failure::StrictRow(format!(
+            "line {line}: {} (a bad optional value: without --strict the channel is dropped \
+             and the row kept)",
+            problems.join("; ")
+        )));
+    }
+    stats.warnings.push_with(|| {
+        format!(
+            "line {line}: {} (dropped; the row is kept)",
+            problems.join("; ")
+        )
+    });
+    Ok(())
+}
+
 fn read_failure(e: std::io::Error) -> Failure {
     Failure::Io(format!("reading the log: {e}"))
 }
@@ -102,8 +133,12 @@ fn read_header(lines: &mut Lines<impl BufRead>) -> Result<Header, Failure> {
     Err(Failure::NoRows("empty file: no header row".into()))
 }
 
-/// An accelerometer-only row: to the estimator, no output row.
+/// An accelerometer-only row: to the estimator, no output row. Its dropped channels
+/// are counted under their flags' names, as an output row's would be.
 fn accelerometer_row(engine: &mut Engine, row: &Row, stats: &mut Stats) {
+    for name in flag_names(dropped_flags(row.dropped)) {
+        stats.count_flag(name);
+    }
     if let Some(a) = row.accel_up_mps2 {
         if !engine.accelerometer(row.time_s, a) {
             stats.count_flag("accel_ignored");
@@ -133,7 +168,7 @@ fn no_rows(stats: &Stats, header_line: u64) -> Failure {
             stats.data_rows, stats.accel_rows
         )
     };
-    let list = stats.messages.lines(20, "  ", "");
+    let list = stats.messages.lines(20, "  ", "bad rows", "");
     if !list.is_empty() {
         message.push('\n');
         message.push_str(list.trim_end());
@@ -153,6 +188,10 @@ pub(crate) struct Replay {
     pub(crate) messages: Vec<String>,
     /// Messages about bad rows beyond those kept.
     pub(crate) messages_left_off: usize,
+    /// The first [`super::messages::Messages::LIMIT`] warnings about dropped channels.
+    pub(crate) warnings: Vec<String>,
+    /// Warnings beyond those kept.
+    pub(crate) warnings_left_off: usize,
     pub(crate) flag_counts: BTreeMap<&'static str, usize>,
     pub(crate) events: Vec<Event>,
 }
@@ -173,12 +212,15 @@ pub(crate) fn replay(text: &str, settings: Settings, strict: bool) -> Result<Rep
     )?;
     let flag_counts = stats.flag_counts();
     let (messages, messages_left_off) = stats.messages.into_parts();
+    let (warnings, warnings_left_off) = stats.warnings.into_parts();
     Ok(Replay {
         outputs,
         accel_rows: stats.accel_rows,
         rejected: stats.rejected,
         messages,
         messages_left_off,
+        warnings,
+        warnings_left_off,
         flag_counts,
         events: stats.events,
     })

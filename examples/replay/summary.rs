@@ -5,8 +5,10 @@ use std::fmt::Write as _;
 
 use super::engine::Settings;
 
+use super::channels::Channel;
 use super::engine::{Point, dropout_step_s, flag_names, settings_line};
 use super::messages::Messages;
+use super::row::Row;
 use super::steps::Steps;
 
 /// A phase change: (phase, time s, height m).
@@ -23,8 +25,16 @@ pub(crate) struct Stats {
     /// Rejected rows by reason.
     pub(crate) rejected: BTreeMap<&'static str, usize>,
     pub(crate) messages: Messages,
-    /// Output rows with each flag bit set.
-    flag_bits: [usize; 32],
+    /// Warnings about kept rows with a dropped channel.
+    pub(crate) warnings: Messages,
+    /// Kept rows with a dropped channel.
+    pub(crate) rows_with_dropped: usize,
+    /// Kept rows with a satellite altitude, and with a barometer temperature.
+    pub(crate) gnss_rows: usize,
+    pub(crate) sensor_temperature_rows: usize,
+    /// Output rows with each flag bit set: the library's bits 0..32, then the tool's
+    /// own (see [`Point::flags`]).
+    flag_bits: [[usize; 32]; 2],
     /// Flags of accelerometer-only rows (no output row), by name.
     other_flags: BTreeMap<&'static str, usize>,
     /// The first [`Stats::EVENTS`] phase changes.
@@ -46,7 +56,12 @@ impl Stats {
         self.rows += 1;
         let mut bits = p.flags;
         while bits != 0 {
-            if let Some(n) = self.flag_bits.get_mut(bits.trailing_zeros() as usize) {
+            let bit = bits.trailing_zeros() as usize;
+            let slot = self
+                .flag_bits
+                .get_mut(bit / 32)
+                .and_then(|b| b.get_mut(bit % 32));
+            if let Some(n) = slot {
                 *n += 1;
             }
             bits &= bits - 1;
@@ -70,6 +85,13 @@ impl Stats {
         self.steps.add(p.time_s);
     }
 
+    /// Count a kept row's channels that the run does not use, and its dropped ones.
+    pub(crate) fn count_channels(&mut self, row: &Row) {
+        self.rows_with_dropped += usize::from(!row.dropped.is_empty());
+        self.gnss_rows += usize::from(row.get(Channel::GnssAltitude).is_some());
+        self.sensor_temperature_rows += usize::from(row.get(Channel::SensorTemperature).is_some());
+    }
+
     /// Count a flag of a row without output (an accelerometer-only row).
     pub(crate) fn count_flag(&mut self, name: &'static str) {
         *self.other_flags.entry(name).or_default() += 1;
@@ -78,7 +100,7 @@ impl Stats {
     /// Rows with each flag, by the flag's name (as in the output's `flags` column).
     pub(crate) fn flag_counts(&self) -> BTreeMap<&'static str, usize> {
         let mut counts = self.other_flags.clone();
-        for (bit, n) in (0..32).zip(self.flag_bits) {
+        for (bit, n) in (0..64).zip(self.flag_bits.into_iter().flatten()) {
             for name in flag_names(1 << bit).filter(|_| n > 0) {
                 *counts.entry(name).or_default() += n;
             }
@@ -107,6 +129,27 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, stats: &Stats) -> St
     );
     for (reason, n) in &stats.rejected {
         let _ = writeln!(s, "  rejected ({reason}): {n}");
+    }
+    if stats.rows_with_dropped > 0 {
+        let _ = writeln!(
+            s,
+            "rows with a bad optional value: {} (the channel dropped and flagged, the row kept)",
+            stats.rows_with_dropped
+        );
+    }
+    if stats.gnss_rows > 0 {
+        let _ = writeln!(
+            s,
+            "gnss_altitude_m present: not fused ({} rows; the heights are the barometer's)",
+            stats.gnss_rows
+        );
+    }
+    if stats.sensor_temperature_rows > 0 {
+        let _ = writeln!(
+            s,
+            "sensor_temperature_c present: not used as air temperature ({} rows)",
+            stats.sensor_temperature_rows
+        );
     }
     if let Some((t, h)) = stats.top {
         let _ = writeln!(s, "top: {h:.1} m at t = {t:.1} s");

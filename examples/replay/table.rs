@@ -22,7 +22,7 @@ pub(crate) struct Table {
     part: Option<PathBuf>,
     line: Vec<u8>,
     /// The last row's flag bits and their names as written (rows mostly share them).
-    flags: (u32, Vec<u8>),
+    flags: (u64, Vec<u8>),
 }
 
 impl Table {
