@@ -1,5 +1,5 @@
 //! BME280 compensation against the data sheets' worked example and floating-point
-//! formulas, an independent wide-integer transcription, and corrupt calibration words.
+//! formulas, an independent wide-integer rewrite, and corrupt calibration words.
 //!
 //! Sources named beside each check:
 //! - "BMP280 DS": Bosch Sensortec, BMP280 data sheet BST-BMP280-DS001, section 3.12
@@ -9,7 +9,7 @@
 //!   example. The example's inputs and outputs below are FROM MEMORY (the calibration
 //!   words and raw values are quoted identically in many public driver tests).
 //! - "BME280 DS": BST-BME280-DS002, revision 1.6, section 4.2.3 (integer code) and
-//!   section 8.1 (double-precision code, transcribed below as the reference), section
+//!   section 8.1 (double-precision code, copied below as the reference), section
 //!   9.1 (measurement time).
 
 extern crate std;
@@ -81,7 +81,7 @@ fn float_humidity(c: &Calibration, adc_h: i32, t_fine: i32) -> f64 {
 fn worked_example_temperature() {
     // BMP280 DS section 3.12 (from memory): var1 = 128793.1787, var2 = -370.8917052,
     // t_fine = 128422, T = 25.08 degC. The double formula reproduces the intermediates
-    // (a check of its transcription), the integer code t_fine and T exactly.
+    // (a check of its rewrite), the integer code t_fine and T exactly.
     let (var1, var2, t_fine_f, _) = float_temperature(&EXAMPLE, ADC_T);
     assert!((var1 - 128_793.178_7).abs() < 1e-4, "var1 {var1}");
     assert!((var2 - -370.891_705_2).abs() < 1e-6, "var2 {var2}");
