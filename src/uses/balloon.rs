@@ -205,7 +205,9 @@ pub struct Balloon<'a, const N: usize> {
     track: FlightTrack,
     time: TimeBase,
     model: ModelState<N>,
-    last_temperature: Option<Temperature>,
+    /// The last measured air temperature's departure from the standard atmosphere's
+    /// at its pressure, K (what a sample without air temperature assumes).
+    temperature_departure_k: Option<f32>,
     last: Carried,
 }
 
@@ -231,7 +233,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
             track: FlightTrack::new(&settings.states, settings.totals_band_m)?,
             time: TimeBase::default(),
             model: ModelState::Empty,
-            last_temperature: None,
+            temperature_departure_k: None,
             last: Carried::default(),
         })
     }
@@ -297,7 +299,8 @@ impl<'a, const N: usize> Balloon<'a, N> {
         }
         let mut change = ModelChange::Keep;
         let (p, t, rh) = (inputs.pressure, inputs.temperature, inputs.humidity);
-        let Ok((model_m, column_k)) = self.model_height(p, t, rh, &mut flags, &mut change) else {
+        let Ok((model_m, column_k, t_std)) = self.model_height(p, t, rh, &mut flags, &mut change)
+        else {
             return self.carry(sample.time, Flags::REJECTED_MODEL);
         };
         let on_ground = self.track.phase() == Phase::Ground;
@@ -360,8 +363,8 @@ impl<'a, const N: usize> Balloon<'a, N> {
         }
         self.offset = offset;
         self.time.commit(sample.time);
-        if t.is_some() {
-            self.last_temperature = t;
+        if let Some(t) = t {
+            self.temperature_departure_k = Some(t.kelvin() - t_std.kelvin());
         }
         self.last = Carried::new(h, raw_m, v, sigma_m, flags, changed);
         let mut out = self.carry(sample.time, flags);
@@ -392,8 +395,9 @@ impl<'a, const N: usize> Balloon<'a, N> {
         }
     }
 
-    /// Height of the sample from the model (before the datum), m, and the column
-    /// temperature used, K. The model's new state goes to `change`.
+    /// Height of the sample from the model (before the datum), m, the column
+    /// temperature used, K, and the standard atmosphere's temperature at the sample's
+    /// pressure. The model's new state goes to `change`.
     fn model_height(
         &self,
         p: Pressure,
@@ -401,8 +405,23 @@ impl<'a, const N: usize> Balloon<'a, N> {
         rh: Option<RelativeHumidity>,
         flags: &mut Flags,
         change: &mut ModelChange<N>,
-    ) -> Result<(f32, f32), Error> {
+    ) -> Result<(f32, f32, Temperature), Error> {
         let (std_m, t_std) = standard_height(p, AltimeterSetting::Standard)?;
+        let (h, column_k) = self.model_height_at(p, t, rh, (std_m, t_std), flags, change)?;
+        Ok((h, column_k, t_std))
+    }
+
+    /// [`Self::model_height`] given the pressure altitude `std_m` and the standard
+    /// temperature `t_std` at the sample's pressure.
+    fn model_height_at(
+        &self,
+        p: Pressure,
+        t: Option<Temperature>,
+        rh: Option<RelativeHumidity>,
+        (std_m, t_std): (f32, Temperature),
+        flags: &mut Flags,
+        change: &mut ModelChange<N>,
+    ) -> Result<(f32, f32), Error> {
         // the launch altitude is the datum's; the models start there, so their heights
         // are reported relative to it
         let launch = self.settings.launch_altitude_m;
@@ -414,7 +433,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
         match self.settings.model {
             BalloonModel::Standard => Ok((std_m, t.unwrap_or(t_std).kelvin())),
             BalloonModel::Column(model) => {
-                let t = self.temperature_or_held(t, t_std, flags);
+                let t = self.temperature_or_standard(t, t_std, flags);
                 let mixing_ratio = match rh {
                     Some(rh) => MixingRatio::from_relative_humidity(p, t, rh)?,
                     None => MixingRatio::DRY,
@@ -438,7 +457,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
                 }
             }
             BalloonModel::Sounding { descent_on_profile } => {
-                let t = self.temperature_or_held(t, t_std, flags);
+                let t = self.temperature_or_standard(t, t_std, flags);
                 let ModelState::Sounding(s) = &self.model else {
                     let gravity = self.settings.gravity()?;
                     let start = Sounding::new(base, gravity, p, t, rh)?;
@@ -464,19 +483,24 @@ impl<'a, const N: usize> Balloon<'a, N> {
         }
     }
 
-    /// The sample's air temperature; without one the last one held, or before any the
-    /// standard atmosphere's at the pressure altitude (flagged either way).
-    fn temperature_or_held(
+    /// The sample's air temperature; without one, the standard atmosphere's at the
+    /// sample's pressure `standard`, moved by the last measured temperature's departure
+    /// from the standard ([`Flags::TEMPERATURE_HELD`]), or unmoved before any
+    /// ([`Flags::TEMPERATURE_ASSUMED`]). A column without readings then follows the
+    /// standard lapse rates (U.S. Standard Atmosphere 1976, Table 4) instead of holding
+    /// one temperature from the ground to 30 km.
+    fn temperature_or_standard(
         &self,
         t: Option<Temperature>,
         standard: Temperature,
         flags: &mut Flags,
     ) -> Temperature {
-        match (t, self.last_temperature) {
+        match (t, self.temperature_departure_k) {
             (Some(t), _) => t,
-            (None, Some(held)) => {
+            (None, Some(departure_k)) => {
                 flags.set(Flags::TEMPERATURE_HELD);
-                held
+                // a departure that would leave the air range falls back to the standard
+                Temperature::from_kelvin(standard.kelvin() + departure_k).unwrap_or(standard)
             }
             (None, None) => {
                 flags.set(Flags::TEMPERATURE_ASSUMED);
@@ -571,7 +595,7 @@ crate::snapshot::snap_fields!(impl['a, const N: usize] Balloon<'a, N> {
     track,
     time,
     model,
-    last_temperature,
+    temperature_departure_k,
     last,
 });
 

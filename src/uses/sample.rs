@@ -58,9 +58,10 @@ impl Flags {
     pub const REACQUIRED: Flags = Flags(1 << 4);
     /// A temperature was given but invalid, and ignored.
     pub const TEMPERATURE_IGNORED: Flags = Flags(1 << 5);
-    /// No temperature: the last one was held.
+    /// No air temperature: the standard atmosphere's at this pressure, moved by the
+    /// last measured temperature's departure from the standard, was taken (balloon).
     pub const TEMPERATURE_HELD: Flags = Flags(1 << 6);
-    /// No temperature yet: the standard atmosphere's was assumed.
+    /// No air temperature yet: the standard atmosphere's at this pressure was taken.
     pub const TEMPERATURE_ASSUMED: Flags = Flags(1 << 7);
     /// A humidity was given but invalid, and ignored.
     pub const HUMIDITY_IGNORED: Flags = Flags(1 << 8);
