@@ -177,6 +177,16 @@ impl GroundReference {
         Height::from_meters(self.anchor_m + (self.sum + self.comp) / self.count as f32)
     }
 
+    /// 1-sigma of the mean of the samples averaged so far, each with 1-sigma
+    /// `sample_sigma_m` (independent: `sigma / sqrt(n)`), m; 0 with no sample.
+    pub fn mean_sigma_m(&self, sample_sigma_m: f32) -> f32 {
+        if self.count == 0 {
+            return 0.0;
+        }
+        let var = sample_sigma_m * sample_sigma_m / self.count as f32;
+        crate::math::sigma_from_variance(var)
+    }
+
     /// Fixes the reference at the current mean (call at take-off) and returns it.
     /// Calling it again while armed returns the fixed reference.
     ///

@@ -2,9 +2,9 @@
 //! the descent on the profile stored on the way up.
 
 use super::stages::{
-    Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset, TimeBase, change_at, check_common,
-    fix_target, ground_tolerance_m, kalman_sigma_m, kalman_step, pointwise_sigma_m,
-    standard_height,
+    ASSUMED_TEMPERATURE_SIGMA_K, Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset,
+    TimeBase, change_at, check_common, estimate_sigma_m, fix_target, ground_tolerance_m,
+    kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_datum_sigma_m, standard_height,
 };
 use super::{BalloonState, Flags, Output, Sample, Use};
 use crate::Error;
@@ -168,6 +168,14 @@ enum ModelChange<const N: usize> {
     Step(PendingStep, bool),
 }
 
+/// How far the first sample's pressure altitude may lie from the launch altitude of
+/// the settings for the balloon to be at the launch site, m. Weather moves the pressure
+/// altitude of a site by a few hundred metres (sea-level pressures on record span about
+/// 870-1084 hPa, from memory: -250 m to +1 300 m at the extremes; within 1 km in all
+/// but the deepest storms); further off, the balloon is in the air (a power-on in
+/// flight) and its heights start at the pressure altitude (choice of this crate).
+pub const LAUNCH_AGREES_M: f32 = 1_000.0;
+
 /// Fewest profile levels a [`Balloon`] can keep (a compile-time check on `N`).
 pub const MIN_PROFILE_LEVELS: usize = 8;
 
@@ -208,6 +216,9 @@ pub struct Balloon<'a, const N: usize> {
     /// The last measured air temperature's departure from the standard atmosphere's
     /// at its pressure, K (what a sample without air temperature assumes).
     temperature_departure_k: Option<f32>,
+    /// 1-sigma of the datum, m: 0 from a launch altitude; the pressure altitude's error
+    /// without one (see [`standard_datum_sigma_m`]).
+    datum_sigma_m: f32,
     last: Carried,
 }
 
@@ -234,6 +245,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
             time: TimeBase::default(),
             model: ModelState::Empty,
             temperature_departure_k: None,
+            datum_sigma_m: 0.0,
             last: Carried::default(),
         })
     }
@@ -299,15 +311,21 @@ impl<'a, const N: usize> Balloon<'a, N> {
         }
         let mut change = ModelChange::Keep;
         let (p, t, rh) = (inputs.pressure, inputs.temperature, inputs.humidity);
-        let Ok((model_m, column_k, t_std)) = self.model_height(p, t, rh, &mut flags, &mut change)
+        let Ok(in_air) = self.starts_in_air(p) else {
+            return self.carry(sample.time, Flags::REJECTED_MODEL);
+        };
+        let ground = if in_air { None } else { self.ground.as_ref() };
+        let launch_m = ground.map(|g| g.start_m);
+        let Ok((model_m, column_k, t_std)) =
+            self.model_height(p, (t, rh), launch_m, &mut flags, &mut change)
         else {
             return self.carry(sample.time, Flags::REJECTED_MODEL);
         };
+        if in_air {
+            flags.set(Flags::STARTED_IN_AIR);
+        }
         let on_ground = self.track.phase() == Phase::Ground;
-        let mut datum = match &self.ground {
-            Some(g) => Some(g.propose(self.offset, model_m, on_ground, &mut flags)),
-            None => None,
-        };
+        let mut datum = ground.map(|g| g.propose(self.offset, model_m, on_ground, &mut flags));
         let mut offset = datum.map_or(self.offset, |d| d.offset);
         if let Some(fix) = inputs.fix_m {
             let last_m = self.time.last().map(|_| self.last.altitude_m);
@@ -330,13 +348,26 @@ impl<'a, const N: usize> Balloon<'a, N> {
         };
         let estimate = kalman_step(&mut self.kalman, &baro, &time, &mut flags);
         // nothing below refuses the sample
+        if in_air {
+            self.ground = None;
+        }
+        if self.ground.is_none() && self.time.last().is_none() && self.last == Carried::default() {
+            self.datum_sigma_m = standard_datum_sigma_m(p, model_m, column_k);
+        }
         let (h, v, sigma_m) = match estimate {
             Err(()) => return self.carry(sample.time, Flags::REJECTED_MODEL),
-            Ok(Some((h, v, var))) => (h, v, crate::math::sigma_from_variance(var)),
+            Ok(Some((h, v, var))) => {
+                let above = h - self.datum_reference_m();
+                let var = var + self.datum_sigma_m * self.datum_sigma_m;
+                let dk = self.column_sigma_k(flags);
+                (h, v, estimate_sigma_m(var, above, dk, column_k))
+            }
             Ok(None) => {
-                let above = raw_m - s.launch_altitude_m.unwrap_or(0.0);
-                let (noise, dk) = (s.pressure_noise_pa, s.temperature_uncertainty_k);
-                (raw_m, 0.0, pointwise_sigma_m(noise, dk, p, column_k, above))
+                let above = raw_m - self.datum_reference_m();
+                let (noise, dk) = (s.pressure_noise_pa, self.column_sigma_k(flags));
+                let sigma = pointwise_sigma_m(noise, dk, p, column_k, above);
+                let var = sigma * sigma + self.datum_sigma_m * self.datum_sigma_m;
+                (raw_m, 0.0, crate::math::sigma_from_variance(var))
             }
         };
         let agrees = |g: &Ground| g.agrees(model_m, ground_tolerance_m(baro.sigma_m));
@@ -374,6 +405,42 @@ impl<'a, const N: usize> Balloon<'a, N> {
         out
     }
 
+    /// The height the column's temperature error grows from: the launch altitude, or
+    /// without one the sea level of the pressure altitude, m.
+    fn datum_reference_m(&self) -> f32 {
+        self.ground.as_ref().map_or(0.0, |g| g.start_m)
+    }
+
+    /// Whether this sample is the first of a balloon already in the air: the launch
+    /// reference has taken nothing yet, and the pressure altitude lies more than
+    /// [`LAUNCH_AGREES_M`] from the launch altitude of the settings. Errors: those of
+    /// the standard atmosphere for a pressure beyond it.
+    fn starts_in_air(&self, p: Pressure) -> Result<bool, Error> {
+        match &self.ground {
+            Some(g) if !g.frozen && g.reference.sample_count() == 0 => {
+                let (std_m, _) = standard_height(p, AltimeterSetting::Standard)?;
+                Ok((std_m - g.start_m).abs() > LAUNCH_AGREES_M)
+            }
+            _ => Ok(false),
+        }
+    }
+
+    /// The column temperature's 1-sigma for a sample flagged `flags`: the settings'
+    /// for a measured column; the spread of real columns about the standard once a
+    /// temperature was assumed or held (the error of those layers stays in the
+    /// height), K.
+    fn column_sigma_k(&self, flags: Flags) -> f32 {
+        let assumed = self.temperature_departure_k.is_none()
+            || flags.contains(Flags::TEMPERATURE_HELD)
+            || flags.contains(Flags::TEMPERATURE_ASSUMED);
+        let dk = self.settings.temperature_uncertainty_k;
+        if assumed && dk < ASSUMED_TEMPERATURE_SIGMA_K {
+            ASSUMED_TEMPERATURE_SIGMA_K
+        } else {
+            dk
+        }
+    }
+
     /// Applies the model's change. By reference: moved by value, the change (which can
     /// hold a whole sounding) would be copied on every sample.
     fn commit_model(&mut self, change: &mut ModelChange<N>) {
@@ -401,30 +468,30 @@ impl<'a, const N: usize> Balloon<'a, N> {
     fn model_height(
         &self,
         p: Pressure,
-        t: Option<Temperature>,
-        rh: Option<RelativeHumidity>,
+        (t, rh): (Option<Temperature>, Option<RelativeHumidity>),
+        launch: Option<f32>,
         flags: &mut Flags,
         change: &mut ModelChange<N>,
     ) -> Result<(f32, f32, Temperature), Error> {
         let (std_m, t_std) = standard_height(p, AltimeterSetting::Standard)?;
-        let (h, column_k) = self.model_height_at(p, t, rh, (std_m, t_std), flags, change)?;
+        let air = (t, rh, launch);
+        let (h, column_k) = self.model_height_at(p, air, (std_m, t_std), flags, change)?;
         Ok((h, column_k, t_std))
     }
 
     /// [`Self::model_height`] given the pressure altitude `std_m` and the standard
     /// temperature `t_std` at the sample's pressure.
+    #[allow(clippy::type_complexity)]
     fn model_height_at(
         &self,
         p: Pressure,
-        t: Option<Temperature>,
-        rh: Option<RelativeHumidity>,
+        (t, rh, launch): (Option<Temperature>, Option<RelativeHumidity>, Option<f32>),
         (std_m, t_std): (f32, Temperature),
         flags: &mut Flags,
         change: &mut ModelChange<N>,
     ) -> Result<(f32, f32), Error> {
         // the launch altitude is the datum's; the models start there, so their heights
         // are reported relative to it
-        let launch = self.settings.launch_altitude_m;
         let start_offset = launch.unwrap_or(0.0);
         let base = match launch {
             Some(h) => Height::from_meters(h)?,
@@ -596,6 +663,7 @@ crate::snapshot::snap_fields!(impl['a, const N: usize] Balloon<'a, N> {
     time,
     model,
     temperature_departure_k,
+    datum_sigma_m,
     last,
 });
 

@@ -3,8 +3,8 @@
 
 use super::stages::{
     Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset, TimeBase, altimeter_change_m,
-    change_at, check_altimeter, check_common, fix_target, ground_tolerance_m, kalman_sigma_m,
-    kalman_step, pointwise_sigma_m, standard_height,
+    change_at, check_altimeter, check_common, estimate_sigma_m, fix_target, ground_tolerance_m,
+    kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_height,
 };
 use super::{DroneState, Flags, Output, Sample, Use};
 use crate::Error;
@@ -274,7 +274,14 @@ impl<'a> Drone<'a> {
         // nothing below refuses the sample
         let (h, v, sigma_m) = match estimate {
             Err(()) => return self.carry(sample.time, Flags::REJECTED_MODEL),
-            Ok(Some((h, v, var))) => (h, v, crate::math::sigma_from_variance(var)),
+            Ok(Some((h, v, var))) => {
+                // the datum's own error: the mean of the samples at rest
+                let datum = self.ground.reference.mean_sigma_m(baro.sigma_m);
+                let above = h - self.ground.start_m;
+                let var = var + datum * datum;
+                let dk = s.temperature_uncertainty_k;
+                (h, v, estimate_sigma_m(var, above, dk, column_k))
+            }
             Ok(None) => {
                 let above = raw_m - self.ground.start_m;
                 let (noise, dk) = (s.pressure_noise_pa, s.temperature_uncertainty_k);

@@ -88,7 +88,12 @@ impl Flags {
     /// 100 %.
     pub const HUMIDITY_CLAMPED: Flags = Flags(1 << 17);
 
-    const NAMES: [(Flags, &'static str); 18] = [
+    /// The first sample's pressure altitude lay more than
+    /// [`super::balloon::LAUNCH_AGREES_M`] from the launch altitude of the settings: a
+    /// start in mid-air; heights start at the pressure altitude (balloon).
+    pub const STARTED_IN_AIR: Flags = Flags(1 << 18);
+
+    const NAMES: [(Flags, &'static str); 19] = [
         (Flags::REJECTED_TIME, "rejected_time"),
         (Flags::REJECTED_PRESSURE, "rejected_pressure"),
         (Flags::REJECTED_MODEL, "rejected_model"),
@@ -107,6 +112,7 @@ impl Flags {
         (Flags::GROUND_AVERAGING, "ground_averaging"),
         (Flags::CLOCK_FAULT, "clock_fault"),
         (Flags::HUMIDITY_CLAMPED, "humidity_clamped"),
+        (Flags::STARTED_IN_AIR, "started_in_air"),
     ];
 
     /// True if every bit of `other` is set.

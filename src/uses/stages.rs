@@ -390,13 +390,27 @@ pub(crate) fn kalman_step<C: Borrow<VerticalKalmanConfig> + Copy>(
     if predicted.is_err() {
         flags.set(Flags::ACCEL_IGNORED);
     }
-    match corrected {
-        Ok(KalmanOutcome::Rejected { .. }) => flags.set(Flags::OUTLIER),
-        Ok(KalmanOutcome::Reacquired) => flags.set(Flags::REACQUIRED),
-        Ok(_) => {}
+    let rejected = match corrected {
+        Ok(KalmanOutcome::Rejected { .. }) => true,
+        Ok(KalmanOutcome::Reacquired) => {
+            flags.set(Flags::REACQUIRED);
+            false
+        }
+        Ok(_) => false,
         Err(_) => return Err(()),
+    };
+    let estimate = k.height_speed_variance();
+    if !rejected {
+        return Ok(estimate);
     }
-    Ok(k.height_speed_variance())
+    flags.set(Flags::OUTLIER);
+    // The gate cannot tell a bad reading from a prediction gone wrong (a shock on the
+    // accelerometer, a change of motion): until they agree again the 1-sigma covers
+    // the distance between them, half of it on each side (choice of this crate).
+    Ok(estimate.map(|(h, v, var)| {
+        let half = 0.5 * (raw.meters() - h);
+        (h, v, if half * half > var { half * half } else { var })
+    }))
 }
 
 /// The flight trackers: the state machine and the ascent and descent totals.
@@ -581,6 +595,42 @@ pub(crate) fn pointwise_sigma_m(
     crate::math::sigma_from_variance(
         from_pressure * from_pressure + from_temperature * from_temperature,
     )
+}
+
+/// Spread of real columns' mean temperature about the standard atmosphere's, K: what
+/// a height from an assumed (not measured) temperature must allow for. Mid-latitude
+/// columns depart from U.S. 1976 by about 10 K over the seasons (the U.S. Standard
+/// Atmosphere Supplements 1966 tables span roughly this; from memory).
+pub(crate) const ASSUMED_TEMPERATURE_SIGMA_K: f32 = 10.0;
+
+/// Spread of the sea-level pressure about 1013.25 hPa, Pa: about 10 hPa (1-sigma) at
+/// mid-latitudes (from memory).
+pub(crate) const SEA_LEVEL_PRESSURE_SIGMA_PA: f32 = 1_000.0;
+
+/// 1-sigma of a pressure altitude `height_m` (at pressure `p`, column `column_k`)
+/// taken as a geometric height, m: the sea-level pressure's spread through the scale
+/// height (over the standard sea-level pressure 101 325 Pa), and a column
+/// [`ASSUMED_TEMPERATURE_SIGMA_K`] off the standard below it, in
+/// quadrature (hypsometric equation: dz = (R T / g) dp / p, dz / z = dT / T).
+pub(crate) fn standard_datum_sigma_m(p: Pressure, height_m: f32, column_k: f32) -> f32 {
+    let from_weather =
+        pressure_sigma_m(SEA_LEVEL_PRESSURE_SIGMA_PA, p, column_k) * (p.pa() / 101_325.0);
+    let from_column = height_m * ASSUMED_TEMPERATURE_SIGMA_K / column_k;
+    crate::math::sigma_from_variance(from_weather * from_weather + from_column * from_column)
+}
+
+/// The 1-sigma of an estimate: the filter's variance `variance_m2` (noise and motion)
+/// and, in quadrature, the column temperature's part: a column `uncertainty_k` off at
+/// `column_k` scales the height `above_m` above the datum's reference by
+/// `uncertainty_k / column_k` (hypsometric equation: dz / z = dT / T), m.
+pub(crate) fn estimate_sigma_m(
+    variance_m2: f32,
+    above_m: f32,
+    uncertainty_k: f32,
+    column_k: f32,
+) -> f32 {
+    let column = above_m * uncertainty_k / column_k;
+    crate::math::sigma_from_variance(variance_m2 + column * column)
 }
 
 /// Gain `dt / (tau + dt)` of a first-order lag over a step of `dt` seconds (backward
