@@ -32,7 +32,8 @@
 //!   (-5 km..90 km);
 //! - `gnss_altitude_m`: satellite altitude, geometric above mean sea level, m (-5 km..90
 //!   km), and `gnss_accuracy_m`, its 1-sigma vertical accuracy, m (above 0, at most
-//!   10 km): read and checked, not fused into the height (the summary says so).
+//!   10 km): fused with the barometric height by the balloon preset (see
+//!   `isohypse::uses::GnssSettings`); the other presets read and check them only.
 //!
 //! One line is one row (`\n`, `\r\n` or `\r` ends it; a quoted field cannot span
 //! lines), and line numbers in messages count every line of the file, comments and
@@ -195,7 +196,8 @@ sensor_temperature_c (the barometer's own temperature, degC: checked, never used
 air temperature), humidity_pct (0..110; above 100 is taken as 100, flagged
 humidity_clamped), accel_up_mps2 (vertical, gravity removed, within 20 g),
 known_altitude_m (an exact known elevation), gnss_altitude_m and gnss_accuracy_m
-(satellite altitude above mean sea level and its 1-sigma, m: checked, not fused).
+(satellite altitude above mean sea level and its 1-sigma, m: fused by the balloon
+preset, read and checked by the others).
 Names match exactly (case matters); other columns are ignored. Lines starting with #
 (after any blanks) are comments; blank lines are skipped. Blanks around fields are
 ignored; an empty optional cell means no value. Numbers like 95000, +1.01325e5.

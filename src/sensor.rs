@@ -84,6 +84,8 @@ impl Reading {
             humidity_pct: self.humidity_pct,
             accel_up_mps2: None,
             known_altitude_m: None,
+            gnss_altitude_m: None,
+            gnss_accuracy_m: None,
         }
     }
 }

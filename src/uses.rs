@@ -25,17 +25,21 @@
 mod balloon;
 mod device;
 mod drone;
+mod gnss;
 mod sample;
 mod spike;
 pub(crate) mod stages;
 mod states;
 mod walk;
 
-pub use balloon::{Balloon, BalloonModel, BalloonSettings};
+pub use balloon::{Balloon, BalloonModel, BalloonSettings, LAUNCH_AGREES_M};
 pub use device::{Device, State};
 pub use drone::{Drone, DroneSettings};
+pub use gnss::GnssSettings;
 pub use sample::{Flags, Sample};
-pub use stages::{MAX_GAP_LIMIT_S, MAX_PRESSURE_NOISE_PA, MAX_TEMPERATURE_UNCERTAINTY_K};
+pub use stages::{
+    FIX_AGREES_M, MAX_GAP_LIMIT_S, MAX_PRESSURE_NOISE_PA, MAX_TEMPERATURE_UNCERTAINTY_K,
+};
 pub use states::{BalloonState, DroneState, WalkState};
 pub use walk::{Walk, WalkSettings};
 

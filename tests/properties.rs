@@ -654,6 +654,9 @@ where
             humidity_pct: s.humidity_pct,
             accel_up_mps2: s.accel,
             known_altitude_m: s.fix,
+            // a satellite altitude near the fix, or wild where the fix is
+            gnss_altitude_m: s.fix.map(|h| h * 1.01 + 30.0),
+            gnss_accuracy_m: s.fix.map(|h| h.abs() * 1e-3),
         };
         match s.poison {
             1 => sample.pressure_pa = f32::NAN,
@@ -862,6 +865,7 @@ fn balloon_settings() -> impl Strategy<Value = BalloonSettings> {
             temperature_uncertainty_k: c.3,
             fix_time_constant_s: c.4,
             max_gap_s: c.5,
+            gnss: isohypse::uses::GnssSettings::DEFAULT,
         })
         .prop_filter("valid balloon settings", |s| s.validate().is_ok())
 }

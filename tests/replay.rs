@@ -1808,9 +1808,9 @@ fn strict_stops_on_a_bad_optional_value() {
 fn the_barometer_temperature_and_satellite_columns_are_read_not_used() {
     // Contract: `sensor_temperature_c` is the barometer's own temperature (never air
     // temperature), `gnss_altitude_m` and `gnss_accuracy_m` a satellite altitude and
-    // its 1-sigma. Read and checked as optional channels; the library does not fuse
-    // the satellite altitude: every output equals that of the log without the
-    // columns, and the summary says "gnss_altitude_m present: not fused". A sensor
+    // its 1-sigma. Read and checked as optional channels; only the balloon fuses the
+    // satellite altitude: every other run's output equals that of the log without the
+    // columns, and the summary says how the column was used. A sensor
     // temperature of 40 degC with no air temperature leaves the air temperature
     // assumed (standard atmosphere), as without the column.
     let mut plain = String::from("time_s,pressure_pa\n");
@@ -1821,7 +1821,8 @@ fn the_barometer_temperature_and_satellite_columns_are_read_not_used() {
         plain.push_str(&format!("{i},{p}\n"));
         full.push_str(&format!("{i},4.5,{p},40,{}\n", 540 + i));
     }
-    for settings in every_run() {
+    let fused = |s: &Settings| matches!(s.preset, PresetArg::Balloon) && !s.pointwise;
+    for settings in every_run().filter(|s| !fused(s)) {
         let r = same_but_flagged(&full, &plain, settings, Flags::default(), &[]);
         assert_eq!(r.outputs.len(), 30);
         assert!(r.warnings.is_empty());
@@ -1840,8 +1841,15 @@ fn the_barometer_temperature_and_satellite_columns_are_read_not_used() {
     assert!(r.outputs[0].1.flags.contains(Flags::TEMPERATURE_ASSUMED));
     let (_, summary) = run_quietly("new-columns", &full, &["--preset", "balloon"]);
     assert!(
-        summary.contains("gnss_altitude_m present: not fused"),
+        summary.contains("gnss_altitude_m present: fused with the barometric height"),
         "{summary}"
+    );
+    let r = replay(&full, Settings::preset(PresetArg::Balloon), false).unwrap();
+    assert!(
+        r.outputs
+            .iter()
+            .any(|(_, o)| o.flags.contains(Flags::GNSS_APPLIED)),
+        "the balloon takes the satellite altitude"
     );
     assert!(
         summary.contains("sensor_temperature_c present: not used as air temperature"),

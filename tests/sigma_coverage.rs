@@ -79,6 +79,7 @@ fn sample_of(r: &sim::Row) -> Option<Sample> {
         humidity_pct: r.humidity_pct.map(|x| x as f32),
         accel_up_mps2: r.accel_up_mps2.map(|x| x as f32),
         known_altitude_m: r.known_altitude_m.map(|x| x as f32),
+        ..Sample::default()
     })
 }
 

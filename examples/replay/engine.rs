@@ -360,6 +360,8 @@ impl<'s> Engine<'s> {
             humidity_pct: row.humidity_pct,
             accel_up_mps2: row.accel_up_mps2,
             known_altitude_m: row.known_altitude_m,
+            gnss_altitude_m: row.gnss_altitude_m,
+            gnss_accuracy_m: row.gnss_accuracy_m,
         };
         let o = match &mut self.estimation {
             Estimation::Filtered(d) => d.process(&sample),

@@ -37,9 +37,9 @@ pub(crate) struct Row {
     pub(crate) known_altitude_m: Option<f32>,
     /// The barometer's own temperature, degC: checked, never used as air temperature.
     pub(crate) sensor_temperature_c: Option<f32>,
-    /// Satellite altitude, m above mean sea level: checked, not fused.
+    /// Satellite altitude, m above mean sea level (fused by the balloon preset).
     pub(crate) gnss_altitude_m: Option<f32>,
-    /// The satellite altitude's 1-sigma, m: checked, not fused.
+    /// The satellite altitude's 1-sigma, m.
     pub(crate) gnss_accuracy_m: Option<f32>,
     /// The optional channels dropped for a bad value.
     pub(crate) dropped: Dropped,

@@ -138,9 +138,16 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, stats: &Stats) -> St
         );
     }
     if stats.gnss_rows > 0 {
+        let used = if settings.pointwise {
+            "not used with --filter off"
+        } else if matches!(settings.preset, super::PresetArg::Balloon) {
+            "fused with the barometric height"
+        } else {
+            "not used by this preset (balloon only)"
+        };
         let _ = writeln!(
             s,
-            "gnss_altitude_m present: not fused ({} rows; the heights are the barometer's)",
+            "gnss_altitude_m present: {used} ({} rows)",
             stats.gnss_rows
         );
     }

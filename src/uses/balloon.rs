@@ -1,12 +1,14 @@
 //! [`Balloon`]: a sounding integrated layer by layer from the launch, the burst, and
 //! the descent on the profile stored on the way up.
 
+use super::gnss::{GnssFix, GnssOffset};
 use super::stages::{
     ASSUMED_TEMPERATURE_SIGMA_K, Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset,
-    TimeBase, change_at, check_common, estimate_sigma_m, fix_target, ground_tolerance_m,
-    kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_datum_sigma_m, standard_height,
+    TimeBase, change_at, check_common, estimate_sigma_m, fix_agrees, fix_target,
+    ground_tolerance_m, kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_datum_sigma_m,
+    standard_height,
 };
-use super::{BalloonState, Flags, Output, Sample, Use};
+use super::{BalloonState, Flags, GnssSettings, Output, Sample, Use};
 use crate::Error;
 use crate::datum::AltimeterSetting;
 use crate::filter::{VerticalKalman, VerticalKalmanConfig};
@@ -69,6 +71,8 @@ pub struct BalloonSettings {
     pub max_gap_s: f32,
     /// Hysteresis band of the ascent and descent totals, m.
     pub totals_band_m: f32,
+    /// How satellite altitude, where samples carry one, is fused.
+    pub gnss: GnssSettings,
 }
 
 impl BalloonSettings {
@@ -105,6 +109,7 @@ impl BalloonSettings {
         max_gap_s: 600.0,
         // height noise reaches about 10 m (1-sigma) near 30 km
         totals_band_m: 30.0,
+        gnss: GnssSettings::DEFAULT,
     };
 
     /// Checks every field against its documented range. Errors:
@@ -135,6 +140,7 @@ impl BalloonSettings {
                 .map_err(|_| Error::InvalidSetting)?;
         }
         self.kalman.validate()?;
+        self.gnss.validate()?;
         self.states.validate()
     }
 
@@ -166,6 +172,11 @@ enum ModelChange<const N: usize> {
     Keep,
     Start(ModelState<N>),
     Step(PendingStep, bool),
+}
+
+/// The Kalman filter's height variance, m^2 (0 before an estimate).
+fn kalman_var(k: &VerticalKalman<&VerticalKalmanConfig>) -> f32 {
+    k.height_speed_variance().map_or(0.0, |(_, _, var)| var)
 }
 
 /// How far the first sample's pressure altitude may lie from the launch altitude of
@@ -219,6 +230,7 @@ pub struct Balloon<'a, const N: usize> {
     /// 1-sigma of the datum, m: 0 from a launch altitude; the pressure altitude's error
     /// without one (see [`standard_datum_sigma_m`]).
     datum_sigma_m: f32,
+    gnss: GnssOffset,
     last: Carried,
 }
 
@@ -246,6 +258,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
             model: ModelState::Empty,
             temperature_departure_k: None,
             datum_sigma_m: 0.0,
+            gnss: GnssOffset::default(),
             last: Carried::default(),
         })
     }
@@ -288,6 +301,37 @@ impl<'a, const N: usize> Balloon<'a, N> {
         out
     }
 
+    /// The output for a sample whose pressure was refused: carried over; for a
+    /// pressure below the settings' range (a balloon above the barometer's range) with
+    /// a satellite altitude above the last height (less the first-fix tolerance of
+    /// [`GnssSettings`]), that altitude with the receiver's 1-sigma
+    /// ([`Flags::ON_GNSS`]). Nothing is changed.
+    fn carry_on_gnss(&self, sample: &Sample, flags: Flags) -> Output<BalloonState> {
+        let mut flags = flags;
+        let mut out = self.carry(sample.time, flags);
+        let g = &self.settings.gnss;
+        let fix = GnssFix::check(
+            sample.gnss_altitude_m,
+            sample.gnss_accuracy_m,
+            g,
+            &mut flags,
+        );
+        let above_range = sample.pressure_pa < self.settings.min_pressure_pa;
+        let last_m = self.last.altitude_m;
+        let floor_m = last_m - g.first_fix_m - g.first_fix_share * last_m.abs();
+        match fix {
+            Some(fix) if above_range && self.time.last().is_some() && fix.altitude_m >= floor_m => {
+                out.altitude_m = fix.altitude_m;
+                out.altitude_sigma_m = fix.sigma_m;
+                flags.set(Flags::ON_GNSS);
+            }
+            Some(_) => flags.set(Flags::GNSS_REJECTED),
+            None => {}
+        }
+        out.flags = flags;
+        out
+    }
+
     fn carry(&self, time: Instant, flags: Flags) -> Output<BalloonState> {
         let totals = (self.track.totals.ascent_m(), self.track.totals.descent_m());
         self.last.output(time, self.state(), totals, flags)
@@ -303,9 +347,15 @@ impl<'a, const N: usize> Balloon<'a, N> {
         };
         let inputs = match Inputs::check(sample, s.min_pressure_pa, s.max_pressure_pa) {
             Ok(inputs) => inputs,
-            Err(flags) => return self.carry(sample.time, flags),
+            Err(flags) => return self.carry_on_gnss(sample, flags),
         };
         let mut flags = inputs.flags;
+        let fix = GnssFix::check(
+            sample.gnss_altitude_m,
+            sample.gnss_accuracy_m,
+            &s.gnss,
+            &mut flags,
+        );
         if time.fault {
             flags.set(Flags::CLOCK_FAULT);
         }
@@ -327,8 +377,12 @@ impl<'a, const N: usize> Balloon<'a, N> {
         let on_ground = self.track.phase() == Phase::Ground;
         let mut datum = ground.map(|g| g.propose(self.offset, model_m, on_ground, &mut flags));
         let mut offset = datum.map_or(self.offset, |d| d.offset);
-        if let Some(fix) = inputs.fix_m {
-            let last_m = self.time.last().map(|_| self.last.altitude_m);
+        let last_m = self.time.last().map(|_| self.last.altitude_m);
+        let current_m = last_m.unwrap_or(model_m + offset.offset_m);
+        if inputs.fix_m.is_some_and(|fix| !fix_agrees(fix, current_m)) {
+            flags.set(Flags::FIX_IGNORED);
+        }
+        if let Some(fix) = inputs.fix_m.filter(|&fix| fix_agrees(fix, current_m)) {
             offset.target_m = fix_target(offset, fix, last_m, model_m);
             if let Some(d) = datum.as_mut() {
                 d.frozen = true;
@@ -385,6 +439,29 @@ impl<'a, const N: usize> Balloon<'a, N> {
         if !flags.contains(Flags::OUTLIER) {
             self.commit_model(&mut change);
         }
+        // the satellite offset: from the fused height once the launch datum is set
+        let datum_set = self.ground.as_ref().is_none_or(|g| g.frozen) || !on_ground;
+        let baro_var = kalman_var(&self.kalman);
+        let dh_m = h - (self.last.altitude_m - self.gnss.offset_m);
+        let gnss = if datum_set {
+            self.gnss.step(
+                &s.gnss,
+                (time.dt_or_zero(), dh_m),
+                fix,
+                (h, baro_var),
+                &mut flags,
+            )
+        } else {
+            self.gnss
+        };
+        let (h_out, raw_out, sigma_out) = if gnss.is_held() {
+            let var = baro_var + gnss.variance_m2;
+            let sigma = crate::math::sigma_from_variance(var);
+            (h + gnss.offset_m, raw_m + gnss.offset_m, sigma)
+        } else {
+            (h, raw_m, sigma_m)
+        };
+        self.gnss = gnss;
         let mut offset = offset;
         if let (Some(g), Some(mut d)) = (self.ground.as_mut(), datum) {
             d.offset = offset;
@@ -397,7 +474,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
         if let Some(t) = t {
             self.temperature_departure_k = Some(t.kelvin() - t_std.kelvin());
         }
-        self.last = Carried::new(h, raw_m, v, sigma_m, flags, changed);
+        self.last = Carried::new(h_out, raw_out, v, sigma_out, flags, changed);
         let mut out = self.carry(sample.time, flags);
         if changed {
             out.change = change_at(&self.track.phases, sample.time, BalloonState::from_phase);
@@ -664,6 +741,7 @@ crate::snapshot::snap_fields!(impl['a, const N: usize] Balloon<'a, N> {
     model,
     temperature_departure_k,
     datum_sigma_m,
+    gnss,
     last,
 });
 

@@ -3,8 +3,8 @@
 
 use super::stages::{
     Carried, FlightTrack, Ground, Inputs, KalmanSample, Offset, TimeBase, altimeter_change_m,
-    change_at, check_altimeter, check_common, estimate_sigma_m, fix_target, ground_tolerance_m,
-    kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_height,
+    change_at, check_altimeter, check_common, estimate_sigma_m, fix_agrees, fix_target,
+    ground_tolerance_m, kalman_sigma_m, kalman_step, pointwise_sigma_m, standard_height,
 };
 use super::{DroneState, Flags, Output, Sample, Use};
 use crate::Error;
@@ -253,8 +253,12 @@ impl<'a> Drone<'a> {
         let mut datum = self
             .ground
             .propose(self.offset, model_m, on_ground, &mut flags);
-        if let Some(fix) = inputs.fix_m {
-            let last_m = self.time.last().map(|_| self.last.altitude_m);
+        let last_m = self.time.last().map(|_| self.last.altitude_m);
+        let current_m = last_m.unwrap_or(model_m + datum.offset.offset_m);
+        if inputs.fix_m.is_some_and(|fix| !fix_agrees(fix, current_m)) {
+            flags.set(Flags::FIX_IGNORED);
+        }
+        if let Some(fix) = inputs.fix_m.filter(|&fix| fix_agrees(fix, current_m)) {
             datum.offset.target_m = fix_target(datum.offset, fix, last_m, model_m);
             datum.frozen = true;
             flags.set(Flags::FIX_APPLIED);

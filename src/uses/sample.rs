@@ -22,6 +22,12 @@ pub struct Sample {
     /// A known geometric elevation of the device now (summit marker, map, trusted
     /// satellite fix), m.
     pub known_altitude_m: Option<f32>,
+    /// Satellite (GNSS) altitude, geometric above mean sea level, m: fused with the
+    /// barometric height by [`super::Balloon`] (see [`super::GnssSettings`]); the drone
+    /// (heights above the take-off point) and the walk do not use it.
+    pub gnss_altitude_m: Option<f32>,
+    /// The receiver's 1-sigma vertical accuracy for `gnss_altitude_m`, m.
+    pub gnss_accuracy_m: Option<f32>,
 }
 
 impl Sample {
@@ -34,6 +40,8 @@ impl Sample {
             humidity_pct: None,
             accel_up_mps2: None,
             known_altitude_m: None,
+            gnss_altitude_m: None,
+            gnss_accuracy_m: None,
         }
     }
 }
@@ -93,7 +101,20 @@ impl Flags {
     /// start in mid-air; heights start at the pressure altitude (balloon).
     pub const STARTED_IN_AIR: Flags = Flags(1 << 18);
 
-    const NAMES: [(Flags, &'static str); 19] = [
+    /// A satellite altitude was taken into the barometric offset (balloon).
+    pub const GNSS_APPLIED: Flags = Flags(1 << 19);
+    /// A satellite altitude was refused: too far from the fused height (a receiver's
+    /// jump) or, before any, from the barometric height (a receiver before its lock).
+    pub const GNSS_REJECTED: Flags = Flags(1 << 20);
+    /// A satellite altitude was given but invalid (not finite, beyond -1 to 90 km), and
+    /// ignored.
+    pub const GNSS_IGNORED: Flags = Flags(1 << 21);
+    /// The pressure was outside the settings' range; the height is the satellite
+    /// altitude of the sample, with the receiver's accuracy as its 1-sigma (balloon).
+    /// Nothing else changed.
+    pub const ON_GNSS: Flags = Flags(1 << 22);
+
+    const NAMES: [(Flags, &'static str); 23] = [
         (Flags::REJECTED_TIME, "rejected_time"),
         (Flags::REJECTED_PRESSURE, "rejected_pressure"),
         (Flags::REJECTED_MODEL, "rejected_model"),
@@ -113,6 +134,10 @@ impl Flags {
         (Flags::CLOCK_FAULT, "clock_fault"),
         (Flags::HUMIDITY_CLAMPED, "humidity_clamped"),
         (Flags::STARTED_IN_AIR, "started_in_air"),
+        (Flags::GNSS_APPLIED, "gnss_applied"),
+        (Flags::GNSS_REJECTED, "gnss_rejected"),
+        (Flags::GNSS_IGNORED, "gnss_ignored"),
+        (Flags::ON_GNSS, "on_gnss"),
     ];
 
     /// True if every bit of `other` is set.

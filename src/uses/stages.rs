@@ -350,6 +350,18 @@ pub(crate) fn fix_target(offset: Offset, fix_m: f32, last_m: Option<f32>, model_
     fix_m - current
 }
 
+/// How far a known elevation may lie from the current height and still be taken, m,
+/// plus a tenth of the height: beyond, it is a typing error or a receiver's 0 m before
+/// its lock, not a correction (a height off by more than this is beyond what weather
+/// and the column do to a barometric height; choice of this crate).
+pub const FIX_AGREES_M: f32 = 500.0;
+
+/// Whether a known elevation `fix_m` agrees with the current height `current_m`
+/// (within [`FIX_AGREES_M`] plus a tenth of the height).
+pub(crate) fn fix_agrees(fix_m: f32, current_m: f32) -> bool {
+    (fix_m - current_m).abs() <= FIX_AGREES_M + 0.1 * current_m.abs()
+}
+
 /// What the Kalman stage takes of a sample.
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct KalmanSample {

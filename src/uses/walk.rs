@@ -4,7 +4,7 @@
 use super::spike::SpikeGate;
 use super::stages::{
     Carried, Inputs, Offset, TimeBase, altimeter_change_m, change_at, check_altimeter,
-    check_common, difference_speed, pointwise_sigma_m, slew_gain, standard_height,
+    check_common, difference_speed, fix_agrees, pointwise_sigma_m, slew_gain, standard_height,
 };
 use super::{Flags, Output, Sample, Use, WalkState};
 use crate::Error;
@@ -254,8 +254,13 @@ impl<'a> Walk<'a> {
             gap + held_back_s
         };
         let mut r = self.hike.step(&s.tracker, since, raw_m);
+        let current_m = if first { raw_m } else { self.last.altitude_m };
+        if inputs.fix_m.is_some_and(|fix| !fix_agrees(fix, current_m)) {
+            flags.set(Flags::FIX_IGNORED);
+        }
         let fix = inputs
             .fix_m
+            .filter(|&fix| fix_agrees(fix, current_m))
             .or(if first { s.start_altitude_m } else { None });
         if let Some(h) = fix.and_then(|k| Height::from_meters(k).ok()) {
             // the first fix of a walk applies at once, later ones slew

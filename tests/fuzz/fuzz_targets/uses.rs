@@ -382,6 +382,8 @@ fn sample<U: Fuzzed>(u: &mut U, clock: &mut Clock, op: u8, b: &mut Bytes) {
         humidity_pct: optional(b, flags & 0x02 != 0, 50.0, 60.0),
         accel_up_mps2: optional(b, flags & 0x04 != 0, 0.0, 30.0),
         known_altitude_m: optional(b, flags & 0x08 != 0, 500.0, 10_000.0),
+        gnss_altitude_m: optional(b, flags & 0x10 != 0, 500.0, 40_000.0),
+        gnss_accuracy_m: optional(b, flags & 0x20 != 0, 5.0, 100.0),
     };
     let before = u.clone();
     let out = u.process(&sample);
