@@ -264,3 +264,33 @@ fn a_balloon_without_air_temperature_follows_the_standard_column() {
         assert!(worst_pct <= 0.1, "{worst_pct} %");
     }
 }
+
+/// A known elevation of 0 m at 30 km (a receiver before its lock written into the
+/// known-elevation channel, a typing error) is ignored and flagged; a real one near the
+/// height is taken.
+#[test]
+fn an_absurd_known_elevation_is_ignored() {
+    let (clean, truth) = fly_balloon(30_000.0, None);
+    let mut b = Balloon::<256>::new(&BALLOON).unwrap();
+    let at_30km = (60 + (30_000 - 300) / 5 - 10) as usize;
+    let mut worst = 0.0f32;
+    for (k, z) in truth.iter().enumerate() {
+        let mut s = balloon_sample(k as u64, *z, 0.0);
+        if k == at_30km {
+            s.known_altitude_m = Some(0.0);
+        }
+        let out = b.process(&s);
+        if k == at_30km {
+            assert!(out.flags.contains(Flags::FIX_IGNORED), "{:?}", out.flags);
+            assert!(!out.flags.contains(Flags::FIX_APPLIED));
+        }
+        worst = worst.max((out.altitude_m - clean[k].altitude_m).abs());
+    }
+    println!("known elevation 0 m at 30 km: largest change of any height {worst} m");
+    assert_eq!(worst, 0.0);
+    // a fix 40 m from the height is taken
+    let z = *truth.last().unwrap();
+    let mut s = balloon_sample(truth.len() as u64, z, 0.0);
+    s.known_altitude_m = Some(z as f32 + 40.0);
+    assert!(b.process(&s).flags.contains(Flags::FIX_APPLIED));
+}
