@@ -40,7 +40,9 @@ mod one_pole;
 
 pub use alpha_beta::AlphaBeta;
 pub use ground::{GroundReference, GroundReferenceConfig};
-pub use kalman::{KalmanOutcome, VerticalEstimate, VerticalKalman, VerticalKalmanConfig};
+pub use kalman::{
+    KalmanOutcome, MAX_SPEED_MPS, VerticalEstimate, VerticalKalman, VerticalKalmanConfig,
+};
 pub use median::Median;
 pub use moving_average::MovingAverage;
 pub use one_pole::OnePole;

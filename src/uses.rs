@@ -39,6 +39,7 @@ pub use gnss::GnssSettings;
 pub use sample::{Flags, Sample};
 pub use stages::{
     FIX_AGREES_M, MAX_GAP_LIMIT_S, MAX_PRESSURE_NOISE_PA, MAX_TEMPERATURE_UNCERTAINTY_K,
+    MAX_VERTICAL_SPEED_MPS,
 };
 pub use states::{BalloonState, DroneState, WalkState};
 pub use walk::{Walk, WalkSettings};

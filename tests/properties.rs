@@ -599,6 +599,18 @@ fn output_finite<S>(o: &Output<S>) -> bool {
         && o.tendency_hpa.is_none_or(f32::is_finite)
 }
 
+/// Heights within the standard atmosphere's range and the known elevations' (-10 to
+/// 100 km, with room for a datum), speeds and 1-sigmas within physical limits: no
+/// balloon, drone or walker moves vertically faster than sound at sea level (340 m/s;
+/// common practice), and no 1-sigma exceeds the whole range.
+fn output_physical<S>(o: &Output<S>) -> bool {
+    let height = |h: f32| (-10_000.0..=100_000.0).contains(&h);
+    height(o.altitude_m)
+        && height(o.raw_altitude_m)
+        && o.vertical_speed_mps.abs() <= isohypse::uses::MAX_VERTICAL_SPEED_MPS
+        && o.altitude_sigma_m <= 110_000.0
+}
+
 /// What every use's settings share, as the run needs them.
 struct Limits {
     min_pressure_pa: f32,
@@ -726,6 +738,10 @@ where
                 output_finite(&out),
                 "step {i}: non-finite output {out:?} for {sample:?}"
             );
+            prop_assert!(
+                output_physical(&out),
+                "step {i}: output beyond the physical limits {out:?} for {sample:?}"
+            );
             t = secs(sample.time);
             last = Some(t);
             p = sample.pressure_pa;
@@ -734,14 +750,44 @@ where
     Ok(())
 }
 
+/// A value from `range`, or now and then one at the edges of `f32` (tiny, huge,
+/// zero, negative): settings the validation must refuse, or that must still give
+/// physical output when it passes them.
+fn wide(range: std::ops::Range<f32>) -> impl Strategy<Value = f32> {
+    prop_oneof![
+        12 => range,
+        1 => prop::sample::select(vec![
+            0.0f32,
+            1.0e-45,
+            1.0e-30,
+            1.0e-6,
+            1.0e6,
+            1.0e30,
+            f32::MAX,
+            -1.0,
+        ]),
+    ]
+}
+
 /// Random Kalman settings (the validate check filters the few invalid ones).
 fn kalman_strategy() -> impl Strategy<Value = VerticalKalmanConfig> {
     (
-        (0.02f32..3.0, 0.0f32..0.05, 0.0f32..0.01, 0.1f32..5.0),
-        (0.1f32..40.0, 0.05f32..1.0, 2.0f32..30.0, 1u16..20),
-        (0.05f32..40.0, 0.02f32..1.0, 0.2f32..120.0, any::<bool>()),
+        (
+            wide(0.02..3.0),
+            wide(0.0..0.05),
+            wide(0.0..0.01),
+            wide(0.1..5.0),
+        ),
+        (wide(0.1..40.0), wide(0.05..1.0), wide(2.0..30.0), 1u16..20),
+        (
+            wide(0.05..40.0),
+            wide(0.02..1.0),
+            wide(0.2..120.0),
+            any::<bool>(),
+        ),
+        (wide(0.05..5.0), wide(1.0..10.0)),
     )
-        .prop_map(|(a, b, c)| VerticalKalmanConfig {
+        .prop_map(|(a, b, c, d)| VerticalKalmanConfig {
             baro_sigma_m: a.0,
             accel_noise_density: a.1,
             bias_random_walk: a.2,
@@ -754,6 +800,8 @@ fn kalman_strategy() -> impl Strategy<Value = VerticalKalmanConfig> {
             accel_timeout_s: c.1,
             baro_timeout_s: c.2,
             gain_reuse_tolerance: if c.3 { 0.01 } else { 0.0 },
+            follow_after_s: d.0,
+            disturbed_sigma_scale: d.1,
             ..VerticalKalmanConfig::DEFAULT
         })
         .prop_filter("valid Kalman settings", |k| k.validate().is_ok())
@@ -795,9 +843,9 @@ fn common_strategy(
     (
         1_000.0f32..60_000.0,
         100_000.0f32..110_000.0,
-        0.0f32..20.0,
-        0.0f32..10.0,
-        0.0f32..120.0,
+        wide(0.0..20.0),
+        wide(0.0..10.0),
+        wide(0.0..120.0),
         gap,
     )
 }

@@ -35,25 +35,27 @@ const SETTLE_CHANGE: f32 = 1.0e-6;
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct VerticalKalmanConfig {
-    /// 1-sigma noise of one barometric height sample, m (> 0).
+    /// 1-sigma noise of one barometric height sample, m (1e-4 to 1e4).
     pub baro_sigma_m: f32,
     /// Accelerometer white-noise density, m/s^2/sqrt(Hz) (>= 0): the square root of the
     /// two-sided power spectral density `q_a` of the acceleration noise. For white noise
     /// of standard deviation `sigma` per sample at rate `fs`, held over each step, the
-    /// equivalent density is `sigma / sqrt(fs)` (common practice).
+    /// equivalent density is `sigma / sqrt(fs)` (common practice). At most 100.
     pub accel_noise_density: f32,
     /// Accelerometer bias random walk, m/s^2/sqrt(s) (>= 0): the bias drifts by this much
-    /// (1-sigma) over one second.
+    /// (1-sigma) over one second. At most 10.
     pub bias_random_walk: f32,
     /// White-acceleration density of the constant-velocity model used when no
     /// accelerometer sample is fresh (baro-only operation), m/s^2/sqrt(Hz) (> 0). Sets
-    /// how quickly the filter believes the vertical speed can change.
+    /// how quickly the filter believes the vertical speed can change. At most 1 000.
     pub baro_only_accel_density: f32,
-    /// 1-sigma of the vertical speed at start and after re-acquisition, m/s (> 0).
+    /// 1-sigma of the vertical speed at start and after re-acquisition, m/s (> 0, at
+    /// most [`MAX_SPEED_MPS`]).
     pub initial_speed_sigma_mps: f32,
-    /// 1-sigma of the accelerometer bias at start, m/s^2 (> 0).
+    /// 1-sigma of the accelerometer bias at start, m/s^2 (> 0, at most 100).
     pub initial_bias_sigma_mps2: f32,
-    /// Innovation gate on the normalised innovation squared `y^2 / S` (> 0). 10.83 is
+    /// Innovation gate on the normalised innovation squared `y^2 / S` (> 0, at most
+    /// 10 000). 10.83 is
     /// the chi-square value for 1 degree of freedom at 99.9 % (NIST/SEMATECH
     /// e-Handbook of Statistical Methods, critical values of the chi-square
     /// distribution, upper tail 0.001, 1 degree of freedom: 10.828; section 1.3.6.7.4,
@@ -67,29 +69,30 @@ pub struct VerticalKalmanConfig {
     /// before the filter takes it for a change of motion it did not predict (a burst,
     /// a hard climb, a drop, or a prediction run away on an accelerometer shock) and
     /// starts again from the run: height from its last sample, speed from its first and
-    /// last, s (> 0; at least two samples either way). Rejections on both sides
+    /// last, s (> 0, at most an hour; at least two samples either way). Rejections on both sides
     /// (spikes, noise) wait for `reacquire_after` instead.
     pub follow_after_s: f32,
     /// Longest step integrated in one prediction, s (> 0). A longer gap is a dropout:
     /// the state is propagated over at most this step and the next barometer sample
-    /// re-acquires. Must exceed the slowest normal sample interval.
+    /// re-acquires. Must exceed the slowest normal sample interval; at most an hour.
     pub max_step_s: f32,
-    /// An accelerometer sample older than this (s, > 0) is not used; predictions fall
+    /// An accelerometer sample older than this (s, > 0, at most an hour) is not used; predictions fall
     /// back to the constant-velocity model.
     pub accel_timeout_s: f32,
-    /// If no barometer sample was accepted for this long (s, > 0), the next one
+    /// If no barometer sample was accepted for this long (s, > 0, at most a day), the next one
     /// re-acquires.
     pub baro_timeout_s: f32,
-    /// Factor (>= 1) on `baro_sigma_m` while the user flags a disturbance
+    /// Factor (1 to 100) on `baro_sigma_m` while the user flags a disturbance
     /// ([`VerticalKalman::set_baro_disturbed`]: propeller wash, ground effect).
     pub disturbed_sigma_scale: f32,
-    /// Largest accepted magnitude of vertical acceleration, m/s^2 (> 0). Larger samples
+    /// Largest accepted magnitude of vertical acceleration, m/s^2 (> 0, at most
+    /// 1 000). Larger samples
     /// are refused with [`Error::SampleOutOfRange`].
     pub max_accel_mps2: f32,
-    /// Lowest accepted barometric height, m. Lower samples are refused with
+    /// Lowest accepted barometric height, m (-10 km or above). Lower samples are refused with
     /// [`Error::BelowModelBottom`].
     pub min_height_m: f32,
-    /// Highest accepted barometric height, m. Higher samples are refused with
+    /// Highest accepted barometric height, m (100 km or below). Higher samples are refused with
     /// [`Error::AboveModelTop`].
     pub max_height_m: f32,
     /// Relative tolerance (0 to 0.1) under which a settled covariance is reused instead
@@ -176,23 +179,37 @@ impl VerticalKalmanConfig {
     /// Errors: [`Error::InvalidSetting`].
     pub fn validate(&self) -> Result<(), Error> {
         use math::{finite_non_negative as non_neg, finite_positive as pos};
+        // Upper limits keep every product of the filter finite in f32 and its output
+        // physical (checked by tests/settings_limits.rs and the property tests).
+        let within = |x: f32, lo: f32, hi: f32| x >= lo && x <= hi;
         let ok = pos(self.baro_sigma_m)
+            && within(self.baro_sigma_m, 1.0e-4, 1.0e4)
             && non_neg(self.accel_noise_density)
+            && self.accel_noise_density <= 100.0
             && non_neg(self.bias_random_walk)
+            && self.bias_random_walk <= 10.0
             && pos(self.baro_only_accel_density)
+            && self.baro_only_accel_density <= 1_000.0
             && pos(self.initial_speed_sigma_mps)
+            && self.initial_speed_sigma_mps <= MAX_SPEED_MPS
             && pos(self.initial_bias_sigma_mps2)
+            && self.initial_bias_sigma_mps2 <= 100.0
             && pos(self.gate_nis)
+            && self.gate_nis <= 1.0e4
             && self.reacquire_after >= 1
             && pos(self.follow_after_s)
+            && self.follow_after_s <= 3_600.0
             && pos(self.max_step_s)
+            && self.max_step_s <= 3_600.0
             && pos(self.accel_timeout_s)
+            && self.accel_timeout_s <= 3_600.0
             && pos(self.baro_timeout_s)
-            && self.disturbed_sigma_scale.is_finite()
-            && self.disturbed_sigma_scale >= 1.0
+            && self.baro_timeout_s <= 86_400.0
+            && within(self.disturbed_sigma_scale, 1.0, 100.0)
             && pos(self.max_accel_mps2)
-            && self.min_height_m.is_finite()
-            && self.max_height_m.is_finite()
+            && self.max_accel_mps2 <= 1_000.0
+            && within(self.min_height_m, -10_000.0, 100_000.0)
+            && within(self.max_height_m, -10_000.0, 100_000.0)
             && self.min_height_m < self.max_height_m
             && non_neg(self.gain_reuse_tolerance)
             && self.gain_reuse_tolerance <= 0.1;
@@ -342,6 +359,24 @@ fn settled(a: (f32, f32, f32), b: (f32, f32, f32)) -> bool {
 /// reset to a diagonal at these limits and the next barometer sample re-acquires.
 /// They only matter after very long gaps (choice of this crate).
 const MAX_VAR_HEIGHT: f32 = 1.0e8;
+
+/// Largest vertical speed the filter holds, m/s: a speed beyond it (a restart from two
+/// readings a millisecond apart, an accelerometer stuck at full scale) is held at it.
+/// Falls from the stratosphere on record reach about 380 m/s (from memory); nothing
+/// this crate tracks goes faster vertically (choice of this crate).
+pub const MAX_SPEED_MPS: f32 = 500.0;
+
+/// `v` held within [`MAX_SPEED_MPS`] (comparisons: `f32::clamp` is a call; a NaN
+/// passes through to the finiteness check).
+fn limit_speed(v: f32) -> f32 {
+    if v > MAX_SPEED_MPS {
+        MAX_SPEED_MPS
+    } else if v < -MAX_SPEED_MPS {
+        -MAX_SPEED_MPS
+    } else {
+        v
+    }
+}
 const MAX_VAR_SPEED: f32 = 1.0e4;
 const MAX_VAR_BIAS: f32 = 1.0e2;
 
@@ -537,7 +572,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             self.hold_accel_at_core(accel_up_mps2);
             return Ok(());
         }
-        let (core, dropout) = self.propagate(dt, Some(accel_up_mps2));
+        let (mut core, dropout) = self.propagate(dt, Some(accel_up_mps2));
+        core.v = limit_speed(core.v);
         if !core.is_finite() {
             return Err(Error::NotFinite);
         }
@@ -1022,7 +1058,11 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         };
         let accepted_age = self.accepted_age_s + dt;
         let stale = accepted_age > self.config().baro_timeout_s;
-        let mut reacquire = self.bits.get(REACQUIRE_PENDING) || dropout || stale;
+        // a prediction that left the heights the filter takes is no estimate: start
+        // again from the measurement (written so that a NaN counts as outside)
+        let c = self.config();
+        let inside = core.h >= c.min_height_m && core.h <= c.max_height_m;
+        let mut reacquire = self.bits.get(REACQUIRE_PENDING) || dropout || stale || !inside;
 
         let y = z - core.h;
         let s = core.p.hh + r;
@@ -1071,6 +1111,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             prior = (core.p.hh, core.p.hv, core.p.hb);
             core = Self::update(core, y, r);
         }
+        core.v = limit_speed(core.v);
         if !core.is_finite() {
             return Err(Error::NotFinite);
         }

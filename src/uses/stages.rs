@@ -479,6 +479,10 @@ impl FlightTrack {
     }
 }
 
+/// Largest vertical speed a use reports, m/s (the Kalman filter's
+/// [`crate::filter::MAX_SPEED_MPS`]): an estimate beyond it is held at it.
+pub const MAX_VERTICAL_SPEED_MPS: f32 = crate::filter::MAX_SPEED_MPS;
+
 /// What a use keeps of its last output to carry it forward on a refused sample.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -497,10 +501,19 @@ pub(crate) struct Carried {
 const CHANGED: u32 = 1 << 31;
 
 impl Carried {
-    /// The last values: the output's `h`, `raw`, `v`, `sigma`, its flags, and whether
-    /// it confirmed a state change.
+    /// The last values: the output's `h`, `raw`, `v` (held within
+    /// [`MAX_VERTICAL_SPEED_MPS`]), `sigma`, its flags, and whether it confirmed a
+    /// state change.
     pub fn new(h: f32, raw: f32, v: f32, sigma: f32, flags: Flags, changed: bool) -> Self {
         let changed = if changed { CHANGED } else { 0 };
+        // (comparisons, not `f32::clamp`: that panics on NaN bounds, and is a call)
+        let v = if v > MAX_VERTICAL_SPEED_MPS {
+            MAX_VERTICAL_SPEED_MPS
+        } else if v < -MAX_VERTICAL_SPEED_MPS {
+            -MAX_VERTICAL_SPEED_MPS
+        } else {
+            v
+        };
         Carried {
             altitude_m: h,
             raw_altitude_m: raw,
