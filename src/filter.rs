@@ -33,7 +33,7 @@
 
 mod alpha_beta;
 mod ground;
-mod kalman;
+pub(crate) mod kalman;
 mod median;
 mod moving_average;
 mod one_pole;

@@ -366,9 +366,11 @@ const MAX_VAR_HEIGHT: f32 = 1.0e8;
 /// this crate tracks goes faster vertically (choice of this crate).
 pub const MAX_SPEED_MPS: f32 = 500.0;
 
-/// `v` held within [`MAX_SPEED_MPS`] (comparisons: `f32::clamp` is a call; a NaN
-/// passes through to the finiteness check).
-fn limit_speed(v: f32) -> f32 {
+/// `v` held within [`MAX_SPEED_MPS`] (comparisons: `f32::clamp` carries an assertion,
+/// a panic path the link-time check would have to see through; a NaN passes through
+/// to the finiteness checks).
+#[allow(clippy::manual_clamp)]
+pub(crate) fn limit_speed(v: f32) -> f32 {
     if v > MAX_SPEED_MPS {
         MAX_SPEED_MPS
     } else if v < -MAX_SPEED_MPS {

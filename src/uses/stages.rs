@@ -506,14 +506,7 @@ impl Carried {
     /// state change.
     pub fn new(h: f32, raw: f32, v: f32, sigma: f32, flags: Flags, changed: bool) -> Self {
         let changed = if changed { CHANGED } else { 0 };
-        // (comparisons, not `f32::clamp`: that panics on NaN bounds, and is a call)
-        let v = if v > MAX_VERTICAL_SPEED_MPS {
-            MAX_VERTICAL_SPEED_MPS
-        } else if v < -MAX_VERTICAL_SPEED_MPS {
-            -MAX_VERTICAL_SPEED_MPS
-        } else {
-            v
-        };
+        let v = crate::filter::kalman::limit_speed(v);
         Carried {
             altitude_m: h,
             raw_altitude_m: raw,
