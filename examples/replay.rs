@@ -78,20 +78,30 @@ mod delay;
 pub(crate) mod engine;
 #[path = "replay/envelope.rs"]
 pub(crate) mod envelope;
+#[path = "replay/labels.rs"]
+pub(crate) mod labels;
 #[path = "replay/lines.rs"]
 pub(crate) mod lines;
 #[path = "replay/messages.rs"]
 pub(crate) mod messages;
 #[path = "replay/numbers.rs"]
 pub(crate) mod numbers;
+#[path = "replay/palette.rs"]
+pub(crate) mod palette;
 #[path = "replay/plot.rs"]
 pub(crate) mod plot;
+#[path = "replay/profile.rs"]
+pub(crate) mod profile;
 #[path = "replay/progress.rs"]
 pub(crate) mod progress;
 #[path = "replay/row.rs"]
 pub(crate) mod row;
+#[path = "replay/scale.rs"]
+pub(crate) mod scale;
 #[path = "replay/steps.rs"]
 mod steps;
+#[path = "replay/story.rs"]
+pub(crate) mod story;
 #[path = "replay/stream.rs"]
 pub(crate) mod stream;
 #[path = "replay/summary.rs"]
@@ -107,8 +117,10 @@ use clap::{Parser, ValueEnum};
 
 use envelope::Envelope;
 use messages::Messages;
+use profile::Profile;
 use progress::Progress;
 use row::cell;
+use scale::Scale;
 use table::{Table, io_failure};
 
 pub(crate) use engine::settings_for;
@@ -146,9 +158,12 @@ pub(crate) struct Cli {
     /// Directory for the demo run's files (no input given).
     #[arg(long, value_name = "DIR", default_value = "target/replay")]
     pub(crate) out_dir: PathBuf,
-    /// Settings preset for the kind of device.
-    #[arg(long, value_enum, default_value_t = PresetArg::Balloon)]
-    pub(crate) preset: PresetArg,
+    /// Settings preset for the kind of device. Without it the preset is inferred from
+    /// the log's columns and stated in the summary: `accel_up_mps2` gives the drone,
+    /// `humidity_pct` or `gnss_altitude_m` (or a --model only the balloon takes) the
+    /// balloon, anything else the walk (hike).
+    #[arg(long, value_enum)]
+    pub(crate) preset: Option<PresetArg>,
     /// Height model: `standard` (U.S. 1976 pressure altitude plus datum), `sounding`
     /// (layer-by-layer hypsometric integration with each row's temperature and
     /// humidity), `mean` (two-point hypsometric method from the first row: the column
@@ -364,6 +379,7 @@ pub(crate) fn run_input(
     let settings = settings_for(cli)?;
     let mut table = Table::create(&files.out)?;
     let mut envelope = Envelope::default();
+    let mut profile = Profile::default();
     let result = stream::stream(
         input,
         settings,
@@ -371,6 +387,7 @@ pub(crate) fn run_input(
         &mut progress,
         &mut |row, _, p| {
             envelope.add(p);
+            profile.add(p);
             table.write(row, p)
         },
     );
@@ -392,12 +409,28 @@ pub(crate) fn run_input(
             eprint!("{}", terminal_list(name, messages, what, &files.summary));
         }
     }
-    plot::draw(&files.plot, name, &envelope, &stats.events)?;
+    let settings = stats.settings.unwrap_or(settings);
+    let frame = plot::Frame {
+        header: engine::plot_header(name, &settings),
+        scale: Scale::of(settings.preset),
+    };
+    plot::draw(
+        &files.plot,
+        &frame,
+        &envelope,
+        &stats.events,
+        &stats.story.rest_spans,
+    )?;
+    let mut plots = files.plot.display().to_string();
+    if settings.preset == PresetArg::Balloon {
+        let path = profile_path(&files.plot);
+        profile::draw(&path, &frame.header, &profile)?;
+        plots = format!("{plots} {}", path.display());
+    }
     let mut text = summary::summary_text(name, &settings, &stats);
     text.push_str(&format!(
-        "files: {} {} {}\n",
+        "files: {} {plots} {}\n",
         files.out.display(),
-        files.plot.display(),
         files.summary.display()
     ));
     // The file gets the first messages of each list and the count of the others.
@@ -410,6 +443,11 @@ pub(crate) fn run_input(
     }
     fs::write(&files.summary, &file_text).map_err(io_failure(&files.summary))?;
     Ok(text)
+}
+
+/// The balloon's second figure beside the plot `x.svg`: `x.profile.svg`.
+pub(crate) fn profile_path(plot: &Path) -> PathBuf {
+    plot.with_extension("profile.svg")
 }
 
 /// The first 20 messages of a list for the terminal, each after the log's `name`, and
@@ -474,8 +512,8 @@ pub(crate) const DEMOS: [Demo; 3] = [
         "hike",
         include_str!("data/hike.csv"),
         PresetArg::Hike,
-        None,
-        None,
+        Some(46.8),
+        Some(652.0),
     ),
 ];
 
@@ -492,7 +530,7 @@ pub(crate) fn run(cli: &Cli) -> Result<(), Failure> {
                 .map_err(|e| Failure::Io(format!("{}: {e}", cli.out_dir.display())))?;
             for (name, text, preset, lat, start) in DEMOS {
                 let demo_cli = Cli {
-                    preset,
+                    preset: Some(preset),
                     latitude_deg: cli.latitude_deg.or(lat),
                     start_altitude_m: cli.start_altitude_m.or(start),
                     input: None,

@@ -14,9 +14,7 @@ mod sim;
 
 use clap::Parser;
 use isohypse::uses::Flags;
-use replay_tool::{
-    Cli, DEMOS, Replay, replay, run, run_one, settings_for, write_output, write_plot,
-};
+use replay_tool::{Cli, DEMOS, Replay, replay, run, run_one, settings_for, write_output};
 use replay_tool::{ModelArg, Output, PresetArg, Settings};
 
 fn demo(name: &str) -> (&'static str, Settings) {
@@ -299,46 +297,173 @@ fn unusable_files_fail_with_code_3() {
     }
 }
 
+/// A text of an SVG as plotters writes it: its estimated box (left, top, right, bottom,
+/// px) and its content.
+#[derive(Debug, Clone)]
+struct SvgText {
+    area: (f64, f64, f64, f64),
+    content: String,
+}
+
+/// The value of attribute `name` in the tag `tag`.
+fn attribute<'a>(tag: &'a str, name: &str) -> Option<&'a str> {
+    let start = tag.find(&format!(" {name}=\""))? + name.len() + 3;
+    let end = start + tag[start..].find('"')?;
+    Some(&tag[start..end])
+}
+
+/// Every `<text>` of `svg` with a box on the safe side: 0.62 em per character (above
+/// the mean advance of the common sans-serif faces, about 0.55 em: common practice),
+/// one em high, placed by its anchor, its vertical offset and a quarter turn.
+fn svg_texts(svg: &str) -> Vec<SvgText> {
+    let mut texts = Vec::new();
+    let mut rest = svg;
+    while let Some(k) = rest.find("<text ") {
+        let tag_end = k + rest[k..].find('>').unwrap();
+        let tag = &rest[k..tag_end];
+        let close = tag_end + rest[tag_end..].find("</text>").unwrap();
+        let content = rest[tag_end + 1..close].trim().replace("&apos;", "'");
+        rest = &rest[close..];
+        let num = |n: &str| attribute(tag, n).and_then(|v| v.parse::<f64>().ok());
+        let (x, y, size) = (
+            num("x").unwrap(),
+            num("y").unwrap(),
+            num("font-size").unwrap(),
+        );
+        let w = content.chars().count() as f64 * size * 0.62;
+        let left = match attribute(tag, "text-anchor") {
+            Some("middle") => x - w / 2.0,
+            Some("end") => x - w,
+            _ => x,
+        };
+        let top = match attribute(tag, "dy") {
+            Some("0.76em") => y,
+            Some("0.5ex") => y - size / 2.0,
+            _ => y - size,
+        };
+        let area = if attribute(tag, "transform").is_some_and(|t| t.starts_with("rotate")) {
+            (x - size, y - w / 2.0, x + size, y + w / 2.0)
+        } else {
+            (left, top, left + w, top + size)
+        };
+        texts.push(SvgText { area, content });
+    }
+    texts
+}
+
+fn overlap(a: (f64, f64, f64, f64), b: (f64, f64, f64, f64)) -> bool {
+    a.0 < b.2 && b.0 < a.2 && a.1 < b.3 && b.1 < a.3
+}
+
 #[test]
-fn svg_plot_renders() {
-    let (text, settings) = demo("drone");
-    let r = replay(text, settings, false).unwrap();
-    let path = std::env::temp_dir().join(format!("isohypse-plot-{}.svg", std::process::id()));
-    write_plot(&path, "drone", &r).unwrap();
-    let data = std::fs::read(&path).unwrap();
-    let _ = std::fs::remove_file(&path);
-    let tree = resvg::usvg::Tree::from_data(&data, &resvg::usvg::Options::default())
-        .expect("well-formed SVG");
-    let size = tree.size().to_int_size();
-    assert_eq!((size.width(), size.height()), (1000, 700));
-    let mut pixmap = resvg::tiny_skia::Pixmap::new(size.width(), size.height()).unwrap();
-    resvg::render(
-        &tree,
-        resvg::tiny_skia::Transform::default(),
-        &mut pixmap.as_mut(),
-    );
-    // drawn pixels: not transparent and not white
-    let drawn = pixmap
-        .pixels()
-        .iter()
-        .filter(|p| p.alpha() > 0 && (p.red() < 200 || p.green() < 200 || p.blue() < 200))
-        .count();
-    let total = (size.width() * size.height()) as usize;
-    println!("svg: {drawn} of {total} pixels drawn");
-    assert!(drawn > total / 50, "plot nearly empty: {drawn} pixels");
-    // the labels with units are in the file
-    let text = String::from_utf8_lossy(&data);
-    for label in [
-        "height (m)",
-        "time (s)",
-        "vertical speed (m/s)",
-        "total ascent (m)",
-    ] {
-        assert!(text.contains(label), "missing axis label {label}");
+fn demo_plots_read_at_a_glance() {
+    // Each demo's plot (and the balloon's profile) rendered to PNG; what can be
+    // asserted is: every text inside the frame, no two texts over each other, the state
+    // labels above the data, the header with use, model, start altitude and latitude,
+    // the units of the use, and ticks without "-0" or a spurious ".0".
+    let dir = scratch("plots");
+    for (name, text, preset, lat, start) in DEMOS {
+        let cli = cli(&["--quiet"]);
+        let cli = Cli {
+            preset: Some(preset),
+            latitude_deg: lat,
+            start_altitude_m: start,
+            ..cli
+        };
+        let plot = dir.join(format!("{name}.svg"));
+        run_one(
+            name,
+            text,
+            &cli,
+            &dir.join(format!("{name}.out.csv")),
+            &plot,
+            &dir.join(format!("{name}.summary.txt")),
+        )
+        .unwrap();
+        let mut figures = vec![plot.clone()];
+        if preset == PresetArg::Balloon {
+            figures.push(replay_tool::profile_path(&plot));
+        }
+        for figure in figures {
+            let svg = std::fs::read_to_string(&figure).unwrap();
+            let pixmap = render(svg.as_bytes());
+            let (w, h) = (f64::from(pixmap.width()), f64::from(pixmap.height()));
+            let png = figure.with_extension("png");
+            pixmap.save_png(&png).unwrap();
+            println!("{}: {} x {}", png.display(), w, h);
+            let texts = svg_texts(&svg);
+            assert!(texts.len() > 20, "{name}: {} texts", texts.len());
+            for t in &texts {
+                let (l, top, r, b) = t.area;
+                assert!(
+                    l >= 0.0 && top >= 0.0 && r <= w && b <= h,
+                    "{name}: '{}' leaves the frame: {:?}",
+                    t.content,
+                    t.area
+                );
+                assert!(
+                    t.content != "-0" && !t.content.ends_with(".0"),
+                    "{name}: tick '{}'",
+                    t.content
+                );
+            }
+            for (k, a) in texts.iter().enumerate() {
+                for b in texts.iter().skip(k + 1) {
+                    assert!(
+                        !overlap(a.area, b.area),
+                        "{name}: '{}' {:?} over '{}' {:?}",
+                        a.content,
+                        a.area,
+                        b.content,
+                        b.area
+                    );
+                }
+            }
+            assert!(texts[0].content.starts_with(&format!("log '{name}'")));
+        }
+        let svg = std::fs::read_to_string(&plot).unwrap();
+        let texts = svg_texts(&svg);
+        let header = &texts[0].content;
+        assert!(header.contains("model:"), "{header}");
+        assert!(
+            header.contains("start altitude") || header.contains("pressure altitude"),
+            "{header}"
+        );
+        assert!(
+            header.contains("latitude") || header.contains("standard gravity"),
+            "{header}"
+        );
+        let (height, time) = match preset {
+            PresetArg::Balloon => ("height (km)", "(h:mm)"),
+            PresetArg::Hike => ("height (m)", "(h:mm)"),
+            PresetArg::Drone => ("height (m)", "(s)"),
+        };
+        assert!(
+            texts.iter().any(|t| t.content == height),
+            "{name}: {height}"
+        );
+        assert!(
+            texts.iter().any(|t| t.content.ends_with(time)),
+            "{name}: {time}"
+        );
+        // the state labels sit above the data, which starts at DATA_TOP_PX
+        let summary = std::fs::read_to_string(dir.join(format!("{name}.summary.txt"))).unwrap();
+        let labels: Vec<&SvgText> = texts
+            .iter()
+            .filter(|t| summary.contains(&format!("  {:<11} from", t.content.replace(' ', "_"))))
+            .collect();
+        assert!(!labels.is_empty(), "{name}: no state label");
+        for l in labels {
+            let top = f64::from(replay_tool::plot::DATA_TOP_PX);
+            assert!(
+                l.area.3 <= top,
+                "{name}: '{}' reaches into the data",
+                l.content
+            );
+        }
     }
 }
 
-/// A scratch directory of this test process.
 fn scratch(name: &str) -> std::path::PathBuf {
     let dir = std::env::temp_dir().join(format!("isohypse-replay-{name}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
@@ -809,7 +934,7 @@ fn rows_before_the_first_estimate_show_no_number() {
     // every row flagged: the summary says there is no final height instead of 0 m
     let (_, summary) = run_quietly("no-estimate-all", "time_s,pressure_pa\n0,0.1\n1,0.2\n", &[]);
     assert!(
-        summary.contains("final height none (no accepted sample)"),
+        summary.contains("height none (no accepted sample)"),
         "{summary}"
     );
 }
@@ -1327,22 +1452,26 @@ fn a_long_log_gives_a_small_plot_that_keeps_a_one_sample_spike() {
     assert_eq!(table.lines().count(), 200_001);
     println!("SVG of 200 000 rows: {} bytes", svg.len());
     assert!(svg.len() < 3_000_000, "{} bytes", svg.len());
-    // The height axis runs from the flat line (near the bottom of the upper panel,
-    // about y = 370 of 430) to the spike (near its top, about y = 60). Blue pixels
-    // (the filtered height) half way up can only be the spike's line, in a column or
-    // two.
+    // The height axis runs from the flat line (near the bottom of the height panel,
+    // which spans y = DATA_TOP_PX = 84 to 84 + 400 - 40 = 444: the panel's 400 pixels
+    // less the 40 of its time axis) to the spike (near its top). Strongly coloured
+    // pixels (the heights' lines; the grid and state lines are grey, the band pale)
+    // half way up can only be the spike's line, in a column or two.
     let pixmap = render(&svg);
     let width = pixmap.width() as usize;
     let blue: Vec<(usize, usize)> = pixmap
         .pixels()
         .iter()
         .enumerate()
-        .filter(|(_, p)| p.blue() > 180 && p.red() < 90 && p.green() < 90)
+        .filter(|(_, p)| {
+            let (r, g, b) = (p.red(), p.green(), p.blue());
+            p.alpha() > 200 && r.max(g).max(b) - r.min(g).min(b) > 60
+        })
         .map(|(k, _)| (k % width, k / width))
         .collect();
     let middle: Vec<usize> = blue
         .iter()
-        .filter(|(_, y)| (150..=280).contains(y))
+        .filter(|(x, y)| (180..=340).contains(y) && *x < 850)
         .map(|(x, _)| *x)
         .collect();
     let (lo, hi) = (
@@ -1350,16 +1479,17 @@ fn a_long_log_gives_a_small_plot_that_keeps_a_one_sample_spike() {
         middle.iter().max().copied().unwrap_or(0),
     );
     println!(
-        "spike: {} blue pixels half way up, x {lo}..={hi}",
+        "spike: {} pixels of the estimate half way up, x {lo}..={hi}",
         middle.len()
     );
     assert!(middle.len() >= 100, "spike not drawn: {blue:?}");
     assert!(hi - lo <= 4, "x {lo}..={hi}");
-    // at the spike's time: the time axis spans t = 0..3999.98 s over x = 80..990 (the
-    // 1000-pixel plot less its 10-pixel margins and the 70-pixel label area on the
-    // left), so t = 2469.14 s is at x = 80 + 910 * 2469.14 / 3999.98 = 641.7
+    // at the spike's time: the time axis spans t = 0..3999.98 s over x = 80..770 (the
+    // data column, 850 pixels wide, less its 10-pixel margins, the 70-pixel label area
+    // on the left and the 70 pixels kept on the right for the speed panel's axis), so
+    // t = 2469.14 s is at x = 80 + 690 * 2469.14 / 3999.98 = 505.9
     assert!(
-        lo.abs_diff(641) <= 4 && hi.abs_diff(641) <= 4,
+        lo.abs_diff(506) <= 4 && hi.abs_diff(506) <= 4,
         "x {lo}..={hi}"
     );
 }
@@ -1392,6 +1522,9 @@ fn the_envelope_keeps_every_extreme_and_stays_bounded() {
             tendency_hpa: None,
             flags: 0,
             accepted: true,
+            gnss_altitude_m: None,
+            temperature_c: None,
+            humidity_pct: None,
         });
     }
     assert_eq!(envelope.range(1), Some((lo, hi)));
@@ -1932,6 +2065,39 @@ fn a_sonde_log_in_cloud_loses_no_row() {
             settings,
             Flags::HUMIDITY_IGNORED,
             &dropped,
+        );
+    }
+}
+
+#[test]
+fn without_a_preset_the_columns_choose_it_and_the_summary_says_so() {
+    // Contract (README): without --preset, an accelerometer column gives the drone,
+    // humidity or satellite altitude the balloon, anything else the walk; the summary
+    // names the preset and that it was inferred.
+    for (header, row, use_name) in [
+        ("time_s,pressure_pa,accel_up_mps2", "95000,0.1", "drone"),
+        (
+            "time_s,pressure_pa,temperature_c,humidity_pct",
+            "95000,10,50",
+            "balloon",
+        ),
+        ("time_s,pressure_pa,gnss_altitude_m", "95000,540", "balloon"),
+        ("time_s,pressure_pa,temperature_c", "95000,10", "walk"),
+    ] {
+        let mut log = format!("{header}\n");
+        for k in 0..20 {
+            log.push_str(&format!("{k},{row}\n"));
+        }
+        let (_, summary) = run_quietly("inferred", &log, &[]);
+        assert!(
+            summary.contains(&format!("use: {use_name}"))
+                && summary.contains("(inferred from the log's columns; choose with --preset)"),
+            "{header}: {summary}"
+        );
+        let (_, summary) = run_quietly("given", &log, &["--preset", "hike"]);
+        assert!(
+            summary.contains("use: walk (hike preset); model"),
+            "{summary}"
         );
     }
 }

@@ -19,7 +19,7 @@ use isohypse::{Height, Pressure, RelativeHumidity, Temperature};
 
 use super::Failure;
 use super::channels::{Channel, Dropped, tool_flag_names};
-use super::row::Row;
+use super::row::{Header, Row};
 use super::{Cli, FilterArg, ModelArg, PresetArg};
 
 /// Profile capacity of the host balloon (its descent profile).
@@ -40,6 +40,9 @@ pub(crate) struct Settings {
     pub(crate) pointwise: bool,
     pub(crate) start_altitude_m: Option<f32>,
     pub(crate) latitude_deg: Option<f32>,
+    /// No `--preset` was given: the preset is inferred from the log's columns
+    /// ([`Settings::infer`]) once its header is read.
+    pub(crate) inferred: bool,
 }
 
 impl Settings {
@@ -54,7 +57,33 @@ impl Settings {
             pointwise: false,
             start_altitude_m: None,
             latitude_deg: None,
+            inferred: false,
         }
+    }
+
+    /// The preset for a log with the columns of `header` when none was given: a model
+    /// only the balloon takes means the balloon; an accelerometer column, the drone;
+    /// humidity or satellite altitude, the balloon; anything else, the walk. The
+    /// settings are unchanged when a preset was given.
+    pub(crate) fn infer(self, header: &Header) -> Self {
+        if !self.inferred {
+            return self;
+        }
+        let balloon_model = !self.pointwise
+            && matches!(
+                self.model,
+                Some(ModelArg::Sounding | ModelArg::Mean | ModelArg::Offset)
+            );
+        let preset = if balloon_model {
+            PresetArg::Balloon
+        } else if header.has(Channel::Accel) {
+            PresetArg::Drone
+        } else if header.has(Channel::Humidity) || header.has(Channel::GnssAltitude) {
+            PresetArg::Balloon
+        } else {
+            PresetArg::Hike
+        };
+        Self { preset, ..self }
     }
 
     /// The model in use.
@@ -120,7 +149,10 @@ fn model_name(m: ModelArg) -> &'static str {
 
 pub(crate) fn settings_for(cli: &Cli) -> Result<Settings, Failure> {
     let s = Settings {
-        preset: cli.preset,
+        // without --preset: the balloon (which takes every model) until the header
+        // is read and the preset inferred from its columns
+        preset: cli.preset.unwrap_or(PresetArg::Balloon),
+        inferred: cli.preset.is_none(),
         model: cli.model,
         temperature_offset_k: cli.temperature_offset_k,
         pointwise: cli.filter == FilterArg::Off,
@@ -155,8 +187,13 @@ pub(crate) fn settings_line(s: &Settings) -> String {
         ModelArg::Mean => "column at the mean of the first and current temperature".into(),
         ModelArg::Offset => format!("standard atmosphere {:+} K", s.temperature_offset_k),
     };
+    let inferred = if s.inferred {
+        " (inferred from the log's columns; choose with --preset)"
+    } else {
+        ""
+    };
     format!(
-        "use: {}; model: {model}; filter: {}; start altitude: {}; latitude: {}",
+        "use: {}{inferred}; model: {model}; filter: {}; start altitude: {}; latitude: {}",
         preset_name(s.preset),
         if s.pointwise { "off (pointwise)" } else { "on" },
         s.start_altitude_m
@@ -165,6 +202,32 @@ pub(crate) fn settings_line(s: &Settings) -> String {
             .map_or("none (standard gravity)".to_string(), |d| format!(
                 "{d} deg"
             )),
+    )
+}
+
+/// The plots' header line: log, use, model, start altitude, latitude.
+pub(crate) fn plot_header(name: &str, s: &Settings) -> String {
+    let model = match s.model() {
+        ModelArg::Standard => "standard atmosphere".to_string(),
+        ModelArg::Sounding => "sounding".to_string(),
+        ModelArg::Mean => "column at the mean temperature".to_string(),
+        ModelArg::Offset => format!("standard atmosphere {:+} K", s.temperature_offset_k),
+    };
+    let filter = if s.pointwise { ", filter off" } else { "" };
+    let start = s
+        .start_altitude_m
+        .map_or("pressure altitude".to_string(), |h| {
+            format!(
+                "start altitude {} m",
+                super::scale::number_label(f64::from(h))
+            )
+        });
+    let latitude = s.latitude_deg.map_or("standard gravity".to_string(), |d| {
+        format!("latitude {d} deg")
+    });
+    format!(
+        "log '{name}', {}; model: {model}{filter}; {start}; {latitude}",
+        preset_name(s.preset)
     )
 }
 
@@ -205,6 +268,10 @@ pub(crate) struct Point {
     pub(crate) flags: u64,
     /// The sample was used (not rejected; an outlier is used, with its estimate held).
     pub(crate) accepted: bool,
+    /// The row's satellite altitude, air temperature and humidity, for the plots.
+    pub(crate) gnss_altitude_m: Option<f32>,
+    pub(crate) temperature_c: Option<f32>,
+    pub(crate) humidity_pct: Option<f32>,
 }
 
 /// Seconds of an instant of the run after its epoch.
@@ -231,6 +298,9 @@ pub(crate) fn point(o: &Output, row: &Row) -> Point {
         tendency_hpa: o.tendency_hpa,
         flags: u64::from(o.flags.0) | dropped_flags(row.dropped),
         accepted: o.accepted(),
+        gnss_altitude_m: row.get(Channel::GnssAltitude),
+        temperature_c: row.get(Channel::Temperature),
+        humidity_pct: row.get(Channel::Humidity),
     }
 }
 

@@ -74,8 +74,27 @@ impl Span {
     }
 }
 
-/// The series drawn: raw height, filtered height, vertical speed, total ascent.
-pub(crate) const SERIES: usize = 4;
+/// The series drawn: raw height, filtered height, the filtered height plus and minus two
+/// 1-sigmas, vertical speed, total ascent, total descent.
+pub(crate) const SERIES: usize = 7;
+pub(crate) const RAW: usize = 0;
+pub(crate) const FILTERED: usize = 1;
+pub(crate) const BAND_HIGH: usize = 2;
+pub(crate) const BAND_LOW: usize = 3;
+pub(crate) const SPEED: usize = 4;
+pub(crate) const ASCENT: usize = 5;
+pub(crate) const DESCENT: usize = 6;
+
+/// The marks drawn: samples gated as outliers (at their own height), known elevations
+/// applied, satellite altitudes (at the satellite altitude). One of each per span at
+/// most: the first.
+pub(crate) const MARKS: usize = 3;
+pub(crate) const OUTLIER: usize = 0;
+pub(crate) const FIX: usize = 1;
+pub(crate) const GNSS: usize = 2;
+
+/// A mark: (time s, height m).
+pub(crate) type Mark = (f64, f64);
 
 /// The reduced plot data.
 #[derive(Debug, Clone)]
@@ -85,6 +104,8 @@ pub(crate) struct Envelope {
     width_s: f64,
     /// Per span, per series.
     spans: Vec<[Option<Span>; SERIES]>,
+    /// Per span, per kind of mark.
+    marks: Vec<[Option<Mark>; MARKS]>,
 }
 
 impl Default for Envelope {
@@ -94,12 +115,37 @@ impl Default for Envelope {
             last_s: 0.0,
             width_s: FIRST_WIDTH_S,
             spans: vec![[None; SERIES]; BUCKETS],
+            marks: vec![[None; MARKS]; BUCKETS],
         }
     }
 }
 
+/// The values of the series of `p`, in the order of [`SERIES`].
+fn values(p: &Point) -> [f32; SERIES] {
+    let two_sigma = 2.0 * p.altitude_sigma_m;
+    [
+        p.raw_altitude_m,
+        p.altitude_m,
+        p.altitude_m + two_sigma,
+        p.altitude_m - two_sigma,
+        p.vertical_speed_mps,
+        p.ascent_m,
+        p.descent_m,
+    ]
+}
+
+/// The marks of `p`, in the order of [`MARKS`].
+fn marks(p: &Point) -> [Option<f32>; MARKS] {
+    let flag = |f: isohypse::uses::Flags| p.flags & u64::from(f.0) != 0;
+    [
+        flag(isohypse::uses::Flags::OUTLIER).then_some(p.raw_altitude_m),
+        flag(isohypse::uses::Flags::FIX_APPLIED).then_some(p.altitude_m),
+        p.gnss_altitude_m,
+    ]
+}
+
 impl Envelope {
-    /// Add an output row; rows whose sample was not used are not drawn, nor a speed
+    /// Add an output row; rows whose sample was not used are not drawn, nor a value
     /// that is not a number.
     pub(crate) fn add(&mut self, p: &Point) {
         if !p.accepted {
@@ -112,17 +158,18 @@ impl Envelope {
             self.widen();
         }
         let i = ((offset / self.width_s) as usize).min(BUCKETS - 1);
-        let values = [
-            p.raw_altitude_m,
-            p.altitude_m,
-            p.vertical_speed_mps,
-            p.ascent_m,
-        ];
         if let Some(slots) = self.spans.get_mut(i) {
-            for (slot, v) in slots.iter_mut().zip(values) {
+            for (slot, v) in slots.iter_mut().zip(values(p)) {
                 if v.is_finite() {
                     let new = Span::new((p.time_s, f64::from(v)));
                     *slot = Some(slot.map_or(new, |s| s.then(new)));
+                }
+            }
+        }
+        if let Some(slots) = self.marks.get_mut(i) {
+            for (slot, v) in slots.iter_mut().zip(marks(p)) {
+                if let Some(v) = v.filter(|v| v.is_finite()) {
+                    slot.get_or_insert((p.time_s, f64::from(v)));
                 }
             }
         }
@@ -145,7 +192,22 @@ impl Envelope {
             if let Some(slot) = self.spans.get_mut(i) {
                 *slot = merged;
             }
+            let marks = if i < BUCKETS / 2 {
+                let pair = |k: usize| self.marks.get(k).copied().unwrap_or([None; MARKS]);
+                let (a, b) = (pair(2 * i), pair(2 * i + 1));
+                std::array::from_fn(|m| a[m].or(b[m]))
+            } else {
+                [None; MARKS]
+            };
+            if let Some(slot) = self.marks.get_mut(i) {
+                *slot = marks;
+            }
         }
+    }
+
+    /// The marks of kind `m` in time order.
+    pub(crate) fn marks(&self, m: usize) -> impl Iterator<Item = Mark> + '_ {
+        self.marks.iter().filter_map(move |slots| *slots.get(m)?)
     }
 
     /// The spans of series `s` in time order.

@@ -93,6 +93,15 @@ pub(crate) struct Header {
 }
 
 impl Header {
+    /// The header has the column of channel `c`.
+    pub(crate) fn has(&self, c: Channel) -> bool {
+        let name = c.column();
+        COLUMNS
+            .iter()
+            .zip(&self.index)
+            .any(|(column, idx)| *column == name && idx.is_some())
+    }
+
     /// Read the header row; fails (exit code 3) on a missing or repeated column.
     pub(crate) fn read(line: &Line<'_>) -> Result<Self, Failure> {
         let n = line.number;

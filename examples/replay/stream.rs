@@ -31,11 +31,13 @@ pub(crate) fn stream(
     progress: &mut Progress,
     sink: &mut Sink<'_>,
 ) -> Result<Stats, Failure> {
-    let use_settings = UseSettings::new(&settings);
-    let mut engine = Engine::new(settings, &use_settings)?;
     let mut lines = Lines::new(input);
     let header = read_header(&mut lines)?;
+    let settings = settings.infer(&header);
+    let use_settings = UseSettings::new(&settings);
+    let mut engine = Engine::new(settings, &use_settings)?;
     let mut stats = Stats::default();
+    stats.settings = Some(settings);
     let mut delay = Delay::new(engine.pointwise());
     let mut fields = Fields::default();
     let mut dropped = Vec::new();

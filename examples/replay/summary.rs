@@ -9,7 +9,9 @@ use super::channels::Channel;
 use super::engine::{Point, dropout_step_s, flag_names, settings_line};
 use super::messages::Messages;
 use super::row::Row;
+use super::scale::clock;
 use super::steps::Steps;
+use super::story::{self, Story};
 
 /// A phase change: (phase, time s, height m).
 pub(crate) type Event = (String, f64, f32);
@@ -17,6 +19,8 @@ pub(crate) type Event = (String, f64, f32);
 /// Totals of a run.
 #[derive(Debug, Default, Clone)]
 pub(crate) struct Stats {
+    /// The settings of the run (the preset inferred where none was given).
+    pub(crate) settings: Option<Settings>,
     /// Data rows read (not comments, blank lines or the header).
     pub(crate) data_rows: usize,
     /// Output rows (rows with a pressure).
@@ -45,6 +49,7 @@ pub(crate) struct Stats {
     /// The last output row.
     last: Option<Point>,
     steps: Steps,
+    pub(crate) story: Story,
 }
 
 impl Stats {
@@ -83,6 +88,7 @@ impl Stats {
         }
         self.last = Some(*p);
         self.steps.add(p.time_s);
+        self.story.add(p);
     }
 
     /// Count a kept row's channels that the run does not use, and its dropped ones.
@@ -158,9 +164,14 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, stats: &Stats) -> St
             stats.sensor_temperature_rows
         );
     }
-    if let Some((t, h)) = stats.top {
-        let _ = writeln!(s, "top: {h:.1} m at t = {t:.1} s");
-    }
+    let totals_of = stats.last.map(|l| (l.ascent_m, l.descent_m));
+    s.push_str(&story::lines(
+        settings.preset,
+        &stats.story,
+        &stats.events,
+        stats.top,
+        totals_of,
+    ));
     if let Some(last) = &stats.last {
         totals(&mut s, last);
     }
@@ -182,7 +193,7 @@ pub(crate) fn summary_text(name: &str, settings: &Settings, stats: &Stats) -> St
 fn totals(s: &mut String, last: &Point) {
     let _ = writeln!(
         s,
-        "totals: ascent {:.1} m, descent {:.1} m; final height {}; final phase {}",
+        "at the end: ascent {:.1} m, descent {:.1} m in all; height {}; state {}",
         last.ascent_m,
         last.descent_m,
         if last.altitude_m.is_finite() {
@@ -199,15 +210,16 @@ fn totals(s: &mut String, last: &Point) {
 
 fn phases(s: &mut String, stats: &Stats) {
     if stats.events.is_empty() {
-        let _ = writeln!(s, "phases: no phase change");
+        let _ = writeln!(s, "states: no change");
         return;
     }
-    let _ = writeln!(s, "phases:");
+    let _ = writeln!(s, "states (times after the first row, h:mm:ss):");
+    let t0 = stats.story.first_s.unwrap_or(0.0);
     for (phase, t, h) in &stats.events {
-        let _ = writeln!(s, "  {phase:<8} from t = {t:.1} s at {h:.1} m");
+        let _ = writeln!(s, "  {:<11} from {} at {h:.1} m", phase, clock(*t, t0));
     }
     if stats.events_left_off > 0 {
-        let _ = writeln!(s, "  ... {} more phase changes", stats.events_left_off);
+        let _ = writeln!(s, "  ... {} more state changes", stats.events_left_off);
     }
 }
 
