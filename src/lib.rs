@@ -145,6 +145,7 @@ pub mod humidity;
 pub mod hypsometric;
 mod math;
 pub mod model;
+pub mod part;
 #[cfg(feature = "embedded-hal")]
 pub mod parts;
 #[cfg(feature = "embedded-hal")]

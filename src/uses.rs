@@ -46,6 +46,30 @@ pub use walk::{Walk, WalkSettings};
 
 use crate::time::Instant;
 
+/// The speed uncertainty with which a stale height's 1-sigma grows while the barometer
+/// is saturated ([`Flags::SATURATED`]), m/s, per use: the 1-sigma is
+/// `sqrt(sigma^2 + ((|v| + s) dt)^2)` with the last vertical speed `v`, the time `dt`
+/// since the last height taken and `s` from here. The figures are typical changes of
+/// vertical speed (common practice, not from a source): a balloon's ascent rate varies
+/// by 1-2 m/s about its 5 m/s, a drone's climb by a few m/s, a walker's vertical speed
+/// stays within about 0.3 m/s (1 000 m an hour).
+pub const STALE_SPEED_SIGMA_MPS: StaleSpeeds = StaleSpeeds {
+    balloon: 2.0,
+    drone: 3.0,
+    walk: 0.3,
+};
+
+/// The speed uncertainty of a stale height, m/s, per use (see [`STALE_SPEED_SIGMA_MPS`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StaleSpeeds {
+    /// For [`Balloon`].
+    pub balloon: f32,
+    /// For [`Drone`].
+    pub drone: f32,
+    /// For [`Walk`].
+    pub walk: f32,
+}
+
 /// What a use says after each sample, with its own state words `S`.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

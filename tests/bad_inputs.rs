@@ -648,13 +648,13 @@ fn cases() -> Vec<Case> {
         Case {
             name: "balloon: pressure 1250 hPa (> 1100 hPa)",
             layer: "uses",
-            expected: "rejected_pressure, unchanged",
+            expected: "rejected_pressure and saturated (beyond the range), unchanged",
             run: || {
                 let mut p = balloon::<64>(300.0, 20);
                 use_rejects(
                     &mut p,
                     Sample::pressure(at(30.0), 125_000.0),
-                    Flags::REJECTED_PRESSURE,
+                    Flags(Flags::REJECTED_PRESSURE.0 | Flags::SATURATED.0),
                 )
             },
         },

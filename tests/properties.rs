@@ -697,7 +697,9 @@ where
         }
         // a repeated time is only wrong after a sample taken
         let repeated = last.is_some_and(|last| sample.time == at(last));
-        let invalid = matches!(s.poison, 1 | 5..=7) || repeated;
+        // a pressure at an end of the range is saturated: refused, flagged so
+        let at_end = sample.pressure_pa <= lo || sample.pressure_pa >= hi;
+        let invalid = matches!(s.poison, 1 | 5..=7) || repeated || at_end;
         // a step back, or forward beyond the settings' longest gap, starts a new time base
         let clock_fault = last.is_some_and(|last| {
             !repeated

@@ -55,30 +55,7 @@ pub mod asynch;
 pub mod bme280;
 pub mod lps22;
 
-/// What a part can do at one setting: the numbers a use type needs to set its
-/// pressure range and noise, and a loop its pacing.
-///
-/// Each driver gives one for any of its settings with a `const fn describe`; the
-/// values and their datasheet sections are in that function's docs.
-#[derive(Debug, Clone, Copy, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct PartDescription {
-    /// The part's name, e.g. `"BME280"`.
-    pub name: &'static str,
-    /// Lowest pressure of the specified operating range, Pa.
-    pub pressure_min_pa: f32,
-    /// Highest pressure of the specified operating range, Pa.
-    pub pressure_max_pa: f32,
-    /// Pressure resolution at this setting (one step of the output), Pa.
-    pub resolution_pa: f32,
-    /// Typical RMS pressure noise at this setting, Pa; `None` where the datasheet gives
-    /// no figure for this setting.
-    pub noise_rms_pa: Option<f32>,
-    /// Longest time from `start` until `fetch` can return the reading, microseconds.
-    pub conversion_time_us: u32,
-    /// Whether the part measures relative humidity.
-    pub has_humidity: bool,
-}
+pub use crate::part::PartDescription;
 
 /// One reading of a part, compensated.
 #[derive(Debug, Clone, Copy, PartialEq)]

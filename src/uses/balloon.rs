@@ -16,6 +16,7 @@ use crate::flight::{Phase, PhaseSettings};
 use crate::geopotential::Gravity;
 use crate::humidity::MixingRatio;
 use crate::model::{AirSample, ColumnModel, Reference, TemperatureModel};
+use crate::part::PartDescription;
 use crate::sounding::{PendingStep, Sounding};
 use crate::time::Instant;
 use crate::units::{Height, Pressure, RelativeHumidity, Temperature};
@@ -57,9 +58,11 @@ pub struct BalloonSettings {
     pub latitude_deg: Option<f32>,
     /// Samples at rest averaged into the launch reference (>= 1).
     pub ground_samples: u32,
-    /// Lowest accepted pressure, Pa.
+    /// Lowest pressure the barometer reads, Pa: a reading at or below it is
+    /// saturated ([`Flags::SATURATED`]); [`Self::with_part`] sets it from the part.
     pub min_pressure_pa: f32,
-    /// Highest accepted pressure, Pa.
+    /// Highest pressure the barometer reads, Pa: a reading at or above it is
+    /// saturated.
     pub max_pressure_pa: f32,
     /// 1-sigma pressure noise of the barometer, Pa.
     pub pressure_noise_pa: f32,
@@ -111,6 +114,36 @@ impl BalloonSettings {
         totals_band_m: 30.0,
         gnss: GnssSettings::DEFAULT,
     };
+
+    /// These settings with the pressure range and noise of the barometer `part`
+    /// ([`PartDescription::noise_pa`]); every other field as it was.
+    ///
+    /// ```
+    /// use isohypse::part::PartDescription;
+    /// use isohypse::uses::BalloonSettings;
+    ///
+    /// // a part read to 10 hPa, 0.02 hPa steps, no noise figure (values made up)
+    /// const PART: PartDescription = PartDescription {
+    ///     name: "example",
+    ///     pressure_min_pa: 1_000.0,
+    ///     pressure_max_pa: 120_000.0,
+    ///     resolution_pa: 2.0,
+    ///     noise_rms_pa: None,
+    ///     conversion_time_us: 10_000,
+    ///     has_humidity: false,
+    /// };
+    /// static SETTINGS: BalloonSettings = BalloonSettings::DEFAULT.with_part(&PART);
+    /// assert_eq!(SETTINGS.min_pressure_pa, 1_000.0);
+    /// assert!((SETTINGS.pressure_noise_pa - 2.0 / 12f32.sqrt()).abs() < 1e-6);
+    /// ```
+    pub const fn with_part(self, part: &PartDescription) -> Self {
+        Self {
+            min_pressure_pa: part.pressure_min_pa,
+            max_pressure_pa: part.pressure_max_pa,
+            pressure_noise_pa: part.noise_pa(),
+            ..self
+        }
+    }
 
     /// Checks every field against its documented range. Errors:
     /// [`Error::InvalidSetting`] and the nested settings' errors.
@@ -316,7 +349,7 @@ impl<'a, const N: usize> Balloon<'a, N> {
             g,
             &mut flags,
         );
-        let above_range = sample.pressure_pa < self.settings.min_pressure_pa;
+        let above_range = sample.pressure_pa <= self.settings.min_pressure_pa;
         let last_m = self.last.altitude_m;
         let floor_m = last_m - g.first_fix_m - g.first_fix_share * last_m.abs();
         match fix {
@@ -334,7 +367,12 @@ impl<'a, const N: usize> Balloon<'a, N> {
 
     fn carry(&self, time: Instant, flags: Flags) -> Output<BalloonState> {
         let totals = (self.track.totals.ascent_m(), self.track.totals.descent_m());
-        self.last.output(time, self.state(), totals, flags)
+        let mut out = self.last.output(time, self.state(), totals, flags);
+        if flags.contains(Flags::SATURATED) {
+            let speed = super::STALE_SPEED_SIGMA_MPS.balloon;
+            out.altitude_sigma_m = self.last.stale_sigma_m(self.time.last(), time, speed);
+        }
+        out
     }
 
     /// Process one barometer sample. Never fails: problems are reported in

@@ -114,7 +114,16 @@ impl Flags {
     /// Nothing else changed.
     pub const ON_GNSS: Flags = Flags(1 << 22);
 
-    const NAMES: [(Flags, &'static str); 23] = [
+    /// The pressure was at or beyond the barometer's range (the settings'
+    /// `min_pressure_pa` / `max_pressure_pa`, set from a part with `with_part`): the
+    /// reading only says that the true pressure lies beyond it. The sample was refused
+    /// ([`Flags::REJECTED_PRESSURE`] too); the height is the last one, stale, with a
+    /// 1-sigma that grows with the time since it was measured (see
+    /// [`super::STALE_SPEED_SIGMA_MPS`]), or the sample's satellite altitude where the
+    /// balloon has one ([`Flags::ON_GNSS`]).
+    pub const SATURATED: Flags = Flags(1 << 23);
+
+    const NAMES: [(Flags, &'static str); 24] = [
         (Flags::REJECTED_TIME, "rejected_time"),
         (Flags::REJECTED_PRESSURE, "rejected_pressure"),
         (Flags::REJECTED_MODEL, "rejected_model"),
@@ -138,6 +147,7 @@ impl Flags {
         (Flags::GNSS_REJECTED, "gnss_rejected"),
         (Flags::GNSS_IGNORED, "gnss_ignored"),
         (Flags::ON_GNSS, "on_gnss"),
+        (Flags::SATURATED, "saturated"),
     ];
 
     /// True if every bit of `other` is set.

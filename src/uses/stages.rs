@@ -153,12 +153,14 @@ pub(crate) struct Inputs {
 const MAX_ACCEL_MPS2: f32 = 20.0 * STANDARD_GRAVITY;
 
 impl Inputs {
-    /// Checks `sample` against the accepted pressure range (Pa, inclusive). Errors:
-    /// [`Flags::REJECTED_PRESSURE`].
+    /// Checks `sample` against the barometer's range (Pa; a reading at either end is
+    /// saturated). Errors: [`Flags::REJECTED_PRESSURE`], with [`Flags::SATURATED`] for
+    /// a valid pressure at or beyond the range.
     pub fn check(sample: &Sample, min_pa: f32, max_pa: f32) -> Result<Inputs, Flags> {
         let pressure = match Pressure::from_pa(sample.pressure_pa) {
-            Ok(p) if p.pa() >= min_pa && p.pa() <= max_pa => p,
-            _ => return Err(Flags::REJECTED_PRESSURE),
+            Ok(p) if p.pa() > min_pa && p.pa() < max_pa => p,
+            Ok(_) => return Err(Flags(Flags::REJECTED_PRESSURE.0 | Flags::SATURATED.0)),
+            Err(_) => return Err(Flags::REJECTED_PRESSURE),
         };
         let mut flags = Flags::default();
         let temperature = optional(
@@ -530,6 +532,20 @@ impl Carried {
     /// back).
     pub fn set_flags(&mut self, flags: Flags) {
         self.flags = flags;
+    }
+
+    /// The 1-sigma of the carried height at `now` when it was measured at `since`
+    /// (`None`: no time to go by): the carried 1-sigma and the distance the height can
+    /// have gone since, at the carried speed plus `speed_sigma_mps`, added in
+    /// quadrature: `sqrt(sigma^2 + ((|v| + speed_sigma) dt)^2)`, m.
+    pub fn stale_sigma_m(&self, since: Option<Instant>, now: Instant, speed_sigma_mps: f32) -> f32 {
+        let dt = match since.map(|s| step_between(s, now)) {
+            Some(Step::Later(dt)) => dt,
+            _ => 0.0,
+        };
+        let drift = (self.vertical_speed_mps.abs() + speed_sigma_mps) * dt;
+        let sigma = self.altitude_sigma_m;
+        crate::math::sigma_from_variance(sigma * sigma + drift * drift)
     }
 
     /// The carried values as an output at `time` with `flags`.

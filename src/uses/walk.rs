@@ -10,6 +10,7 @@ use super::{Flags, Output, Sample, Use, WalkState};
 use crate::Error;
 use crate::datum::AltimeterSetting;
 use crate::flight::{PhaseCore, PhaseSettings};
+use crate::part::PartDescription;
 use crate::time::Instant;
 use crate::track::HikeConfig;
 use crate::track::hike::HikeState;
@@ -29,9 +30,11 @@ pub struct WalkSettings {
     /// Known elevation of the start, m (a trailhead sign), taken as a fix on the first
     /// sample; `None`: the first sample's height as the altimeter setting gives it.
     pub start_altitude_m: Option<f32>,
-    /// Lowest accepted pressure, Pa.
+    /// Lowest pressure the barometer reads, Pa: a reading at or below it is
+    /// saturated ([`Flags::SATURATED`]); [`Self::with_part`] sets it from the part.
     pub min_pressure_pa: f32,
-    /// Highest accepted pressure, Pa.
+    /// Highest pressure the barometer reads, Pa: a reading at or above it is
+    /// saturated.
     pub max_pressure_pa: f32,
     /// 1-sigma pressure noise of the barometer, Pa.
     pub pressure_noise_pa: f32,
@@ -67,6 +70,36 @@ impl WalkSettings {
         // the raw difference of 2 Pa noise at 1 Hz is 0.2 m/s
         speed_time_constant_s: 30.0,
     };
+
+    /// These settings with the pressure range and noise of the barometer `part`
+    /// ([`PartDescription::noise_pa`]); every other field as it was.
+    ///
+    /// ```
+    /// use isohypse::part::PartDescription;
+    /// use isohypse::uses::WalkSettings;
+    ///
+    /// // a part read to 10 hPa, 0.02 hPa steps, no noise figure (values made up)
+    /// const PART: PartDescription = PartDescription {
+    ///     name: "example",
+    ///     pressure_min_pa: 1_000.0,
+    ///     pressure_max_pa: 120_000.0,
+    ///     resolution_pa: 2.0,
+    ///     noise_rms_pa: None,
+    ///     conversion_time_us: 10_000,
+    ///     has_humidity: false,
+    /// };
+    /// static SETTINGS: WalkSettings = WalkSettings::DEFAULT.with_part(&PART);
+    /// assert_eq!(SETTINGS.min_pressure_pa, 1_000.0);
+    /// assert!((SETTINGS.pressure_noise_pa - 2.0 / 12f32.sqrt()).abs() < 1e-6);
+    /// ```
+    pub const fn with_part(self, part: &PartDescription) -> Self {
+        Self {
+            min_pressure_pa: part.pressure_min_pa,
+            max_pressure_pa: part.pressure_max_pa,
+            pressure_noise_pa: part.noise_pa(),
+            ..self
+        }
+    }
 
     /// Checks every field against its documented range. Errors:
     /// [`Error::InvalidSetting`] and the nested settings' errors.
@@ -192,6 +225,10 @@ impl<'a> Walk<'a> {
         );
         let mut out = self.last.output(time, self.state(), totals, flags);
         out.tendency_hpa = self.hike.tendency_hpa();
+        if flags.contains(Flags::SATURATED) {
+            let speed = super::STALE_SPEED_SIGMA_MPS.walk;
+            out.altitude_sigma_m = self.last.stale_sigma_m(self.time.last(), time, speed);
+        }
         out
     }
 
