@@ -25,7 +25,7 @@ use crate::Error;
 
 /// Version of the snapshot format; a snapshot of another version is refused with
 /// [`Error::SnapshotVersion`].
-pub const FORMAT_VERSION: u8 = 2;
+pub const FORMAT_VERSION: u8 = 3;
 
 /// Bytes of the header (magic, version, kind, capacity) and of the checksum.
 pub(crate) const FRAME_LEN: usize = 6 + 4;

@@ -129,23 +129,6 @@ fn check(name: &str, event: Event, (in2, in3, n): (f64, f64, usize), failures: &
     }
 }
 
-/// A scenario that misses the goal today: printed, and held to what it reaches so that
-/// it cannot get worse unnoticed. The README's table of figures reports the miss.
-fn check_short_of_goal(
-    name: &str,
-    event: Event,
-    (in2, in3, n): (f64, f64, usize),
-    (floor2, floor3): (f64, f64),
-) {
-    println!(
-        "{name:8} {:34} {n:6} samples: within 2 sigma {:5.1} %, within 3 sigma {:5.1} % (goal 90 / 99 %: not met)",
-        format!("{event:?}"),
-        in2 * 100.0,
-        in3 * 100.0
-    );
-    assert!(in2 >= floor2 && in3 >= floor3, "{in2} {in3}");
-}
-
 #[test]
 fn the_one_sigma_covers_the_real_error() {
     let mut failures = Vec::new();
@@ -182,11 +165,12 @@ fn the_one_sigma_covers_the_real_error() {
         let d = Drone::new(&settings).unwrap();
         check("drone", event, coverage(d, &drone, event), &mut failures);
     }
-    // A downward shock while hovering: after the filter follows the barometer again
-    // its speed is off for about half a second and the 1-sigma does not cover it.
+    // A downward shock while hovering: the prediction runs away from the barometer
+    // until the filter follows it; the accelerometer is then left out until it reads
+    // quiet again.
     let shock = Event::Shock(-100.0, 0.5);
     let d = Drone::new(&settings).unwrap();
-    check_short_of_goal("drone", shock, coverage(d, &drone, shock), (0.86, 0.97));
+    check("drone", shock, coverage(d, &drone, shock), &mut failures);
     let walk = sim::hike();
     let settings = WalkSettings {
         start_altitude_m: Some(walk.start_altitude_m as f32),

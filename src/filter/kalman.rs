@@ -21,6 +21,20 @@ const REJECTED_ABOVE: u8 = 64;
 /// The cycle in [`Reuse`] applied an accelerometer sample taken with the barometer
 /// sample (clear: the constant-velocity model).
 const REUSE_WITH_ACCEL: u8 = 64;
+/// `run` flag: the current run of rejections has samples on both sides of the
+/// prediction.
+const RUN_MIXED: u8 = 1;
+/// `run` flag: the filter followed a run of rejections on one side while an
+/// accelerometer sample drove its prediction, so the accelerometer is not trusted until
+/// it reads within [`ACCEL_QUIET_MPS2`] of its bias again.
+const ACCEL_SUSPECT: u8 = 2;
+
+/// How close to its bias (m/s^2) an accelerometer reading must be for the filter to
+/// trust the accelerometer again after it drove the prediction away from the
+/// barometer (a shock on the sensor). About 0.2 g: a vehicle at rest, hovering or
+/// moving steadily reads within it (common practice for multirotors and walkers; not
+/// from a source), an impact or vibration burst reads far beyond.
+pub const ACCEL_QUIET_MPS2: f32 = 2.0;
 
 /// Largest relative change from one full cycle to the next of each entry of the
 /// predicted covariance column `P[., h]` (which sets the gain), under which the filter
@@ -477,9 +491,10 @@ pub struct VerticalKalman<C = VerticalKalmanConfig> {
     /// `time` is a flag, not `accel_age_s == 0`: a step below the smallest normal
     /// `f32`, 1.2e-38 s, is later but adds 0 to the age.)
     bits: Bits,
-    /// The current run of rejections has samples on both sides of the prediction (a
-    /// byte of its own: `bits` is full; it fills what would be padding).
-    run_mixed: bool,
+    /// The current run of rejections has samples on both sides of the prediction
+    /// ([`RUN_MIXED`]); the accelerometer is not trusted ([`ACCEL_SUSPECT`]). A byte of
+    /// its own: `bits` is full; it fills what would be padding.
+    run: Bits,
     consecutive_rejections: u16,
     /// The first rejected barometer height of the current run, m, and `accepted_age_s`
     /// at it (valid while `consecutive_rejections` > 0): the age grows with every step
@@ -520,7 +535,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             accel_age_s: f32::INFINITY,
             accepted_age_s: 0.0,
             bits: Bits::NONE,
-            run_mixed: false,
+            run: Bits::NONE,
             consecutive_rejections: 0,
             run_start_m: 0.0,
             run_start_age_s: 0.0,
@@ -574,12 +589,15 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             self.hold_accel_at_core(accel_up_mps2);
             return Ok(());
         }
-        let (mut core, dropout) = self.propagate(dt, Some(accel_up_mps2));
+        // an accelerometer not trusted since a shock is left out until it is quiet
+        let trusted = self.trusted(accel_up_mps2);
+        let (mut core, dropout) = self.propagate(dt, trusted.then_some(accel_up_mps2));
         core.v = limit_speed(core.v);
         if !core.is_finite() {
             return Err(Error::NotFinite);
         }
         self.core = core;
+        self.run.set(ACCEL_SUSPECT, !trusted);
         if dropout {
             self.bits.set(REACQUIRE_PENDING, true);
         }
@@ -589,7 +607,11 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             self.bits.set(SETTLED, false);
         }
         self.time = t;
-        self.hold_accel_at_core(accel_up_mps2);
+        if trusted {
+            self.hold_accel_at_core(accel_up_mps2);
+        } else {
+            self.accel_age_s += dt;
+        }
         self.accepted_age_s += dt;
         if matches!(step, Step::Later(_)) {
             self.bits.set(BARO_AT_CORE, false);
@@ -603,6 +625,13 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         self.accel_mps2 = accel_up_mps2;
         self.accel_age_s = 0.0;
         self.bits.set(ACCEL_AT_CORE, true);
+    }
+
+    /// Whether the accelerometer reading `a` (m/s^2) is used: always, unless the
+    /// filter distrusts the accelerometer since a shock ([`ACCEL_SUSPECT`]) and `a`
+    /// lies further than [`ACCEL_QUIET_MPS2`] from the bias estimate.
+    fn trusted(&self, a: f32) -> bool {
+        !self.run.get(ACCEL_SUSPECT) || (a - self.core.b).abs() <= ACCEL_QUIET_MPS2
     }
 
     /// Refusals of an accelerometer sample's value (its time is checked with the step).
@@ -932,7 +961,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             && near(r, reuse.r, tol)
             && dt <= cfg.max_step_s
             && accepted_age <= cfg.baro_timeout_s
-            && !self.bits.get(REACQUIRE_PENDING))
+            && !self.bits.get(REACQUIRE_PENDING)
+            && !self.run.get(ACCEL_SUSPECT))
         {
             return None;
         }
@@ -1050,6 +1080,9 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
                 )
             }
         };
+        // an accelerometer not trusted since a shock is left out until it is quiet
+        let accel = accel.filter(|a| self.trusted(*a));
+        let mut suspect = self.run.get(ACCEL_SUSPECT) && accel.is_none();
         // A step of 0 (an accelerometer sample at this time was just applied) leaves
         // mean and covariance as they are; an accelerometer sample at `t` is applied
         // over any later step, as `predict_step` applies it.
@@ -1085,8 +1118,8 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
             rejected = rejected.saturating_add(1);
             consecutive = consecutive.saturating_add(1);
             outcome = KalmanOutcome::Rejected { nis };
-            let same_side =
-                consecutive < 2 || ((y > 0.0) == self.bits.get(REJECTED_ABOVE) && !self.run_mixed);
+            let same_side = consecutive < 2
+                || ((y > 0.0) == self.bits.get(REJECTED_ABOVE) && !self.run.get(RUN_MIXED));
             let span = accepted_age - self.run_start_age_s;
             same_side_run = same_side && consecutive >= 2;
             let motion_change = same_side_run && span >= self.config().follow_after_s;
@@ -1101,6 +1134,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         if reacquire && same_side_run && span > 0.0 {
             core = self.two_point_start(&core, z, r, span);
             outcome = KalmanOutcome::Reacquired;
+            suspect |= accel.is_some();
         } else if reacquire {
             core.h = z;
             core.p.hh = r;
@@ -1128,6 +1162,7 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
         }
         self.accel_age_s = accel_age;
         self.rejected = rejected;
+        self.run.set(ACCEL_SUSPECT, suspect);
         match outcome {
             KalmanOutcome::Rejected { .. } => {
                 self.consecutive_rejections = consecutive;
@@ -1137,18 +1172,18 @@ impl<C: Borrow<VerticalKalmanConfig> + Copy> VerticalKalman<C> {
                     self.run_start_age_s = accepted_age;
                 }
                 self.bits.set(REJECTED_ABOVE, y > 0.0);
-                self.run_mixed = mixed;
+                self.run.set(RUN_MIXED, mixed);
             }
             KalmanOutcome::Reacquired => {
                 self.consecutive_rejections = 0;
-                self.run_mixed = false;
+                self.run.set(RUN_MIXED, false);
                 self.bits.set(REACQUIRE_PENDING, false);
                 self.reacquisitions = self.reacquisitions.saturating_add(1);
                 self.accepted_age_s = 0.0;
             }
             _ => {
                 self.consecutive_rejections = 0;
-                self.run_mixed = false;
+                self.run.set(RUN_MIXED, false);
                 self.accepted_age_s = 0.0;
                 if self.reuse_on() {
                     (
@@ -1393,7 +1428,7 @@ crate::snapshot::snap_fields!(impl[C] VerticalKalman<C> {
     accel_age_s,
     accepted_age_s,
     bits,
-    run_mixed,
+    run,
     consecutive_rejections,
     run_start_m,
     run_start_age_s,
@@ -1506,6 +1541,47 @@ mod tests {
         let e = kf.estimate().unwrap();
         assert!((e.height.meters() - 100.0).abs() < 1e-3);
         assert!(e.vertical_speed.mps().abs() < 1e-3);
+    }
+
+    #[test]
+    fn an_accelerometer_that_drove_the_prediction_away_is_left_out_until_quiet() {
+        // At rest at 100 m, the accelerometer reads -100 m/s^2 for 0.3 s (a shock on
+        // the sensor): the prediction falls away from the barometer, the filter follows
+        // the barometer, and the shock's remaining samples are not integrated; the
+        // first quiet sample is used again.
+        let mut kf = VerticalKalman::new(VerticalKalmanConfig::default()).unwrap();
+        kf.correct(at(0.0), h(100.0)).unwrap();
+        let mut t = 0.0;
+        let mut worst_after = 0.0f32;
+        let mut followed_at = None;
+        for k in 1..=600 {
+            t = k as f64 * 0.005;
+            let shock = (2.0..2.3).contains(&t);
+            kf.predict(at(t), if shock { -100.0 } else { 0.0 }).unwrap();
+            if k % 4 == 0 {
+                let o = kf.correct(at(t), h(100.0)).unwrap();
+                if o == KalmanOutcome::Reacquired && followed_at.is_none() {
+                    followed_at = Some(t);
+                }
+            }
+            if followed_at.is_some() {
+                let v = kf.estimate().unwrap().vertical_speed.mps();
+                worst_after = worst_after.max(v.abs());
+            }
+        }
+        let followed_at = followed_at.expect("followed the barometer");
+        assert!(followed_at < 2.3, "followed at {followed_at}");
+        // without the rule the rest of the shock adds up to 10 m/s again
+        assert!(
+            worst_after < 2.0,
+            "speed after following: {worst_after} m/s"
+        );
+        assert!(
+            !kf.run.get(ACCEL_SUSPECT),
+            "trusted again once quiet (t {t})"
+        );
+        let e = kf.estimate().unwrap();
+        assert!((e.height.meters() - 100.0).abs() < 0.1 && e.vertical_speed.mps().abs() < 0.1);
     }
 
     #[test]
