@@ -34,7 +34,7 @@
 mod alpha_beta;
 mod ground;
 pub(crate) mod kalman;
-mod median;
+pub(crate) mod median;
 mod moving_average;
 mod one_pole;
 
@@ -46,6 +46,7 @@ pub use kalman::{
 pub use median::Median;
 pub use moving_average::MovingAverage;
 pub use one_pole::OnePole;
+pub(crate) use one_pole::lag_gain;
 
 use crate::Error;
 use crate::time::{Duration, Instant};

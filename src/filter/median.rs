@@ -10,15 +10,18 @@ use crate::Error;
 /// filter's edge-preserving property, Tukey 1977, *Exploratory Data Analysis*, from
 /// memory). With an even `N` the output is the mean of the two middle values.
 ///
-/// * Time per sample: O(N): the oldest value is removed from, and the new one inserted
-///   into, a sorted copy of the window by shifting at most `N` values.
-/// * State: two `[f32; N]` arrays and two `usize` indices: `8 N + 2 * size_of::<usize>()`
-///   bytes (`8 N + 16` on a 64-bit host, `8 N + 8` on a 32-bit microcontroller).
+/// * Time per sample: one insertion sort of a copy of the window ([`median_of`]):
+///   at most `N (N - 1) / 2` compare-exchanges, ten for `N = 5`. Meant for the short
+///   windows of spike removal.
+/// * State: one `[f32; N]` ring and two `usize` indices: `4 N + 2 * size_of::<usize>()`
+///   bytes rounded up to a whole number of `usize` (`4 N + 8` on a 32-bit
+///   microcontroller).
 ///
-/// Hand-written rather than built on `heapless::HistoryBuf`: the filter needs the
-/// ring *and* a sorted companion array updated together, and plain arrays keep the
+/// Hand-written rather than built on `heapless::HistoryBuf`: plain arrays keep the
 /// state `Copy` and comparable with `PartialEq` (two filters are equal when they hold
-/// the same samples in the same order, whatever their storage holds beyond them).
+/// the same samples in the same order, whatever their storage holds beyond them), and
+/// the median itself is the crate's one [`median_of`], which the walk's spike gate
+/// uses too.
 ///
 /// ```
 /// use isohypse::filter::Median;
@@ -34,8 +37,6 @@ use crate::Error;
 pub struct Median<const N: usize> {
     /// Samples in arrival order (ring buffer).
     window: [f32; N],
-    /// The first `len` entries: the same samples in ascending order.
-    sorted: [f32; N],
     /// Next write position in `window`.
     head: usize,
     /// Number of samples held (at most `N`).
@@ -48,13 +49,37 @@ impl<const N: usize> Default for Median<N> {
     }
 }
 
+/// Median of the first `len` values of `values` (a copy, sorted in place by
+/// insertion), the mean of the middle two for an even count; `None` for `len == 0`
+/// (or `len > N`). The crate's one median.
+pub(crate) fn median_of<const N: usize>(mut values: [f32; N], len: usize) -> Option<f32> {
+    let held = values.get_mut(..len)?;
+    for i in 1..held.len() {
+        let mut j = i;
+        while let Some([a, b]) = held.get_mut(j.wrapping_sub(1)..=j) {
+            if *b >= *a {
+                break;
+            }
+            core::mem::swap(a, b);
+            j -= 1;
+        }
+    }
+    let n = held.len();
+    let upper = *held.get(n / 2)?;
+    if n % 2 == 1 {
+        Some(upper)
+    } else {
+        let lower = *held.get(n / 2 - 1)?;
+        Some(lower + 0.5 * (upper - lower))
+    }
+}
+
 impl<const N: usize> Median<N> {
     /// An empty filter. `N` must be at least 1 (checked at compile time).
     pub const fn new() -> Self {
         const { assert!(N > 0, "Median<N> needs N >= 1") };
         Self {
             window: [0.0; N],
-            sorted: [0.0; N],
             head: 0,
             len: 0,
         }
@@ -68,70 +93,20 @@ impl<const N: usize> Median<N> {
         if !x.is_finite() {
             return Err(Error::NotFinite);
         }
-        let mut len = self.len;
-        if len == N {
-            // Remove the oldest sample (the one about to be overwritten) from `sorted`:
-            // find it and shift the values after it down by one.
-            let old = self.window.get(self.head).copied().unwrap_or(f32::NAN);
-            let mut i = self
-                .sorted
-                .iter()
-                .take(len)
-                .position(|&v| v == old)
-                .unwrap_or(len - 1);
-            while i + 1 < len {
-                let Some(&next) = self.sorted.get(i + 1) else {
-                    break;
-                };
-                if let Some(slot) = self.sorted.get_mut(i) {
-                    *slot = next;
-                }
-                i += 1;
-            }
-            len -= 1;
-        }
-        // Insert the new sample in order, after equal values: shift the larger values
-        // up by one from the end of the sorted part. (Element by element with checked
-        // access rather than `rotate_right`: at opt-level "s" on Cortex-M the compiler
-        // kept a panic path in the rotation, and with it 1.8 KB of panic formatting in
-        // the firmware, seen in the flash probe.)
-        let mut i = len;
-        while i > 0 {
-            let Some(&prev) = self.sorted.get(i - 1) else {
-                break;
-            };
-            if prev <= x {
-                break;
-            }
-            if let Some(slot) = self.sorted.get_mut(i) {
-                *slot = prev;
-            }
-            i -= 1;
-        }
-        if let Some(slot) = self.sorted.get_mut(i) {
-            *slot = x;
-        }
-        self.len = len + 1;
         if let Some(slot) = self.window.get_mut(self.head) {
             *slot = x;
         }
         self.head = if self.head + 1 >= N { 0 } else { self.head + 1 };
+        if self.len < N {
+            self.len += 1;
+        }
         Ok(self.value().unwrap_or(x))
     }
 
-    /// Median of the samples held, or `None` when empty.
+    /// Median of the samples held, or `None` when empty. (The ring's first `len`
+    /// slots hold exactly the samples held: it fills from slot 0 and then overwrites.)
     pub fn value(&self) -> Option<f32> {
-        let n = self.len;
-        if n == 0 {
-            return None;
-        }
-        let upper = *self.sorted.get(n / 2)?;
-        if n % 2 == 1 {
-            Some(upper)
-        } else {
-            let lower = *self.sorted.get(n / 2 - 1)?;
-            Some(lower + 0.5 * (upper - lower))
-        }
+        median_of(self.window, self.len)
     }
 
     /// Number of samples held (at most `N`).
@@ -149,9 +124,8 @@ impl<const N: usize> Median<N> {
         self.len == N
     }
 
-    /// Forgets all samples. Only the counts are reset: zeroing the arrays as well
-    /// cost a `memset` routine in the firmware (174 bytes of flash, measured) for values
-    /// that are never read again.
+    /// Forgets all samples. Only the counts are reset: the values beyond them are
+    /// never read again.
     pub fn clear(&mut self) {
         self.head = 0;
         self.len = 0;
@@ -165,8 +139,8 @@ impl<const N: usize> Median<N> {
 }
 
 impl<const N: usize> PartialEq for Median<N> {
-    /// The same samples held, in the same order of arrival (the sorted copies then
-    /// agree too); storage beyond them is not compared.
+    /// The same samples held, in the same order of arrival; storage beyond them is
+    /// not compared.
     fn eq(&self, other: &Self) -> bool {
         self.len == other.len && (0..self.len).all(|k| self.held(k) == other.held(k))
     }

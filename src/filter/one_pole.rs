@@ -124,6 +124,23 @@ impl OnePole {
     }
 }
 
+/// Gain `dt / (tau + dt)` of the first-order lag `tau dy/dt = x - y` over a step of
+/// `dt` seconds, in its backward-Euler form (`y_k = y_(k-1) + (dt / tau) (x_k - y_k)`
+/// solved for `y_k`; common practice): in [0, 1] for every step, 0 for a step of 0 (or
+/// NaN), 1 for `tau <= 0` and for steps of 1e30 s and more (where `f32` would give inf
+/// / inf). The one lag gain of the trackers and use types (datum slewing, the walk's
+/// smoothing and speed): it needs no `exp`, and over the steps they take (much shorter
+/// than `tau`) it is within `(dt / tau)^2 / 2` of the exact gain [`OnePole`] uses.
+pub(crate) fn lag_gain(dt: f32, tau: f32) -> f32 {
+    if dt.is_nan() || dt <= 0.0 {
+        return 0.0;
+    }
+    if tau <= 0.0 || dt >= 1.0e30 {
+        return 1.0;
+    }
+    dt / (tau + dt)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -433,7 +433,7 @@ impl HikeState {
             self.rest.start(h);
         } else {
             self.smoothed_m +=
-                one_pole_gain(dt, c.smoothing_time_constant_s) * (h - self.smoothed_m);
+                crate::filter::lag_gain(dt, c.smoothing_time_constant_s) * (h - self.smoothed_m);
             match self.rest.update(&c.rest, dt, self.smoothed_m) {
                 RestEvent::Entered => self.hold_m = self.tracked_m,
                 RestEvent::Left { level_m } => {
@@ -456,8 +456,8 @@ impl HikeState {
                 RestState::Moving => self.smoothed_m + self.weather_offset_m,
                 RestState::Resting | RestState::DeclaredRest => self.hold_m,
             };
-            self.fix_offset_m +=
-                one_pole_gain(dt, c.fix_time_constant_s) * (self.fix_target_m - self.fix_offset_m);
+            self.fix_offset_m += crate::filter::lag_gain(dt, c.fix_time_constant_s)
+                * (self.fix_target_m - self.fix_offset_m);
         }
         let tracked = Height::from_meters(self.tracked_m).unwrap_or(Height::ZERO);
         self.totals.update(tracked);
@@ -540,18 +540,6 @@ impl HikeState {
             RestState::Moving => -self.weather_offset_m,
             RestState::Resting | RestState::DeclaredRest => self.smoothed_m - self.hold_m,
         }
-    }
-}
-
-/// Gain of the backward-Euler one-pole `tau dy/dt = x - y` over `dt`: `dt / (tau + dt)`
-/// (`y_k = y_(k-1) + (dt / tau) (x_k - y_k)` solved for `y_k`; common practice);
-/// 1 for `tau = 0`.
-fn one_pole_gain(dt: f32, tau: f32) -> f32 {
-    let g = dt / (tau + dt);
-    if g.is_finite() {
-        g.clamp(0.0, 1.0)
-    } else {
-        1.0
     }
 }
 

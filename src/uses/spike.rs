@@ -3,11 +3,10 @@
 
 /// Median spike gate of the walk: the last five accepted model heights.
 ///
-/// Its own ring of five rather than [`crate::filter::Median`]: the general filter keeps
-/// a sorted copy beside its ring (48 bytes on Cortex-M for five samples) to answer in
-/// O(N) for any `N`; for five values, sorting a copy when asked costs at most ten
-/// compare-exchanges and the gate needs 20 bytes (measured in the hike pipeline's state,
-/// README).
+/// Its own ring of five with byte-sized indices rather than a
+/// [`crate::filter::Median`] (whose `usize` indices would take the walk's state past
+/// 256 bytes), with the median from the same function,
+/// `crate::filter::median::median_of`.
 #[derive(Debug, Clone, Copy)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct SpikeGate {
@@ -60,31 +59,7 @@ impl SpikeGate {
     /// Median of the heights held (the mean of the middle two for an even count), or
     /// `None` before any.
     fn median(&self) -> Option<f32> {
-        let n = usize::from(self.len);
-        if n == 0 {
-            return None;
-        }
-        // Insertion sort of a copy of the (at most five) heights held: at most ten
-        // compare-exchanges, in less flash than a sorting network (measured in the
-        // borrowed-settings flash probe).
-        let mut v = self.recent;
-        for i in 1..n {
-            let mut j = i;
-            while let Some([a, b]) = v.get_mut(j.wrapping_sub(1)..=j) {
-                if *b >= *a {
-                    break;
-                }
-                core::mem::swap(a, b);
-                j -= 1;
-            }
-        }
-        let upper = *v.get(n / 2)?;
-        if n % 2 == 1 {
-            Some(upper)
-        } else {
-            let lower = *v.get(n / 2 - 1)?;
-            Some(lower + 0.5 * (upper - lower))
-        }
+        crate::filter::median::median_of(self.recent, usize::from(self.len))
     }
 
     /// Whether a sample `dt` seconds after the last one taken, at height `h`, is a

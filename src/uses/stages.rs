@@ -236,7 +236,9 @@ impl Offset {
     /// `tau_s` (at once without a step).
     pub fn slewed(self, dt: Option<f32>, tau_s: f32) -> Offset {
         let offset_m = match dt {
-            Some(dt) => self.offset_m + slew_gain(dt, tau_s) * (self.target_m - self.offset_m),
+            Some(dt) => {
+                self.offset_m + crate::filter::lag_gain(dt, tau_s) * (self.target_m - self.offset_m)
+            }
             None => self.target_m,
         };
         Offset { offset_m, ..self }
@@ -665,19 +667,6 @@ pub(crate) fn estimate_sigma_m(
 ) -> f32 {
     let column = above_m * uncertainty_k / column_k;
     crate::math::sigma_from_variance(variance_m2 + column * column)
-}
-
-/// Gain `dt / (tau + dt)` of a first-order lag over a step of `dt` seconds (backward
-/// Euler form of `tau dx/dt = target - x`; common practice): in [0, 1] for every step,
-/// 1 for steps of 1e30 s and more (where f32 would give inf / inf).
-pub(crate) fn slew_gain(dt: f32, tau: f32) -> f32 {
-    if dt.is_nan() || dt <= 0.0 {
-        return 0.0;
-    }
-    if tau <= 0.0 || dt >= 1.0e30 {
-        return 1.0;
-    }
-    dt / (tau + dt)
 }
 
 /// Speed from a height change `dh` (m) over a step of `dt` seconds; `None` for steps

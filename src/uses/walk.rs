@@ -4,7 +4,7 @@
 use super::spike::SpikeGate;
 use super::stages::{
     Carried, Inputs, Offset, TimeBase, altimeter_change_m, change_at, check_altimeter,
-    check_common, difference_speed, fix_agrees, pointwise_sigma_m, slew_gain, standard_height,
+    check_common, difference_speed, fix_agrees, pointwise_sigma_m, standard_height,
 };
 use super::{Flags, Output, Sample, Use, WalkState};
 use crate::Error;
@@ -322,7 +322,7 @@ impl<'a> Walk<'a> {
         let mut v = self.last.vertical_speed_mps;
         if let Some(dt) = time.dt {
             if let Some(raw_v) = difference_speed(h - self.last.altitude_m, dt) {
-                v += slew_gain(dt, s.speed_time_constant_s) * (raw_v - v);
+                v += crate::filter::lag_gain(dt, s.speed_time_constant_s) * (raw_v - v);
             }
         }
         let (noise, dk) = (s.pressure_noise_pa, s.temperature_uncertainty_k);
