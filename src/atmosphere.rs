@@ -347,7 +347,7 @@ impl StandardAtmosphere {
     }
 
     /// [`Self::geopotential_m`] and the layer it lies in. Kept out of line: a firmware
-    /// that converts several pressures (the pipeline with an altimeter setting does three)
+    /// that converts several pressures (a use type with an altimeter setting does three)
     /// would otherwise carry a copy per call site (about 300 bytes of flash in the drone
     /// firmware, measured), for a call of a few instructions.
     #[inline(never)]
@@ -471,7 +471,7 @@ pub fn pressure_altitude(p: Pressure) -> Result<Height, Error> {
 mod tests {
     use super::*;
 
-    /// The pipeline takes U.S. 1976 layer temperatures unchecked (`from_valid_kelvin`):
+    /// The use types take U.S. 1976 layer temperatures unchecked (`from_valid_kelvin`):
     /// over the model's whole pressure range (geometric sweep, 2 000 points, both ends
     /// included) every one passes `Temperature::from_kelvin`, between 186.8 K (the
     /// 84.852 km' top of the table, U.S. Standard Atmosphere 1976, Table 4: 186.946 K,

@@ -9,7 +9,7 @@ use core::num::NonZeroU8;
 
 /// The highest bit, always set: the byte is never zero, so an enum holding the state
 /// can keep its variant tag in that value (a "niche") instead of in extra bytes. The
-/// pipeline's estimator state (a Kalman filter or a spike gate) needed 8 more bytes
+/// use types' estimator state (a Kalman filter or a spike gate) needed 8 more bytes
 /// without it once the Kalman settings took no room (measured, `size_of`).
 const ALWAYS: u8 = 0x80;
 

@@ -167,7 +167,7 @@ impl PhaseSettings {
 
 /// The phase state machine. State: 88 bytes with owned settings on 32-bit Arm
 /// (`size_of`, printed by the firmware): the clock-free core, the time of the last
-/// sample, and the times of the apex and of the last event as `f64`. A pipeline keeps
+/// sample, and the times of the apex and of the last event as `f64`. A use type keeps
 /// only the core (24 bytes with settings fixed at compile time). O(1) per sample.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

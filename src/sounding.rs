@@ -274,7 +274,7 @@ pub struct SoundingStep {
 
 /// A sounding step computed by [`Sounding::prepare`] and not yet applied.
 // `repr(C)`: the `f32`s first in declared order, the flags last. In the layout the
-// compiler chose, the pipeline moved each pending step with two unaligned 15-byte
+// compiler chose, the balloon moved each pending step with two unaligned 15-byte
 // `memcpy` calls, about 160 instructions per balloon sample on the Cortex-M4F (measured
 // with the firmware's profile).
 #[repr(C)]
@@ -359,7 +359,7 @@ impl<const N: usize> Sounding<N> {
     }
 
     /// The step [`Self::update`] would take, without taking it: the sounding is not
-    /// changed. Apply it with [`Self::commit`]. The pipeline uses the pair so that a
+    /// changed. Apply it with [`Self::commit`]. The balloon uses the pair so that a
     /// sample refused further down changes nothing, without copying the profile.
     pub fn prepare(
         &self,

@@ -129,7 +129,7 @@ impl GroundReference {
     }
 
     /// [`Self::push`] with the step since the previous sample given (`dt`, s; the
-    /// pipeline's own, 0 after a clock fault), so that it never refuses.
+    /// use type's own, 0 after a clock fault), so that it never refuses.
     pub(crate) fn push_after(&mut self, dt: f32, time: Instant, height: Height) -> bool {
         let z = height.meters();
         if self.armed {

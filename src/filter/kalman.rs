@@ -1769,7 +1769,7 @@ mod tests {
         }
     }
 
-    /// One sample of each kind, accelerometer with barometer, through the pipeline's
+    /// One sample of each kind, accelerometer with barometer, through the use types'
     /// entry point.
     fn both(kf: &mut VerticalKalman, t: f64, a: Option<f32>, z: f32) -> KalmanOutcome {
         let t = at(t);
@@ -1955,7 +1955,7 @@ mod tests {
 
     #[test]
     fn one_pass_cycle_is_bit_identical_to_predict_then_correct() {
-        // The pipeline's entry point applies an accelerometer sample and a barometer
+        // The use types' entry point applies an accelerometer sample and a barometer
         // sample taken together in one pass; the public `predict` then
         // `correct_with_sigma` apply them in two. Both must leave the same bits, on a
         // hop with outliers (every 97th sample 5 m off), a dropout (1 s gap), a burst

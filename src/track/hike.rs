@@ -94,7 +94,7 @@
 //! [`HikeTracker`] is 216 bytes on a 64-bit host: its settings (48), the pressure
 //! altitudes of its pressure limits (8), the time of the last sample (8) and the state
 //! proper (152: totals 28, rest detector 52, tendency ring 44 with its countdown, seven
-//! heights). The state proper keeps no settings and no clock: the composed pipeline
+//! heights). The state proper keeps no settings and no clock: the walk use type
 //! holds it alone, reads the settings from its store (in flash with settings fixed at
 //! compile time) and passes the step from its own clock. The test `state_sizes` prints
 //! every part. O(1) per sample, no heap. Per sample: one pressure-altitude evaluation
@@ -231,7 +231,7 @@ pub struct HikeTracker {
 }
 
 /// What the tracker keeps besides its settings and its clock: the part a
-/// [`crate::pipeline::Pipeline`] holds (it has the settings in its store, often in flash,
+/// [`crate::uses::Walk`] holds (it has the settings in its own, often in flash,
 /// and its own clock). Crate-internal; every call that needs settings is given the
 /// validated [`HikeConfig`], and every step the time since the previous sample.
 #[derive(Debug, Clone, PartialEq)]
@@ -591,7 +591,7 @@ mod tests {
             std::println!("size_of::<{name}>() = {size} bytes");
         }
         // Fixed size, no heap; at most the 256 bytes the design notes allow for the whole
-        // pipeline state (the hike tracker alone must not use them all up).
+        // walk's state (the hike tracker alone must not use them all up).
         assert!(core::mem::size_of::<HikeTracker>() <= 256);
     }
 

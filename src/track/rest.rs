@@ -156,7 +156,7 @@ pub(crate) enum RestEvent {
 
 /// The detector state machine (crate-internal: the hike tracker validates time and
 /// height before calling it). It keeps no settings: each call that needs them is given
-/// the validated [`RestConfig`], so that a pipeline with settings in flash holds none in
+/// the validated [`RestConfig`], so that a use type with settings in flash holds none in
 /// RAM.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

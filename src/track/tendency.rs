@@ -117,7 +117,7 @@ pub struct PressureTendency {
 }
 
 /// The ring and its schedule, without settings or clock: the part of
-/// [`PressureTendency`] that the hike tracker keeps (the pipeline that holds it has its
+/// [`PressureTendency`] that the hike tracker keeps (the walk that holds it has its
 /// own clock and settings). Crate-internal.
 ///
 /// The schedule is a countdown to the next 10-minute mark in whole units of 10 us (an

@@ -19,7 +19,7 @@ pub(crate) struct SpikeGate {
     consecutive: u8,
     /// Outliers held back since start.
     pub(crate) outliers: u32,
-    /// Seconds since the last accepted sample, summed from the pipeline's `f32` steps
+    /// Seconds since the last accepted sample, summed from the walk's `f32` steps
     /// (infinite before the first): no `f64` time arithmetic per sample.
     pub(crate) age_s: f32,
 }
