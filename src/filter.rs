@@ -41,7 +41,8 @@ mod one_pole;
 pub use alpha_beta::AlphaBeta;
 pub use ground::{GroundReference, GroundReferenceConfig};
 pub use kalman::{
-    KalmanOutcome, MAX_SPEED_MPS, VerticalEstimate, VerticalKalman, VerticalKalmanConfig,
+    ACCEL_QUIET_MPS2, KalmanOutcome, MAX_SPEED_MPS, VerticalEstimate, VerticalKalman,
+    VerticalKalmanConfig,
 };
 pub use median::Median;
 pub use moving_average::MovingAverage;

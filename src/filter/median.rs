@@ -10,7 +10,7 @@ use crate::Error;
 /// filter's edge-preserving property, Tukey 1977, *Exploratory Data Analysis*, from
 /// memory). With an even `N` the output is the mean of the two middle values.
 ///
-/// * Time per sample: one insertion sort of a copy of the window ([`median_of`]):
+/// * Time per sample: one insertion sort of a copy of the window:
 ///   at most `N (N - 1) / 2` compare-exchanges, ten for `N = 5`. Meant for the short
 ///   windows of spike removal.
 /// * State: one `[f32; N]` ring and two `usize` indices: `4 N + 2 * size_of::<usize>()`
@@ -20,7 +20,7 @@ use crate::Error;
 /// Hand-written rather than built on `heapless::HistoryBuf`: plain arrays keep the
 /// state `Copy` and comparable with `PartialEq` (two filters are equal when they hold
 /// the same samples in the same order, whatever their storage holds beyond them), and
-/// the median itself is the crate's one [`median_of`], which the walk's spike gate
+/// the median itself is the crate's one function, which the walk's spike gate
 /// uses too.
 ///
 /// ```
