@@ -587,18 +587,20 @@ pub enum TemperatureModel {
         /// Offset from the standard, K (positive: warmer than standard).
         delta_k: f32,
     },
-    /// One temperature through the column: `T(H) = temperature`.
+    /// One temperature through the column: `T(H) = temperature_k`. A temperature
+    /// outside [`Temperature`]'s range is a typed error at use
+    /// ([`Error::TemperatureOutOfRange`] and the others of [`Temperature::from_kelvin`]).
     Isothermal {
-        /// Column temperature.
-        temperature: Temperature,
+        /// Column temperature, K.
+        temperature_k: f32,
     },
-    /// Linear from the reference level: `T(H) = reference_temperature +
+    /// Linear from the reference level: `T(H) = reference_temperature_k +
     /// lapse_rate_k_per_m (H - H_ref)` (negative lapse rate: colder aloft; U.S. 1976
     /// troposphere: -0.0065 K/m'). A zero lapse rate is rejected with
     /// [`Error::ZeroLapseRate`]: use [`TemperatureModel::Isothermal`].
     ConstantLapse {
-        /// Temperature at the reference level.
-        reference_temperature: Temperature,
+        /// Temperature at the reference level, K.
+        reference_temperature_k: f32,
         /// dT/dH, K per geopotential metre, non-zero.
         lapse_rate_k_per_m: f32,
     },
@@ -625,7 +627,7 @@ impl TemperatureModel {
             return Err(Error::ZeroLapseRate);
         }
         Ok(Self::ConstantLapse {
-            reference_temperature,
+            reference_temperature_k: reference_temperature.kelvin(),
             lapse_rate_k_per_m,
         })
     }
@@ -653,15 +655,16 @@ impl ColumnModel for TemperatureModel {
         match *self {
             TemperatureModel::Standard => standard_segment(h, upward, 0.0),
             TemperatureModel::StandardOffset { delta_k } => standard_segment(h, upward, delta_k),
-            TemperatureModel::Isothermal { temperature } => Ok(Segment {
-                temperature_k: temperature.kelvin(),
+            TemperatureModel::Isothermal { temperature_k } => Ok(Segment {
+                temperature_k: Temperature::from_kelvin(temperature_k)?.kelvin(),
                 lapse_rate_k_per_m: 0.0,
                 end_geopotential_m: endless,
             }),
             TemperatureModel::ConstantLapse {
-                reference_temperature,
+                reference_temperature_k,
                 lapse_rate_k_per_m,
             } => {
+                let reference_temperature = Temperature::from_kelvin(reference_temperature_k)?;
                 if !lapse_rate_k_per_m.is_finite() {
                     return Err(Error::NotFinite);
                 }

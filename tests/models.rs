@@ -185,7 +185,7 @@ fn isothermal_model_matches_closed_form() {
     // (Wallace & Hobbs 2006 eq. 3.29; U.S. 1976 eq. 33b), evaluated in f64.
     let t = 250.0_f64;
     let model = TemperatureModel::Isothermal {
-        temperature: k(250.0),
+        temperature_k: (k(250.0)).kelvin(),
     };
     let reference = Reference::new(hpa(1000.0), m(100.0));
     for p in [1050.0_f64, 999.0, 900.0, 500.0, 100.0] {
@@ -201,7 +201,7 @@ fn isothermal_model_matches_closed_form() {
     // 1014 hPa, scale height R Tv / g0 = 8 km -> 1000 hPa surface at 111 m (from
     // memory; 8000 ln(1014/1000) = 111.2 m).
     let tv = 8000.0 * 9.80665 / 287.05307_f32;
-    let model = TemperatureModel::Isothermal { temperature: k(tv) };
+    let model = TemperatureModel::Isothermal { temperature_k: k(tv).kelvin() };
     let z = model
         .height(
             &Reference::new(hpa(1014.0), Height::ZERO),
@@ -363,7 +363,7 @@ fn zero_and_bad_lapse_rates_are_typed_errors() {
     );
     // Built directly, bypassing the constructor: still a typed error at use.
     let direct = TemperatureModel::ConstantLapse {
-        reference_temperature: k(280.0),
+        reference_temperature_k: k(280.0).kelvin(),
         lapse_rate_k_per_m: 0.0,
     };
     let r = Reference::new(hpa(1000.0), Height::ZERO);
@@ -395,14 +395,14 @@ fn humid_column_is_taller_by_the_virtual_temperature() {
     let w = humidity::mixing_ratio(p_ref, t, rh).unwrap();
     let tv = humidity::virtual_temperature(p_ref, t, rh).unwrap();
     let r = Reference::new(p_ref, Height::ZERO);
-    let humid = TemperatureModel::Isothermal { temperature: t }
+    let humid = TemperatureModel::Isothermal { temperature_k: t.kelvin() }
         .height(&r, hpa(900.0), &AirSample::DRY.with_mixing_ratio(w))
         .unwrap();
-    let dry_tv = TemperatureModel::Isothermal { temperature: tv }
+    let dry_tv = TemperatureModel::Isothermal { temperature_k: tv.kelvin() }
         .height(&r, hpa(900.0), &AirSample::DRY)
         .unwrap();
     assert!((humid.meters() - dry_tv.meters()).abs() < 0.005);
-    let dry = TemperatureModel::Isothermal { temperature: t }
+    let dry = TemperatureModel::Isothermal { temperature_k: t.kelvin() }
         .height(&r, hpa(900.0), &AirSample::DRY)
         .unwrap();
     // Isothermal height is proportional to the column temperature: the humid column is
@@ -685,7 +685,7 @@ fn calibration_round_trips_and_blends() {
     round_trip!(TemperatureModel::Standard);
     round_trip!(TemperatureModel::standard_offset(-7.0).unwrap());
     round_trip!(TemperatureModel::Isothermal {
-        temperature: k(280.0)
+        temperature_k: (k(280.0)).kelvin(),
     });
     round_trip!(TemperatureModel::constant_lapse(k(285.0), -0.0065).unwrap());
     round_trip!(TemperatureModel::MeanOfEnds);
@@ -818,10 +818,10 @@ fn first_order_sigma_matches_monte_carlo() {
             delta_k: -4.0 + d,
         }),
         ("isothermal", |d| TemperatureModel::Isothermal {
-            temperature: k(276.0 + d),
-        }),
+        temperature_k: (k(276.0 + d)).kelvin(),
+    }),
         ("constant lapse", |d| TemperatureModel::ConstantLapse {
-            reference_temperature: k(286.0 + d),
+            reference_temperature_k: k(286.0 + d).kelvin(),
             lapse_rate_k_per_m: -0.0062,
         }),
     ];

@@ -141,7 +141,7 @@ fn model_strategy() -> impl Strategy<Value = TemperatureModel> {
     prop_oneof![
         Just(TemperatureModel::Standard),
         (-40.0f32..40.0).prop_map(|d| TemperatureModel::standard_offset(d).unwrap()),
-        (200.0f32..330.0).prop_map(|t| TemperatureModel::Isothermal { temperature: k(t) }),
+        (200.0f32..330.0).prop_map(|t| TemperatureModel::Isothermal { temperature_k: k(t).kelvin() }),
         (230.0f32..320.0, 1.0e-4f32..0.0098, any::<bool>()).prop_map(|(t, l, neg)| {
             TemperatureModel::constant_lapse(k(t), if neg { -l } else { l }).unwrap()
         }),
@@ -209,8 +209,8 @@ proptest! {
         let warm = (cold + warmer_by).min(40.0);
         let (m_cold, m_warm) = if isothermal {
             (
-                TemperatureModel::Isothermal { temperature: k(270.0 + cold) },
-                TemperatureModel::Isothermal { temperature: k(270.0 + warm) },
+                TemperatureModel::Isothermal { temperature_k: k(270.0 + cold).kelvin() },
+                TemperatureModel::Isothermal { temperature_k: k(270.0 + warm).kelvin() },
             )
         } else {
             (

@@ -381,7 +381,7 @@ fn column_models_through_the_balloon() {
     // A model that cannot place anything is refused with the settings.
     let bad = BalloonSettings {
         model: BalloonModel::Column(TemperatureModel::ConstantLapse {
-            reference_temperature: isohypse::Temperature::from_kelvin(280.0).unwrap(),
+            reference_temperature_k: isohypse::Temperature::from_kelvin(280.0).unwrap().kelvin(),
             lapse_rate_k_per_m: 0.0,
         }),
         ..BalloonSettings::DEFAULT
