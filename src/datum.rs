@@ -38,7 +38,7 @@
 //! let p = Pressure::from_hpa(972.0)?;
 //! let setting = AltimeterSetting::sea_level_from_elevation(p, Height::from_meters(350.0)?)?;
 //! assert!((setting.height(p)?.meters() - 350.0).abs() < 1e-3);
-//! assert!(setting.setting_pressure().is_some());
+//! assert!(setting.setting_pressure()?.is_some());
 //! # Ok::<(), isohypse::Error>(())
 //! ```
 
@@ -85,24 +85,27 @@ pub enum AltimeterSetting {
     Standard,
     /// QNH: reads the elevation above mean sea level on the ground.
     SeaLevel {
-        /// The sea-level setting.
-        qnh: Pressure,
+        /// The sea-level setting, Pa.
+        qnh_pa: f32,
     },
     /// QFE: reads zero at the field.
     Field {
-        /// Pressure at the field.
-        qfe: Pressure,
+        /// Pressure at the field, Pa.
+        qfe_pa: f32,
     },
 }
 
 impl AltimeterSetting {
     /// The setting pressure; `None` for [`AltimeterSetting::Standard`], whose setting
     /// is 1013.25 hPa by definition.
-    pub fn setting_pressure(&self) -> Option<Pressure> {
+    ///
+    /// Errors: those of [`Pressure::from_pa`] for a setting that is not a pressure.
+    pub fn setting_pressure(&self) -> Result<Option<Pressure>, Error> {
         match *self {
-            AltimeterSetting::Standard => None,
-            AltimeterSetting::SeaLevel { qnh } => Some(qnh),
-            AltimeterSetting::Field { qfe } => Some(qfe),
+            AltimeterSetting::Standard => Ok(None),
+            AltimeterSetting::SeaLevel { qnh_pa: pa } | AltimeterSetting::Field { qfe_pa: pa } => {
+                Pressure::from_pa(pa).map(Some)
+            }
         }
     }
 
@@ -112,13 +115,12 @@ impl AltimeterSetting {
     /// eq. 19 (see the module docs for the troposphere closed form and its sources).
     ///
     /// Errors: [`Error::AboveModelTop`] / [`Error::BelowModelBottom`] outside the U.S.
-    /// 1976 table.
+    /// 1976 table; those of [`Pressure::from_pa`] for a setting that is not a pressure.
     pub fn height(&self, p: Pressure) -> Result<Height, Error> {
         let h = US_1976.geopotential_height(p)?.meters();
-        let h0 = match *self {
-            AltimeterSetting::Standard => 0.0,
-            AltimeterSetting::SeaLevel { qnh } => US_1976.geopotential_height(qnh)?.meters(),
-            AltimeterSetting::Field { qfe } => US_1976.geopotential_height(qfe)?.meters(),
+        let h0 = match self.setting_pressure()? {
+            None => 0.0,
+            Some(setting) => US_1976.geopotential_height(setting)?.meters(),
         };
         geopotential::geometric_from_geopotential(Height::from_meters(h - h0)?, R0)
     }
@@ -135,14 +137,14 @@ impl AltimeterSetting {
         let h_elev = geopotential::geopotential_from_geometric(elevation, R0)?.meters();
         let h = US_1976.geopotential_height(p)?.meters() - h_elev;
         let qnh = US_1976.at_geopotential(Height::from_meters(h)?)?.pressure;
-        Ok(AltimeterSetting::SeaLevel { qnh })
+        Ok(AltimeterSetting::SeaLevel { qnh_pa: qnh.pa() })
     }
 
     /// The field setting (QFE) from a reading taken on the ground: `QFE = p` (QFE is the
     /// pressure at the field, with which the altimeter reads zero on the ground; ICAO
     /// definition, from memory).
     pub const fn field_from_reading(p: Pressure) -> Self {
-        AltimeterSetting::Field { qfe: p }
+        AltimeterSetting::Field { qfe_pa: p.pa() }
     }
 }
 
@@ -363,8 +365,8 @@ impl crate::snapshot::Snap for AltimeterSetting {
     fn save(&self, w: &mut crate::snapshot::Writer<'_>) {
         let (tag, pa) = match *self {
             AltimeterSetting::Standard => (0u8, 0.0),
-            AltimeterSetting::SeaLevel { qnh } => (1, qnh.pa()),
-            AltimeterSetting::Field { qfe } => (2, qfe.pa()),
+            AltimeterSetting::SeaLevel { qnh_pa } => (1, qnh_pa),
+            AltimeterSetting::Field { qfe_pa } => (2, qfe_pa),
         };
         tag.save(w);
         pa.save(w);
@@ -373,11 +375,15 @@ impl crate::snapshot::Snap for AltimeterSetting {
         let (mut tag, mut pa) = (0u8, 0.0f32);
         tag.load(r)?;
         pa.load(r)?;
-        let p = || Pressure::from_pa(pa).map_err(|_| Error::SnapshotCorrupt);
+        let p = || {
+            Pressure::from_pa(pa)
+                .map(|p| p.pa())
+                .map_err(|_| Error::SnapshotCorrupt)
+        };
         *self = match tag {
             0 => AltimeterSetting::Standard,
-            1 => AltimeterSetting::SeaLevel { qnh: p()? },
-            2 => AltimeterSetting::Field { qfe: p()? },
+            1 => AltimeterSetting::SeaLevel { qnh_pa: p()? },
+            2 => AltimeterSetting::Field { qfe_pa: p()? },
             _ => return Err(Error::SnapshotCorrupt),
         };
         Ok(())
@@ -392,14 +398,12 @@ mod tests {
     fn qnh_standard_reads_pressure_altitude() {
         // With QNH = 1013.25 hPa the shift is zero (ICAO Doc 7488 definition; the
         // reference is the crate's pressure altitude, checked in tests/atmosphere.rs).
-        let qnh = AltimeterSetting::SeaLevel {
-            qnh: Pressure::from_hpa(1013.25).unwrap(),
-        };
+        let qnh = AltimeterSetting::SeaLevel { qnh_pa: 101_325.0 };
         let p = Pressure::from_hpa(800.0).unwrap();
         let a = qnh.height(p).unwrap().meters();
         let b = pressure_altitude(p).unwrap().meters();
         assert!((a - b).abs() < 1e-3);
-        assert_eq!(AltimeterSetting::Standard.setting_pressure(), None);
+        assert_eq!(AltimeterSetting::Standard.setting_pressure(), Ok(None));
     }
 
     #[test]

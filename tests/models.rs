@@ -201,7 +201,9 @@ fn isothermal_model_matches_closed_form() {
     // 1014 hPa, scale height R Tv / g0 = 8 km -> 1000 hPa surface at 111 m (from
     // memory; 8000 ln(1014/1000) = 111.2 m).
     let tv = 8000.0 * 9.80665 / 287.05307_f32;
-    let model = TemperatureModel::Isothermal { temperature_k: k(tv).kelvin() };
+    let model = TemperatureModel::Isothermal {
+        temperature_k: k(tv).kelvin(),
+    };
     let z = model
         .height(
             &Reference::new(hpa(1014.0), Height::ZERO),
@@ -395,16 +397,22 @@ fn humid_column_is_taller_by_the_virtual_temperature() {
     let w = humidity::mixing_ratio(p_ref, t, rh).unwrap();
     let tv = humidity::virtual_temperature(p_ref, t, rh).unwrap();
     let r = Reference::new(p_ref, Height::ZERO);
-    let humid = TemperatureModel::Isothermal { temperature_k: t.kelvin() }
-        .height(&r, hpa(900.0), &AirSample::DRY.with_mixing_ratio(w))
-        .unwrap();
-    let dry_tv = TemperatureModel::Isothermal { temperature_k: tv.kelvin() }
-        .height(&r, hpa(900.0), &AirSample::DRY)
-        .unwrap();
+    let humid = TemperatureModel::Isothermal {
+        temperature_k: t.kelvin(),
+    }
+    .height(&r, hpa(900.0), &AirSample::DRY.with_mixing_ratio(w))
+    .unwrap();
+    let dry_tv = TemperatureModel::Isothermal {
+        temperature_k: tv.kelvin(),
+    }
+    .height(&r, hpa(900.0), &AirSample::DRY)
+    .unwrap();
     assert!((humid.meters() - dry_tv.meters()).abs() < 0.005);
-    let dry = TemperatureModel::Isothermal { temperature_k: t.kelvin() }
-        .height(&r, hpa(900.0), &AirSample::DRY)
-        .unwrap();
+    let dry = TemperatureModel::Isothermal {
+        temperature_k: t.kelvin(),
+    }
+    .height(&r, hpa(900.0), &AirSample::DRY)
+    .unwrap();
     // Isothermal height is proportional to the column temperature: the humid column is
     // taller by Tv / T - 1 (1.30 % at 30 degC, 80 %, 1000 hPa: Wallace & Hobbs 2006
     // eq. 3.16 and 3.59 with the AERK es, 42.37 hPa, evaluated by hand).
@@ -538,7 +546,7 @@ fn cold_air_makes_a_qnh_altimeter_read_high() {
     let qnh = hpa(1013.25);
     let truth = TemperatureModel::standard_offset(-10.0).unwrap();
     let r = Reference::new(qnh, Height::ZERO);
-    let setting = AltimeterSetting::SeaLevel { qnh };
+    let setting = AltimeterSetting::SeaLevel { qnh_pa: qnh.pa() };
     for z_true in [500.0_f32, 1500.0, 3000.0] {
         let p = truth.pressure_at(&r, m(z_true), &AirSample::DRY).unwrap();
         let shown = setting.height(p).unwrap().meters();
@@ -589,7 +597,7 @@ fn qnh_qfe_and_flight_levels() {
     let (qnh, p) = (1002.0_f64, 880.0_f64);
     let h = t0 / l * ((qnh / p0).powf(n) - (p / p0).powf(n));
     let s = AltimeterSetting::SeaLevel {
-        qnh: hpa(qnh as f32),
+        qnh_pa: (hpa(qnh as f32)).pa(),
     };
     let z = s.height(hpa(p as f32)).unwrap().meters() as f64;
     assert!((z - geometric64(h)).abs() < 0.01, "{z} {}", geometric64(h));
@@ -818,8 +826,8 @@ fn first_order_sigma_matches_monte_carlo() {
             delta_k: -4.0 + d,
         }),
         ("isothermal", |d| TemperatureModel::Isothermal {
-        temperature_k: (k(276.0 + d)).kelvin(),
-    }),
+            temperature_k: (k(276.0 + d)).kelvin(),
+        }),
         ("constant lapse", |d| TemperatureModel::ConstantLapse {
             reference_temperature_k: k(286.0 + d).kelvin(),
             lapse_rate_k_per_m: -0.0062,

@@ -141,7 +141,9 @@ fn model_strategy() -> impl Strategy<Value = TemperatureModel> {
     prop_oneof![
         Just(TemperatureModel::Standard),
         (-40.0f32..40.0).prop_map(|d| TemperatureModel::standard_offset(d).unwrap()),
-        (200.0f32..330.0).prop_map(|t| TemperatureModel::Isothermal { temperature_k: k(t).kelvin() }),
+        (200.0f32..330.0).prop_map(|t| TemperatureModel::Isothermal {
+            temperature_k: k(t).kelvin()
+        }),
         (230.0f32..320.0, 1.0e-4f32..0.0098, any::<bool>()).prop_map(|(t, l, neg)| {
             TemperatureModel::constant_lapse(k(t), if neg { -l } else { l }).unwrap()
         }),
@@ -254,7 +256,7 @@ proptest! {
         let read = setting.height(pa(p)).unwrap().meters();
         prop_assert!((read - elevation).abs() <= 0.02, "{p} Pa at {elevation} m reads {read} m");
         // and the setting itself reads zero
-        let qnh = setting.setting_pressure().unwrap();
+        let qnh = setting.setting_pressure().unwrap().unwrap();
         prop_assert!(setting.height(qnh).unwrap().meters().abs() <= 0.01);
     }
 
@@ -276,8 +278,8 @@ proptest! {
     /// QNH: monotone, and a higher setting reads higher at the same pressure.
     #[test]
     fn qnh_monotone(qnh in 95_000.0f32..105_000.0, d in 1.0f32..1_000.0, p in 60_000.0f32..105_000.0) {
-        let low = AltimeterSetting::SeaLevel { qnh: pa(qnh) };
-        let high = AltimeterSetting::SeaLevel { qnh: pa(qnh + d) };
+        let low = AltimeterSetting::SeaLevel { qnh_pa: (pa(qnh)).pa() };
+        let high = AltimeterSetting::SeaLevel { qnh_pa: (pa(qnh + d)).pa() };
         prop_assert!(high.height(pa(p)).unwrap().meters() > low.height(pa(p)).unwrap().meters());
     }
 
@@ -832,8 +834,12 @@ fn states_strategy() -> impl Strategy<Value = PhaseSettings> {
 fn altimeter_strategy() -> impl Strategy<Value = AltimeterSetting> {
     prop_oneof![
         Just(AltimeterSetting::Standard),
-        (95_000.0f32..105_000.0).prop_map(|q| AltimeterSetting::SeaLevel { qnh: pa(q) }),
-        (60_000.0f32..105_000.0).prop_map(|q| AltimeterSetting::Field { qfe: pa(q) }),
+        (95_000.0f32..105_000.0).prop_map(|q| AltimeterSetting::SeaLevel {
+            qnh_pa: (pa(q)).pa()
+        }),
+        (60_000.0f32..105_000.0).prop_map(|q| AltimeterSetting::Field {
+            qfe_pa: (pa(q)).pa()
+        }),
     ]
 }
 

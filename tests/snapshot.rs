@@ -273,7 +273,7 @@ fn bad_snapshots_are_typed_errors() {
     // a checksum-valid snapshot holding a pressure no unit accepts
     let mut w = Walk::new(&W).unwrap();
     w.set_altimeter_setting(isohypse::datum::AltimeterSetting::SeaLevel {
-        qnh: isohypse::Pressure::from_hpa(1_013.0).unwrap(),
+        qnh_pa: (isohypse::Pressure::from_hpa(1_013.0).unwrap()).pa(),
     })
     .unwrap();
     let mut ws = vec![0u8; Walk::SNAPSHOT_LEN];

@@ -222,7 +222,7 @@ fn sea_level_setting_and_run_time_change() {
     // drone's 2 s so that the scenario's 40 s suffice for the slew.)
     let qnh = WalkSettings {
         altimeter_setting: AltimeterSetting::SeaLevel {
-            qnh: Pressure::from_hpa(1023.25).unwrap(),
+            qnh_pa: (Pressure::from_hpa(1023.25).unwrap()).pa(),
         },
         fix_time_constant_s: 2.0,
         ..WalkSettings::DEFAULT
@@ -257,7 +257,7 @@ fn sea_level_setting_and_run_time_change() {
     // An invalid setting is refused and the old one kept (the walk and the drone).
     let kept = walk.clone();
     let absurd = AltimeterSetting::SeaLevel {
-        qnh: Pressure::from_pa(1.0).unwrap(),
+        qnh_pa: (Pressure::from_pa(1.0).unwrap()).pa(),
     };
     assert!(walk.set_altimeter_setting(absurd).is_err());
     assert_eq!(walk, kept);
@@ -423,7 +423,7 @@ fn demo_samples(text: &str) -> Vec<Sample> {
 /// altimeter setting and a disturbance flag at a third of the log, a re-zero at half.
 fn run_time_change(device: &mut Device<'_, 64>, i: usize, n: usize) {
     let qnh = AltimeterSetting::SeaLevel {
-        qnh: Pressure::from_pa(100_500.0).unwrap(),
+        qnh_pa: (Pressure::from_pa(100_500.0).unwrap()).pa(),
     };
     match device {
         Device::Drone(d) if i == n / 3 => {

@@ -703,14 +703,17 @@ pub(crate) fn standard_height(
 /// Checks an altimeter setting. Errors: [`Error::InvalidSetting`] for a QNH outside
 /// 850-1100 hPa, and the standard atmosphere's range errors for a setting outside it.
 pub(crate) fn check_altimeter(setting: AltimeterSetting) -> Result<(), Error> {
-    if let AltimeterSetting::SeaLevel { qnh } = setting {
+    if let AltimeterSetting::SeaLevel { qnh_pa } = setting {
         // Sea-level pressures on record stay within about 870-1084 hPa (from memory);
-        // 850-1100 hPa leaves a margin and refuses typing errors.
-        if !(85_000.0..=110_000.0).contains(&qnh.pa()) {
+        // 850-1100 hPa leaves a margin and refuses typing errors (and NaN).
+        if !(85_000.0..=110_000.0).contains(&qnh_pa) {
             return Err(Error::InvalidSetting);
         }
     }
-    if let Some(p) = setting.setting_pressure() {
+    let pressure = setting
+        .setting_pressure()
+        .map_err(|_| Error::InvalidSetting)?;
+    if let Some(p) = pressure {
         // the setting must lie inside the standard atmosphere
         setting.height(p)?;
     }

@@ -107,8 +107,8 @@ fn altimeter(b: &mut Bytes) -> AltimeterSetting {
     let kind = b.u8();
     let pa = optional(b, kind & 0x04 != 0, 100_000.0, 20_000.0).unwrap_or(101_325.0);
     match (kind & 3, Pressure::from_pa(pa)) {
-        (1, Ok(qnh)) => AltimeterSetting::SeaLevel { qnh },
-        (2, Ok(qfe)) => AltimeterSetting::Field { qfe },
+        (1, Ok(qnh)) => AltimeterSetting::SeaLevel { qnh_pa: qnh.pa() },
+        (2, Ok(qfe)) => AltimeterSetting::Field { qfe_pa: qfe.pa() },
         _ => AltimeterSetting::Standard,
     }
 }

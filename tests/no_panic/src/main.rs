@@ -233,7 +233,7 @@ fn main() {
             thickness(black_box(sea_level), black_box(p), black_box(t))
         );
     }
-    let qnh = AltimeterSetting::SeaLevel { qnh: sea_level };
+    let qnh = AltimeterSetting::SeaLevel { qnh_pa: (sea_level).pa() };
     println!("{:?}", qnh_height(black_box(&qnh), black_box(p)));
     let reference = Reference::new(sea_level, Height::ZERO);
     let model = black_box(TemperatureModel::StandardOffset { delta_k: 5.0 });
