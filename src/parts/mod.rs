@@ -3,6 +3,8 @@
 //!
 //! - [`bme280`]: Bosch BME280 (pressure, temperature, humidity), forced mode.
 //! - [`lps22`]: ST LPS22HB and LPS22HH (pressure, temperature), one-shot or continuous.
+//! - `ms56xx` (feature `ms56xx`): an adapter for the maintained `ms56xx` crate's
+//!   MS5607 / MS5611 / MS5637 driver, and the MS5611's description.
 //! - [`asynch`] (feature `embedded-hal-async`): the same drivers over
 //!   [`embedded_hal_async::i2c::I2c`].
 //!
@@ -54,6 +56,9 @@
 pub mod asynch;
 pub mod bme280;
 pub mod lps22;
+#[cfg(feature = "ms56xx")]
+#[cfg_attr(docsrs, doc(cfg(feature = "ms56xx")))]
+pub mod ms56xx;
 
 pub use crate::part::PartDescription;
 
