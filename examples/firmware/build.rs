@@ -22,26 +22,43 @@ fn main() {
     let out = PathBuf::from(std::env::var("OUT_DIR").expect("OUT_DIR is set by cargo"));
     let target = std::env::var("TARGET").expect("TARGET is set by cargo");
 
-    // Board, and its core clock in QEMU, which clocks SysTick (CLKSOURCE = 1):
-    // mps2-an386 25 MHz, microbit (nRF51) 16 MHz. With `-icount shift=0` one instruction
-    // takes 1 ns of virtual time, so one tick is 40 or 62.5 instructions.
+    // Board, and what one count of the firmware's counter is in QEMU with
+    // `-icount shift=0` (one instruction takes 1 ns of virtual time). On Cortex-M SysTick
+    // runs from the core clock (CLKSOURCE = 1): mps2-an386 25 MHz, microbit (nRF51)
+    // 16 MHz, mps2-an505 20 MHz, so one tick is 40, 62.5 or 50 instructions. On RISC-V
+    // the `mcycle` CSR reads QEMU's virtual clock in ns: one count per instruction.
     let (memory, board, clock, ns_per_tick) = if target.starts_with("thumbv7em") {
         (
             "memory-mps2-an386.x",
             "QEMU mps2-an386 (Cortex-M4F)",
-            "25 MHz",
+            "SysTick at the 25 MHz core clock",
             "40",
         )
     } else if target.starts_with("thumbv6m") {
         (
             "memory-microbit.x",
             "QEMU microbit (nRF51, Cortex-M0)",
-            "16 MHz",
+            "SysTick at the 16 MHz core clock",
             "62.5",
+        )
+    } else if target.starts_with("thumbv8m.main") {
+        (
+            "memory-mps2-an505.x",
+            "QEMU mps2-an505 (Cortex-M33)",
+            "SysTick at the 20 MHz core clock",
+            "50",
+        )
+    } else if target.starts_with("riscv32") {
+        (
+            "memory-virt-rv32.x",
+            "QEMU virt (RISC-V rv32imc)",
+            "mcycle reads the virtual clock in ns",
+            "1",
         )
     } else {
         panic!(
-            "isohypse-firmware: unsupported target {target}; use thumbv7em-none-eabihf or thumbv6m-none-eabi"
+            "isohypse-firmware: unsupported target {target}; use thumbv7em-none-eabihf, \
+             thumbv6m-none-eabi, thumbv8m.main-none-eabihf or riscv32imc-unknown-none-elf"
         );
     };
     std::fs::copy(memory, out.join("memory.x")).expect("copy memory map");
@@ -70,7 +87,7 @@ fn main() {
     .unwrap();
     writeln!(
         src,
-        "/// Instructions per SysTick tick expected on this board with `-icount shift=0`.\n\
+        "/// Instructions per count of the firmware's counter expected on this board with `-icount shift=0`.\n\
          pub const NOMINAL_INSTRUCTIONS_PER_TICK: f32 = {ns_per_tick}_f32;"
     )
     .unwrap();

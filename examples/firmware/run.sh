@@ -1,13 +1,14 @@
 #!/usr/bin/env bash
-# Builds the isohypse firmware for two Cortex-M cores, runs it on QEMU, and prints
-# instruction counts (deterministic: QEMU -icount shift=0) and the library's flash / RAM.
+# Builds the isohypse firmware for four cores (Cortex-M4F, Cortex-M0, Cortex-M33, RISC-V
+# rv32imc), runs it on QEMU, and prints instruction counts (deterministic: QEMU -icount
+# shift=0) and the library's flash / RAM.
 #
-#   examples/firmware/run.sh                     # libm backend, both cores
+#   examples/firmware/run.sh                     # libm backend, all four cores
 #   BACKENDS="libm micromath" examples/firmware/run.sh
 #   TARGETS=thumbv6m-none-eabi examples/firmware/run.sh
 #
-# Installs what it needs when missing: the two Rust targets (rustup) and qemu-system-arm
-# (apt-get). Exits non-zero when a build fails, a run fails (results differ from the
+# Installs what it needs when missing: the Rust targets (rustup), qemu-system-arm and
+# qemu-system-misc (apt-get; qemu-system-riscv32). Exits non-zero when a build fails, a run fails (results differ from the
 # host's, or the timer calibration is off), a run times out, or two runs of the same
 # firmware print different output.
 # Profile: release, opt-level "s", lto = true, codegen-units = 1 (Cargo.toml); override
@@ -18,7 +19,7 @@ set -euo pipefail
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
 cd "$here"
 
-TARGETS="${TARGETS:-thumbv7em-none-eabihf thumbv6m-none-eabi}"
+TARGETS="${TARGETS:-thumbv7em-none-eabihf thumbv6m-none-eabi thumbv8m.main-none-eabihf riscv32imc-unknown-none-elf}"
 BACKENDS="${BACKENDS:-libm}"
 RUN_TIMEOUT="${RUN_TIMEOUT:-120}"
 export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-$here/target}"
@@ -35,7 +36,46 @@ as_root() {
 apt_install() {
     say "installing $* (apt-get)"
     as_root env DEBIAN_FRONTEND=noninteractive apt-get update -q
-    as_root env DEBIAN_FRONTEND=noninteractive apt-get install -y -q "$@"
+    as_root env DEBIAN_FRONTEND=noninteractive apt-get install -y -q "$@" || apt_install_backports "$@"
+}
+# A machine that holds a newer QEMU package from the release's backports (qemu-utils, for
+# one) cannot take the release's own qemu-system-*: its Breaks forbid the older version.
+# Then the same packages come from the backports suite of the archive the machine already
+# uses, through a copy of its apt sources in a temporary folder (the machine's own apt
+# configuration stays as it is).
+apt_install_backports() {
+    local codename dir uri keyring
+    codename="$(. /etc/os-release && echo "${VERSION_CODENAME:-}")"
+    [ -n "$codename" ] || return 1
+    # the archive (URIs and Signed-By) of the stanza that holds the release itself
+    read -r uri keyring < <(awk -v c="$codename" '
+        /^URIs:/ {u = $2} /^Signed-By:/ {k = $2}
+        /^Suites:/ {for (i = 2; i <= NF; i++) if ($i == c) hit = 1}
+        /^$/ {if (hit && u) {print u, k; exit} hit = 0; u = ""; k = ""}
+        END {if (hit && u) print u, k}' /etc/apt/sources.list.d/*.sources 2>/dev/null || true)
+    if [ -z "${uri:-}" ]; then
+        uri="$(sed -E 's/\[[^]]*\] //' /etc/apt/sources.list 2>/dev/null |
+            awk -v c="$codename" '$1 == "deb" && $3 == c {print $2; exit}')"
+    fi
+    [ -n "${uri:-}" ] || return 1
+    say "installing $* from $codename-backports (apt-get)"
+    dir="$(mktemp -d)"
+    chmod 755 "$dir" # apt downloads as its own user
+    mkdir -p "$dir/parts" "$dir/lists/partial" "$dir/archives/partial"
+    cp /etc/apt/sources.list.d/*.sources /etc/apt/sources.list.d/*.list "$dir/parts/" 2>/dev/null || true
+    {
+        echo "Types: deb"
+        echo "URIs: $uri"
+        echo "Suites: $codename-backports"
+        echo "Components: main"
+        if [ -n "${keyring:-}" ]; then echo "Signed-By: $keyring"; fi
+    } >"$dir/parts/backports.sources"
+    local opts=(-o "Dir::Etc::sourceparts=$dir/parts"
+        -o "Dir::State::lists=$dir/lists" -o "Dir::Cache::archives=$dir/archives")
+    as_root env DEBIAN_FRONTEND=noninteractive apt-get "${opts[@]}" update -q
+    as_root env DEBIAN_FRONTEND=noninteractive apt-get "${opts[@]}" install -y -q \
+        --no-install-recommends -t "$codename-backports" "$@"
+    as_root rm -rf "$dir"
 }
 if command -v rustup >/dev/null; then
     installed="$(rustup target list --installed)"
@@ -43,15 +83,29 @@ if command -v rustup >/dev/null; then
         grep -qx "$t" <<<"$installed" || rustup target add "$t"
     done
 fi
-command -v qemu-system-arm >/dev/null || apt_install qemu-system-arm
+case " $TARGETS " in *" thumb"*)
+    command -v qemu-system-arm >/dev/null || apt_install qemu-system-arm ;;
+esac
+case " $TARGETS " in *" riscv"*)
+    command -v qemu-system-riscv32 >/dev/null || apt_install qemu-system-misc ;;
+esac
 command -v python3 >/dev/null || apt_install python3
 command -v timeout >/dev/null || apt_install coreutils
 
 # ---- per-target settings ---------------------------------------------------------------
+qemu_bin() {
+    case "$1" in
+        riscv32*) echo qemu-system-riscv32 ;;
+        *) echo qemu-system-arm ;;
+    esac
+}
 qemu_args() {
     case "$1" in
         thumbv7em-none-eabihf) echo "-machine mps2-an386 -cpu cortex-m4" ;;
         thumbv6m-none-eabi) echo "-machine microbit" ;;
+        thumbv8m.main-none-eabihf) echo "-machine mps2-an505" ;;
+        # -bios none: no SBI firmware; the boot ROM jumps to the ELF at 0x8000_0000
+        riscv32imc-unknown-none-elf) echo "-machine virt -bios none" ;;
         *) echo "unsupported target $1" >&2; return 1 ;;
     esac
 }
@@ -59,6 +113,8 @@ core_name() {
     case "$1" in
         thumbv7em-none-eabihf) echo "Cortex-M4F" ;;
         thumbv6m-none-eabi) echo "Cortex-M0" ;;
+        thumbv8m.main-none-eabihf) echo "Cortex-M33" ;;
+        riscv32imc-unknown-none-elf) echo "RISC-V (rv32imc)" ;;
     esac
 }
 
@@ -83,7 +139,7 @@ build_probe() {
 run_elf() {
     rc=0
     # shellcheck disable=SC2046
-    timeout "$RUN_TIMEOUT" qemu-system-arm $(qemu_args "$1") \
+    timeout "$RUN_TIMEOUT" "$(qemu_bin "$1")" $(qemu_args "$1") \
         -nographic -monitor none -serial none \
         -semihosting-config enable=on,target=native \
         -icount shift=0 \
@@ -95,7 +151,7 @@ features_for() { # backend -> cargo args
 }
 
 status=0
-qemu-system-arm --version | head -n 1
+for t in $TARGETS; do qemu_bin "$t"; done | sort -u | while read -r q; do "$q" --version | head -n 1; done
 rustc --version
 
 # ---- builds and runs -----------------------------------------------------------------
@@ -261,7 +317,7 @@ if [ "${PROFILE:-0}" = 1 ]; then
                 [ "$variant" = elf ] || elf="$out/$target-$backend-$variant.elf"
                 say "profile of $window ($(core_name "$target"), $backend)"
                 # shellcheck disable=SC2046
-                timeout 900 qemu-system-arm $(qemu_args "$target") \
+                timeout 900 "$(qemu_bin "$target")" $(qemu_args "$target") \
                     -nographic -monitor none -serial none \
                     -semihosting-config enable=on,target=native \
                     -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr \

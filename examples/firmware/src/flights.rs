@@ -14,7 +14,7 @@ pub use without_library::{check, measure};
 #[cfg(not(feature = "baseline-only"))]
 #[cfg_attr(feature = "drone-only", allow(unused_imports, dead_code))]
 mod with_library {
-    use cortex_m_semihosting::hprintln;
+    use crate::arch::hprintln;
     use isohypse::filter::VerticalKalman;
     use isohypse::geopotential::Gravity;
     use isohypse::sounding::Sounding;
@@ -502,7 +502,7 @@ mod with_library {
 mod without_library {
     use core::hint::black_box;
 
-    use cortex_m_semihosting::hprintln;
+    use crate::arch::hprintln;
 
     use crate::Timing;
     use crate::samples::{

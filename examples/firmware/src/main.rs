@@ -1,4 +1,4 @@
-//! Runs isohypse on a Cortex-M core under QEMU and measures it.
+//! Runs isohypse on a Cortex-M or RISC-V core under QEMU and measures it.
 //!
 //! 1. Computes the library's standard pressure -> height conversion and the one-line
 //!    sea-level power formula for the demo samples, and compares both with the values
@@ -6,12 +6,15 @@
 //!    1 mm). Any difference fails the run (semihosting exit with failure).
 //! 2. Counts instructions per call for each row of a table of (name, inputs, closure).
 //!    QEMU runs with `-icount shift=0`: every guest instruction advances virtual time
-//!    by exactly 1 ns, and SysTick, clocked from the core clock, counts virtual time.
-//!    The firmware calibrates instructions per tick with a closure of exactly 1000 `nop`
-//!    instructions, and subtracts the loop and call overhead measured with an identity
-//!    closure, so a row's figure is the instructions its closure adds per call.
+//!    by exactly 1 ns. The counter (`arch`: SysTick, clocked from the core clock, on
+//!    Cortex-M; the `mcycle` CSR, which QEMU derives from virtual time, on RISC-V)
+//!    counts virtual time. The firmware calibrates instructions per count with a
+//!    closure of exactly 1000 `nop` instructions, and subtracts the loop and call
+//!    overhead measured with an identity closure, so a row's figure is the instructions
+//!    its closure adds per call.
 //!
-//! Output goes to the host over semihosting; `run.sh` collects the tables.
+//! Output goes to the host over semihosting; `run.sh` collects the tables. What differs
+//! between the cores is in `arch`.
 
 #![no_std]
 #![no_main]
@@ -22,6 +25,7 @@
     allow(dead_code, unused_imports)
 )]
 mod demo;
+mod arch;
 mod flights;
 mod formulas;
 
@@ -32,21 +36,16 @@ mod samples {
 
 use core::hint::black_box;
 
-use cortex_m::peripheral::{Peripherals, SYST, syst::SystClkSource};
-use cortex_m_rt::entry;
-use cortex_m_semihosting::{debug, hprintln};
-use panic_semihosting as _;
+use arch::{entry, hprintln};
 
 use formulas::SAMPLE_COUNT;
 use samples::{HOST_BASELINE_M, HOST_LIBRARY_M, PRESSURES_PA, TROPOSPHERE_PA};
 
-/// Every row runs over all samples this many times (600 calls), so that the tick
-/// resolution (40 or 62.5 instructions) is well below 0.1 instruction per call.
+/// Every row runs over all samples this many times (600 calls), so that the counter's
+/// resolution (at most 62.5 instructions) is well below 0.1 instruction per call.
 const REPEATS: usize = 20;
 /// Largest accepted difference between the firmware's and the host's result, m.
 const TOLERANCE_M: f32 = 0.001;
-/// SysTick is a 24-bit down counter.
-const SYSTICK_MASK: u32 = 0x00FF_FFFF;
 
 #[cfg(feature = "micromath")]
 const BACKEND: &str = "micromath";
@@ -101,7 +100,7 @@ struct Row<'a> {
     library: bool,
 }
 
-/// SysTick ticks taken by `REPEATS` passes of `body` over `inputs`.
+/// Counts (`arch::counter`) taken by `REPEATS` passes of `body` over `inputs`.
 ///
 /// Never inlined, and `body` goes through `black_box`, so that every row runs the very
 /// same loop with an indirect call: otherwise the optimiser may specialise the loop for
@@ -109,28 +108,28 @@ struct Row<'a> {
 #[inline(never)]
 fn ticks(body: &mut dyn FnMut(f32) -> f32, inputs: &[f32; SAMPLE_COUNT]) -> u32 {
     let body = black_box(body);
-    let start = SYST::get_current();
+    let start = arch::counter();
     for _ in 0..REPEATS {
         for &x in inputs {
             black_box(body(black_box(x)));
         }
     }
-    let end = SYST::get_current();
-    start.wrapping_sub(end) & SYSTICK_MASK
+    let end = arch::counter();
+    arch::elapsed(start, end)
 }
 
 macro_rules! nop10 {
     () => {
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
-        cortex_m::asm::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
+        arch::nop();
     };
 }
 macro_rules! nop100 {
@@ -152,26 +151,14 @@ const CALIBRATION_NOPS: u32 = 1000;
 
 #[entry]
 fn main() -> ! {
-    let ok = run();
-    debug::exit(if ok {
-        debug::EXIT_SUCCESS
-    } else {
-        debug::EXIT_FAILURE
-    });
-    #[allow(clippy::empty_loop)]
-    loop {}
+    arch::exit(run())
 }
 
 fn run() -> bool {
-    let Some(mut peripherals) = Peripherals::take() else {
-        hprintln!("error: peripherals already taken");
+    if !arch::start_counter() {
+        hprintln!("error: the {} counter could not be started", arch::COUNTER_UNIT);
         return false;
-    };
-    let syst = &mut peripherals.SYST;
-    syst.set_clock_source(SystClkSource::Core);
-    syst.set_reload(SYSTICK_MASK);
-    syst.clear_current();
-    syst.enable_counter();
+    }
 
     hprintln!(
         "isohypse firmware on {} [{}], maths backend {}, opt-level {}",
@@ -261,7 +248,7 @@ fn check() -> bool {
 
 /// What the per-sample rows need from the calibration in `measure()`.
 pub struct Timing {
-    /// Instructions per SysTick tick (calibrated).
+    /// Instructions per count of the counter (calibrated).
     pub instructions_per_tick: f32,
     /// Instructions per call of the baseline formula (row 0).
     pub baseline: f32,
@@ -298,18 +285,18 @@ impl Timing {
     }
 }
 
-/// SysTick ticks taken by `calls` calls of `body(i)`, `i` = 0, 1, ... (one pass over a
+/// Counts taken by `calls` calls of `body(i)`, `i` = 0, 1, ... (one pass over a
 /// demo flight, in order: the rows keep state between calls). Never inlined, `body`
 /// behind `black_box`, as in `ticks`.
 #[inline(never)]
 fn demo_ticks(body: &mut dyn FnMut(usize) -> f32, calls: usize) -> u32 {
     let body = black_box(body);
-    let start = SYST::get_current();
+    let start = arch::counter();
     for i in 0..calls {
         black_box(body(black_box(i)));
     }
-    let end = SYST::get_current();
-    start.wrapping_sub(end) & SYSTICK_MASK
+    let end = arch::counter();
+    arch::elapsed(start, end)
 }
 
 /// `size_of` of every state type on this target, and the snapshot lengths.
@@ -409,7 +396,7 @@ fn measure() -> (bool, Timing) {
     let calls = (REPEATS * SAMPLE_COUNT) as u32;
     let per_tick = calibration.saturating_sub(empty);
     if per_tick == 0 {
-        hprintln!("error: SysTick does not count; cannot measure");
+        hprintln!("error: the {} counter does not count; cannot measure", arch::COUNTER_UNIT);
         let timing = Timing {
             instructions_per_tick: f32::NAN,
             baseline: f32::NAN,
@@ -422,16 +409,17 @@ fn measure() -> (bool, Timing) {
     let instructions_per_tick = (calls * CALIBRATION_NOPS) as f32 / per_tick as f32;
     hprintln!("");
     hprintln!(
-        "calibration: {} calls x {} nop = {} ticks -> {:.3} instructions per SysTick tick \
-         (expected {}: 1 ns per instruction, SysTick at the {} core clock)",
+        "calibration: {} calls x {} nop = {} counts -> {:.3} instructions per {} \
+         (expected {}: 1 ns per instruction, {})",
         calls,
         CALIBRATION_NOPS,
         per_tick,
         instructions_per_tick,
+        arch::COUNTER_UNIT,
         samples::NOMINAL_INSTRUCTIONS_PER_TICK,
         env!("FIRMWARE_CLOCK")
     );
-    // One tick either way over the calibration run is 1/15000 or 1/9600; 0.1 % means the
+    // One count either way over the calibration run is at most 1/9600; 0.1 % means the
     // clock or the instruction counting is not what the figures assume.
     let nominal = samples::NOMINAL_INSTRUCTIONS_PER_TICK;
     let calibrated = libm::fabsf(instructions_per_tick - nominal) <= 1.0e-3 * nominal;

@@ -23,9 +23,12 @@
 
 use core::hint::black_box;
 
-use cortex_m_rt::entry;
-use cortex_m_semihosting::debug;
-use panic_semihosting as _;
+/// Start-up, exit and the panic handler of each core (shared with the measuring firmware).
+#[path = "../arch/mod.rs"]
+#[allow(dead_code, unused_imports)]
+mod arch;
+
+use arch::entry;
 
 use isohypse::time::Instant;
 use isohypse::uses::Sample;
@@ -64,9 +67,7 @@ fn lib_process_probe(drone: &mut Drone<'static>, sample: &Sample) -> Output<Dron
 fn main() -> ! {
     #[cfg(not(feature = "probe-empty"))]
     let Ok(mut drone) = Drone::new(&SETTINGS) else {
-        debug::exit(debug::EXIT_FAILURE);
-        #[allow(clippy::empty_loop)]
-        loop {}
+        arch::exit(false)
     };
     for i in 0..N {
         let mut sample = Sample::pressure(
@@ -79,7 +80,5 @@ fn main() -> ! {
         #[cfg(feature = "probe-empty")]
         black_box(sample);
     }
-    debug::exit(debug::EXIT_SUCCESS);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    arch::exit(true)
 }
