@@ -3,10 +3,13 @@
 
 Usage:
     qemu-system-arm <machine args> -semihosting-config enable=on,target=native \\
-        -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr -kernel FW.elf \\
+        -icount shift=0 -accel tcg,one-insn-per-tb=on -d exec,nochain -D /dev/stderr \\
+        -kernel FW.elf \\
         2>&1 >/dev/null | profile.py FW.elf WINDOW CALLS [TOP [SKIP]]
 
-With `-singlestep -d exec,nochain` QEMU logs every guest instruction it executes
+(qemu-system-riscv32 for RISC-V; QEMU before 8.1 takes `-singlestep` instead of
+`-accel tcg,one-insn-per-tb=on`.) With one instruction per translation block and
+`-d exec,nochain` QEMU logs every guest instruction it executes
 ("Trace ...: [flags/PC/...]"). This script maps each PC to the function symbol that holds
 it (from the ELF symbol table, no binutils needed) and counts instructions while the
 program is inside WINDOW: from an instruction in a function whose name is WINDOW
@@ -32,7 +35,8 @@ TRACE = re.compile(r"Trace \d+: \S+ \[[0-9a-f]+/([0-9a-f]+)/")
 
 
 def functions(path):
-    """Sorted (start, size, name) of the function symbols of a 32-bit ARM ELF file."""
+    """Sorted (start, size, name) of the function symbols of a 32-bit ELF file (the
+    Thumb bit of ARM function addresses cleared; RISC-V addresses are even already)."""
     return sorted((value & ~1, size, name)
                   for name, value, size, info, _shndx in symbol_table(path)
                   if info & 0xF == 2 and size)  # STT_FUNC

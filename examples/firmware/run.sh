@@ -308,6 +308,11 @@ python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
 # the drone-only build (the check's 200 calls after its 2 000-sample warm-up), the
 # balloon from the full build (400 calls: the check and the measured row). About a
 # minute per core.
+# One guest instruction per translation block, so that QEMU logs each one: `-accel
+# tcg,one-insn-per-tb=on` from QEMU 8.1 on, `-singlestep` before.
+one_insn() {
+    if "$1" --help | grep -q one-insn-per-tb; then echo "-accel tcg,one-insn-per-tb=on"; else echo "-singlestep"; fi
+}
 if [ "${PROFILE:-0}" = 1 ]; then
     for backend in $BACKENDS; do
         for target in $TARGETS; do
@@ -320,7 +325,7 @@ if [ "${PROFILE:-0}" = 1 ]; then
                 timeout 900 "$(qemu_bin "$target")" $(qemu_args "$target") \
                     -nographic -monitor none -serial none \
                     -semihosting-config enable=on,target=native \
-                    -icount shift=0 -singlestep -d exec,nochain -D /dev/stderr \
+                    -icount shift=0 $(one_insn "$(qemu_bin "$target")") -d exec,nochain -D /dev/stderr \
                     -kernel "$elf" 2>&1 >/dev/null |
                     python3 "$here/profile.py" "$elf" "$window" "$calls" 25 "$skip" |
                     { if command -v c++filt >/dev/null; then c++filt; else cat; fi; } |
