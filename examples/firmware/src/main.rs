@@ -20,12 +20,12 @@
 #![no_main]
 #![deny(unsafe_code)]
 
+mod arch;
 #[cfg_attr(
     any(feature = "drone-only", feature = "baseline-only"),
     allow(dead_code, unused_imports)
 )]
 mod demo;
-mod arch;
 mod flights;
 mod formulas;
 
@@ -156,7 +156,10 @@ fn main() -> ! {
 
 fn run() -> bool {
     if !arch::start_counter() {
-        hprintln!("error: the {} counter could not be started", arch::COUNTER_UNIT);
+        hprintln!(
+            "error: the {} counter could not be started",
+            arch::COUNTER_UNIT
+        );
         return false;
     }
 
@@ -396,7 +399,10 @@ fn measure() -> (bool, Timing) {
     let calls = (REPEATS * SAMPLE_COUNT) as u32;
     let per_tick = calibration.saturating_sub(empty);
     if per_tick == 0 {
-        hprintln!("error: the {} counter does not count; cannot measure", arch::COUNTER_UNIT);
+        hprintln!(
+            "error: the {} counter does not count; cannot measure",
+            arch::COUNTER_UNIT
+        );
         let timing = Timing {
             instructions_per_tick: f32::NAN,
             baseline: f32::NAN,
