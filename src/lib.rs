@@ -163,3 +163,8 @@ pub mod uses;
 
 pub use error::Error;
 pub use units::{Height, Pressure, RelativeHumidity, Temperature, VerticalSpeed};
+
+/// The README's Rust examples, compiled and run as doctests.
+#[cfg(doctest)]
+#[doc = include_str!("../README.md")]
+pub struct ReadmeExamples;
