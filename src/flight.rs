@@ -99,6 +99,14 @@ pub struct PhaseSettings {
     pub float_debounce_s: f32,
     /// Time at rest after descent to be landed, s.
     pub landed_debounce_s: f32,
+    /// Start in flight, not on the ground: the tracker begins level ([`Phase::Float`]:
+    /// a balloon's float, a drone's holding, a walk's level) and moves on with the
+    /// motion, with no ground phase; a use type then takes no ground or launch
+    /// reference (heights start as its altimeter setting gives them). For a device
+    /// switched on in the air or already on the trail. Without it, a tracker that
+    /// starts on the ground still turns to ascent or descent on its own when the first
+    /// samples move.
+    pub start_in_flight: bool,
 }
 
 impl PhaseSettings {
@@ -112,6 +120,7 @@ impl PhaseSettings {
         burst_debounce_s: 3.0,
         float_debounce_s: 60.0,
         landed_debounce_s: 30.0,
+        start_in_flight: false,
     };
     /// Small drones: faster reactions, no burst in practice (set very high; values a
     /// choice of this crate).
@@ -124,6 +133,7 @@ impl PhaseSettings {
         burst_debounce_s: 0.5,
         float_debounce_s: 1.0,
         landed_debounce_s: 2.0,
+        start_in_flight: false,
     };
     /// Walking: slow vertical speeds (a steep trail climbs 0.1-0.3 m/s; common
     /// practice, thresholds a choice of this crate).
@@ -136,6 +146,7 @@ impl PhaseSettings {
         burst_debounce_s: 60.0,
         float_debounce_s: 120.0,
         landed_debounce_s: 600.0,
+        start_in_flight: false,
     };
 
     /// Check the documented ranges.
@@ -234,7 +245,11 @@ impl PhaseCore {
             event_phase: None,
             event_m: 0.0,
             event_held_s: 0.0,
-            phase: Phase::Ground,
+            phase: if settings.start_in_flight {
+                Phase::Float
+            } else {
+                Phase::Ground
+            },
         })
     }
 

@@ -827,6 +827,7 @@ fn states_strategy() -> impl Strategy<Value = PhaseSettings> {
             burst_debounce_s: b.1,
             float_debounce_s: b.2,
             landed_debounce_s: b.3,
+            start_in_flight: b.3 > 450.0,
         })
         .prop_filter("valid state thresholds", |s| s.validate().is_ok())
 }

@@ -294,3 +294,94 @@ fn an_absurd_known_elevation_is_ignored() {
     s.known_altitude_m = Some(z as f32 + 40.0);
     assert!(b.process(&s).flags.contains(Flags::FIX_APPLIED));
 }
+
+#[test]
+fn a_device_switched_on_in_flight_starts_level_and_follows_the_motion() {
+    // `start_in_flight`: no ground phase, no ground or launch reference. A balloon
+    // switched on at 20 km (a restart in flight) climbing at 5 m/s; a drone switched on
+    // hovering at 120 m that then climbs at 2 m/s; a walk switched on at 1 500 m that
+    // then climbs at 0.2 m/s.
+    use isohypse::flight::PhaseSettings;
+    use isohypse::uses::{BalloonState, DroneState, Walk, WalkSettings, WalkState};
+    let balloon_settings = BalloonSettings {
+        launch_altitude_m: Some(300.0),
+        states: PhaseSettings {
+            start_in_flight: true,
+            ..PhaseSettings::BALLOON
+        },
+        ..BalloonSettings::DEFAULT
+    };
+    let mut b = Balloon::<64>::new(&balloon_settings).unwrap();
+    let first = b.process(&balloon_sample(0, 20_000.0, 0.0));
+    assert_eq!(first.state, BalloonState::Float);
+    assert!(first.flags.contains(Flags::STARTED_IN_AIR));
+    assert!(!first.flags.contains(Flags::GROUND_AVERAGING));
+    let mut last = first;
+    for k in 1..120 {
+        last = b.process(&balloon_sample(k, 20_000.0 + 5.0 * k as f64, 0.0));
+    }
+    assert_eq!(last.state, BalloonState::Ascent);
+    let truth = 20_000.0 + 5.0 * 119.0;
+    assert!(
+        (f64::from(last.altitude_m) - truth).abs() < 1.0,
+        "{}",
+        last.altitude_m
+    );
+
+    let drone_settings = DroneSettings {
+        states: PhaseSettings {
+            start_in_flight: true,
+            ..PhaseSettings::DRONE
+        },
+        ..DroneSettings::DEFAULT
+    };
+    let mut d = Drone::new(&drone_settings).unwrap();
+    let at = |k: u64| Instant::from_millis(20 * k);
+    let drone_z = |k: u64| {
+        120.0
+            + if k > 100 {
+                0.04 * (k - 100) as f64
+            } else {
+                0.0
+            }
+    };
+    let first = d.process(&Sample::pressure(at(0), pressure_at(drone_z(0))));
+    assert_eq!(first.state, DroneState::Holding);
+    assert!(!first.flags.contains(Flags::GROUND_AVERAGING));
+    let mut states = Vec::new();
+    for k in 1..300 {
+        let o = d.process(&Sample::pressure(at(k), pressure_at(drone_z(k))));
+        states.push(o.state);
+    }
+    assert!(states.contains(&DroneState::Climbing), "{states:?}");
+    assert!(!states.contains(&DroneState::OnGround));
+
+    let walk_settings = WalkSettings {
+        states: PhaseSettings {
+            start_in_flight: true,
+            ..PhaseSettings::HIKE
+        },
+        ..WalkSettings::DEFAULT
+    };
+    let mut w = Walk::new(&walk_settings).unwrap();
+    let walk_z = |k: u64| 1_500.0 + if k > 600 { 0.2 * (k - 600) as f64 } else { 0.0 };
+    let first = w.process(&Sample::pressure(
+        Instant::from_secs(0),
+        pressure_at(walk_z(0)),
+    ));
+    assert_ne!(first.state, WalkState::NotStarted);
+    let mut last = first;
+    for k in 1..1_800 {
+        last = w.process(&Sample::pressure(
+            Instant::from_secs(k),
+            pressure_at(walk_z(k)),
+        ));
+    }
+    assert_eq!(last.state, WalkState::Climbing);
+    // the climb of 1 200 s at 0.2 m/s is counted: no ground phase to wait through
+    assert!(
+        (last.ascent_m - 240.0).abs() < 10.0,
+        "ascent {}",
+        last.ascent_m
+    );
+}

@@ -526,12 +526,14 @@ impl<'a, const N: usize> Balloon<'a, N> {
         self.ground.as_ref().map_or(0.0, |g| g.start_m)
     }
 
-    /// Whether this sample is the first of a balloon already in the air: the launch
-    /// reference has taken nothing yet, and the pressure altitude lies more than
-    /// [`LAUNCH_AGREES_M`] from the launch altitude of the settings. Errors: those of
+    /// Whether this sample is the first of a balloon already in the air: the settings
+    /// say so (`states.start_in_flight`), or the launch reference has taken nothing yet
+    /// and the pressure altitude lies more than [`LAUNCH_AGREES_M`] from the launch
+    /// altitude of the settings. Errors: those of
     /// the standard atmosphere for a pressure beyond it.
     fn starts_in_air(&self, p: Pressure) -> Result<bool, Error> {
         match &self.ground {
+            Some(_) if self.settings.states.start_in_flight => Ok(true),
             Some(g) if !g.frozen && g.reference.sample_count() == 0 => {
                 let (std_m, _) = standard_height(p, AltimeterSetting::Standard)?;
                 Ok((std_m - g.start_m).abs() > LAUNCH_AGREES_M)
