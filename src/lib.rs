@@ -154,6 +154,9 @@ pub mod sensor;
 #[cfg(feature = "embedded-hal-async")]
 #[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal-async")))]
 pub mod sensor_async;
+#[cfg(feature = "embedded-hal")]
+#[cfg_attr(docsrs, doc(cfg(feature = "embedded-hal")))]
+pub mod sensor_poll;
 pub mod snapshot;
 pub mod sounding;
 pub mod time;

@@ -423,3 +423,58 @@ mod asynchronous {
         bus.done();
     }
 }
+
+#[test]
+fn the_polling_driver_never_waits_and_feeds_a_walk() {
+    // The LPS22HB one-shot script above, driven by `sensor_poll::PollingDriver` from a
+    // loop that calls it every 10 ms: the start, two fetches that find the conversion
+    // not done (each call returns at once with nothing), the fetch that feeds the walk,
+    // then nothing until the next start is due one period (1 s) after the first.
+    use isohypse::sensor_poll::PollingDriver;
+    use isohypse::time::Instant;
+    use isohypse::uses::{Walk, WalkSettings};
+    let expected = [
+        Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
+        Transaction::write(LPS, vec![0x10, 0x00]),
+        Transaction::write_read(LPS, vec![0x1A], vec![0b10]),
+        Transaction::write(LPS, vec![0x1A, 0b11]),
+        Transaction::write(LPS, vec![0x11, 0x10]),
+        Transaction::write(LPS, vec![0x10, 0b0000_1010]),
+        Transaction::write(LPS, vec![0x11, 0x11]), // start at t = 0
+        Transaction::write_read(LPS, vec![0x27], vec![0x00]), // 10 ms: not yet
+        Transaction::write_read(LPS, vec![0x27], vec![0x01]), // 20 ms: not yet
+        Transaction::write_read(LPS, vec![0x27], vec![0x03]), // 30 ms: ready
+        Transaction::write_read(LPS, vec![0x28], vec![0x00, 0x80, 0x3F, 0x18, 0xFC]),
+        Transaction::write(LPS, vec![0x11, 0x11]), // the next start at t = 1 s
+    ];
+    let mut bus = Mock::new(&expected);
+    let mut part = Lps22::new(&mut bus, LPS);
+    part.probe().unwrap();
+    part.configure(Lps22Config {
+        rate: OutputRate::OneShot,
+        low_pass: LowPass::OdrOver9,
+        power: PowerMode::LowCurrent,
+    })
+    .unwrap();
+    let walk = Walk::new(&WalkSettings::DEFAULT).unwrap();
+    let mut driver = PollingDriver::new(part, walk, 1_000_000);
+    let mut fed = Vec::new();
+    for ms in (0..=1_000u64).step_by(10) {
+        if let Some(out) = driver.poll(Instant::from_millis(ms)).unwrap() {
+            fed.push((ms, out));
+        }
+    }
+    assert_eq!(fed.len(), 1);
+    let (ms, out) = fed[0];
+    assert_eq!(ms, 30, "fed when fetched");
+    assert_eq!(out.time, Instant::from_millis(30));
+    // 1016 hPa through the walk's standard atmosphere: a little below sea level
+    assert!(
+        out.altitude_m < 0.0 && out.altitude_m > -50.0,
+        "{}",
+        out.altitude_m
+    );
+    assert_eq!(driver.bus_errors(), 0);
+    let _ = driver.release();
+    bus.done();
+}
