@@ -80,21 +80,31 @@ def main(argv):
     # Match the mangled path component (length prefix + name), so that the window
     # `lib_process_drone` does not also take in `lib_process_drone_reuse`.
     component = f"{len(window)}{window}"
+    names = {}  # program counter -> function name, filled as the trace goes
     for line in sys.stdin:
         m = TRACE.search(line)
         if not m:
             continue
         pc = int(m.group(1), 16)
-        i = bisect.bisect_right(starts, pc) - 1
-        name = funcs[i][2] if i >= 0 and pc < funcs[i][0] + funcs[i][1] else "?"
+        name = names.get(pc)
+        if name is None:
+            i = bisect.bisect_right(starts, pc) - 1
+            name = funcs[i][2] if i >= 0 and pc < funcs[i][0] + funcs[i][1] else "?"
+            names[pc] = name
         if component in name:
             if not inside:
                 entries += 1
+                if entries > skip + calls:
+                    break
             inside = True
         elif "isohypse_firmware" in name:
             inside = False
         if inside and skip < entries <= skip + calls:
             counts[name] += 1
+    # The rest of the trace is not needed: read it without parsing, so that QEMU runs to
+    # its end.
+    while sys.stdin.buffer.read(1 << 20):
+        pass
     total = sum(counts.values())
     print(f"instructions inside {window}: {total} in {calls} calls = {total / calls:.1f} per call")
     groups = collections.Counter()
