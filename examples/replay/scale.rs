@@ -51,7 +51,7 @@ impl Scale {
 
     /// A time tick's label: h:mm for hours, else a number.
     pub(crate) fn time_label(&self, units: f64) -> String {
-        if !self.in_hours() {
+        if !self.in_hours() || units.abs() >= 1.0e5 {
             return number_label(units);
         }
         let minutes = (units * 60.0).round();
@@ -64,13 +64,19 @@ impl Scale {
     }
 }
 
-/// A tick label: the shortest of 0 to 3 decimals that shows the value to a thousandth,
-/// "0" for anything that rounds to zero (never "-0").
+/// A tick label: the shortest of 0 to 6 decimals that shows the value to a millionth
+/// (ticks are round numbers, so this is their own length; a narrow range in km keeps
+/// its ticks apart),
+/// "0" for anything that rounds to zero (never "-0"); scientific notation from a
+/// million on.
 pub(crate) fn number_label(v: f64) -> String {
     if !v.is_finite() {
         return String::new();
     }
-    let text = format!("{v:.3}");
+    if v.abs() >= 1.0e6 {
+        return format!("{v:.2e}");
+    }
+    let text = format!("{v:.6}");
     let text = text.trim_end_matches('0').trim_end_matches('.');
     if text == "-0" || text.is_empty() {
         "0".to_string()
@@ -79,11 +85,16 @@ pub(crate) fn number_label(v: f64) -> String {
     }
 }
 
-/// Elapsed time of `t` s since `t0` s, h:mm:ss (the summary's times).
+/// Elapsed time of `t` s since `t0` s, h:mm:ss (the summary's times); beyond 100 000
+/// hours (a time column that is not seconds since a start), seconds in scientific
+/// notation.
 pub(crate) fn clock(t: f64, t0: f64) -> String {
     let s = (t - t0).round();
     if !s.is_finite() {
         return "?".to_string();
+    }
+    if s.abs() >= 3.6e8 {
+        return format!("{s:.3e} s after the first row");
     }
     let sign = if s < 0.0 { "-" } else { "" };
     let s = s.abs() as u64;

@@ -234,10 +234,21 @@ pub(crate) fn slow_log_note(settings: &Settings, stats: &Stats) -> Option<String
     let median = stats.steps.median()?;
     (median > f64::from(max_step_s)).then(|| {
         format!(
-            "note: the median step between barometer rows is {median:.3} s, longer than this \
+            "note: the median step between barometer rows is {} s, longer than this \
              preset's dropout step ({max_step_s} s): the filter re-acquires at nearly every \
              sample, so heights are unfiltered and speeds not estimated; a preset for slower \
-             logs (--preset balloon or hike) suits this log"
+             logs (--preset balloon or hike) suits this log",
+            seconds_text(median)
         )
     })
+}
+
+/// A duration in seconds for a message: three decimals, or scientific notation beyond a
+/// million seconds (a time column that is not seconds).
+fn seconds_text(s: f64) -> String {
+    if s.abs() < 1.0e6 {
+        format!("{s:.3}")
+    } else {
+        format!("{s:.3e}")
+    }
 }
