@@ -42,7 +42,7 @@ use formulas::SAMPLE_COUNT;
 use samples::{HOST_BASELINE_M, HOST_LIBRARY_M, PRESSURES_PA, TROPOSPHERE_PA};
 
 /// Every row runs over all samples this many times (600 calls), so that the counter's
-/// resolution (at most 62.5 instructions) is well below 0.1 instruction per call.
+/// resolution (at most 62.5 instructions) is about 0.1 instruction per call or less.
 const REPEATS: usize = 20;
 /// Largest accepted difference between the firmware's and the host's result, m.
 const TOLERANCE_M: f32 = 0.001;
@@ -156,10 +156,7 @@ fn main() -> ! {
 
 fn run() -> bool {
     if !arch::start_counter() {
-        hprintln!(
-            "error: the {} counter could not be started",
-            arch::COUNTER_UNIT
-        );
+        hprintln!("error: the counter could not be started");
         return false;
     }
 
