@@ -50,14 +50,12 @@ async fn main(_spawner: Spawner) {
     // TWIM copies data that is not in RAM through this buffer; the driver's writes are
     // at most two bytes.
     let mut tx_buffer = [0_u8; 8];
-    let bus = Twim::new(
-        p.TWISPI0,
-        Irqs,
-        p.P0_26,
-        p.P0_27,
-        twim::Config::default(),
-        &mut tx_buffer,
-    );
+    // 100 kHz; the nRF's internal pull-ups on, for a part without its own (breakout
+    // boards usually have them).
+    let mut config = twim::Config::default();
+    config.sda_pullup = true;
+    config.scl_pullup = true;
+    let bus = Twim::new(p.TWISPI0, Irqs, p.P0_26, p.P0_27, config, &mut tx_buffer);
     let mut part = Bme280Async::new(bus, bme280::ADDRESS_SDO_LOW);
     let mut walk = match Walk::new(&SETTINGS) {
         Ok(walk) => walk,
