@@ -306,8 +306,9 @@ python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"
 # PROFILE=1: re-runs the firmware with QEMU's per-instruction trace and prints a flat
 # profile of `Drone::process` and `Balloon::<64>::process` (profile.py): the drone from
 # the drone-only build (the check's 200 calls after its 2 000-sample warm-up), the
-# balloon from the full build (400 calls: the check and the measured row). About a
-# minute per core.
+# balloon from the full build (400 calls: the check and the measured row). QEMU writes
+# a line per instruction: a few minutes per trace on the Cortex-M4F and M33, up to
+# 17 minutes on the Cortex-M0 (PROFILE_TIMEOUT, default 2700 s, per trace).
 # One guest instruction per translation block, so that QEMU logs each one: `-accel
 # tcg,one-insn-per-tb=on` from QEMU 8.1 on, `-singlestep` before.
 one_insn() {
@@ -322,7 +323,7 @@ if [ "${PROFILE:-0}" = 1 ]; then
                 [ "$variant" = elf ] || elf="$out/$target-$backend-$variant.elf"
                 say "profile of $window ($(core_name "$target"), $backend)"
                 # shellcheck disable=SC2046
-                timeout 900 "$(qemu_bin "$target")" $(qemu_args "$target") \
+                timeout "${PROFILE_TIMEOUT:-2700}" "$(qemu_bin "$target")" $(qemu_args "$target") \
                     -nographic -monitor none -serial none \
                     -semihosting-config enable=on,target=native \
                     -icount shift=0 $(one_insn "$(qemu_bin "$target")") -d exec,nochain -D /dev/stderr \
