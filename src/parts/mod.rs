@@ -23,7 +23,11 @@
 //! block cannot use; the LPS22HB's crate (`lps22hb` 0.1.0) is on embedded-hal 0.2. The
 //! LPS22HH has ST's own embedded-hal 1.0 crate (`lps22hh-rs` 2.1.0); the driver here
 //! covers it too because the two variants share every register it uses. Both drivers
-//! are small, start-then-fetch, and never panic.
+//! are small, start-then-fetch, and never panic. The MS5607 / MS5611 / MS5637 have a
+//! maintained embedded-hal 1.0 crate (`ms56xx` 0.1.1), fed through the adapter of
+//! feature `ms56xx`. The BMP390's crate (`bmp390` 0.4.0) has no adapter here: it
+//! depends on `uom` and on `defmt` 0.3 whatever its features (this crate's `defmt`
+//! feature is 1.x), which every user of the adapter would build.
 //!
 //! ```
 //! use embedded_hal_mock::eh1::i2c::{Mock, Transaction};
