@@ -32,12 +32,9 @@ bind_interrupts!(struct Irqs {
 /// The part's setting: temperature x1, pressure x4, humidity x1, no filter.
 const PART_CONFIG: Bme280Config = Bme280Config::DEFAULT;
 
-/// The walk's settings, in flash: the preset with the BME280's pressure range.
-static SETTINGS: WalkSettings = WalkSettings {
-    min_pressure_pa: bme280::DESCRIPTION.pressure_min_pa,
-    max_pressure_pa: bme280::DESCRIPTION.pressure_max_pa,
-    ..WalkSettings::DEFAULT
-};
+/// The walk's settings, in flash: the preset with the BME280's pressure range and its
+/// noise at this setting.
+static SETTINGS: WalkSettings = WalkSettings::DEFAULT.with_part(&bme280::describe(&PART_CONFIG));
 
 /// One sample a second.
 const PERIOD: Duration = Duration::from_secs(1);
