@@ -159,23 +159,13 @@ impl<S: ConvertingSensor, U: Use> PollingDriver<S, U> {
     }
 }
 
-/// A part's reading as the sensor layer's: its temperature is the die's.
-fn part_reading(r: crate::parts::PartReading) -> Reading {
-    Reading {
-        pressure_pa: r.pressure_pa,
-        sensor_temperature_c: Some(r.die_temperature_c),
-        air_temperature_c: None,
-        humidity_pct: r.humidity_pct,
-    }
-}
-
 impl<I: embedded_hal::i2c::I2c> ConvertingSensor for crate::parts::bme280::Bme280<I> {
     type Error = crate::parts::PartError<I::Error>;
     fn start(&mut self) -> Result<(), Self::Error> {
         crate::parts::bme280::Bme280::start(self)
     }
     fn fetch(&mut self) -> Result<Option<Reading>, Self::Error> {
-        crate::parts::bme280::Bme280::fetch(self).map(|r| r.map(part_reading))
+        crate::parts::bme280::Bme280::fetch(self).map(|r| r.map(|r| r.to_reading()))
     }
 }
 
@@ -185,6 +175,6 @@ impl<I: embedded_hal::i2c::I2c> ConvertingSensor for crate::parts::lps22::Lps22<
         crate::parts::lps22::Lps22::start(self)
     }
     fn fetch(&mut self) -> Result<Option<Reading>, Self::Error> {
-        crate::parts::lps22::Lps22::fetch(self).map(|r| r.map(part_reading))
+        crate::parts::lps22::Lps22::fetch(self).map(|r| r.map(|r| r.to_reading()))
     }
 }

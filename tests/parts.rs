@@ -395,6 +395,81 @@ mod asynchronous {
         bus.done();
     }
 
+    /// An async timer that counts what it was asked to wait, in microseconds.
+    struct Waits(u64);
+    impl embedded_hal_async::delay::DelayNs for Waits {
+        async fn delay_ns(&mut self, ns: u32) {
+            self.0 += u64::from(ns / 1_000);
+        }
+    }
+
+    #[test]
+    fn a_paced_part_is_one_reading_per_call() {
+        // `parts::paced::Paced`: start, the part's longest conversion time awaited on
+        // the timer (one-shot low-noise LPS22HB: 13 334 us, `lps22::describe`), then a
+        // fetch that finds it not done yet, a millisecond, the fetch that has it.
+        use isohypse::parts::paced::Paced;
+        use isohypse::sensor_async::AsyncBarometricSensor;
+        let expected = [
+            Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
+            Transaction::write(LPS, vec![0x10, 0x00]),
+            Transaction::write_read(LPS, vec![0x1A], vec![0x00]),
+            Transaction::write(LPS, vec![0x1A, 0x00]),
+            Transaction::write(LPS, vec![0x11, 0x10]),
+            Transaction::write(LPS, vec![0x10, 0x02]),
+            Transaction::write(LPS, vec![0x11, 0x11]),
+            Transaction::write_read(LPS, vec![0x27], vec![0x00]),
+            Transaction::write_read(LPS, vec![0x27], vec![0x03]),
+            Transaction::write_read(LPS, vec![0x28], vec![0x00, 0x80, 0x3F, 0xD2, 0x04]),
+        ];
+        let mut bus = Mock::new(&expected);
+        let mut part = Lps22Async::new(AsyncBus(&mut bus), LPS);
+        let (reading, waited) = block_on(async {
+            part.probe().await.unwrap();
+            part.configure(Lps22Config::DEFAULT).await.unwrap();
+            let conversion = part.description().unwrap().conversion_time_us;
+            let mut paced = Paced::new(part, Waits(0));
+            let reading = paced.read().await.unwrap();
+            let (part, waits) = paced.release();
+            part.release();
+            (reading, (waits.0, conversion))
+        });
+        bus.done();
+        assert_eq!(reading.pressure_pa, 101_600.0);
+        assert_eq!(reading.sensor_temperature_c, Some(12.34));
+        assert_eq!(reading.air_temperature_c, None);
+        assert_eq!(waited.0, u64::from(waited.1) + 1_000);
+    }
+
+    #[test]
+    fn a_conversion_that_never_comes_is_not_ready() {
+        use isohypse::parts::paced::Paced;
+        use isohypse::sensor_async::AsyncBarometricSensor;
+        let mut expected = vec![
+            Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
+            Transaction::write(LPS, vec![0x10, 0x00]),
+            Transaction::write_read(LPS, vec![0x1A], vec![0x00]),
+            Transaction::write(LPS, vec![0x1A, 0x00]),
+            Transaction::write(LPS, vec![0x11, 0x10]),
+            Transaction::write(LPS, vec![0x10, 0x02]),
+            Transaction::write(LPS, vec![0x11, 0x11]),
+        ];
+        // a status that never says ready: the first fetch and 100 more
+        expected.extend((0..101).map(|_| Transaction::write_read(LPS, vec![0x27], vec![0x00])));
+        let mut bus = Mock::new(&expected);
+        let mut part = Lps22Async::new(AsyncBus(&mut bus), LPS);
+        let result = block_on(async {
+            part.probe().await.unwrap();
+            part.configure(Lps22Config::DEFAULT).await.unwrap();
+            let mut paced = Paced::new(part, Waits(0));
+            let result = paced.read().await;
+            paced.release().0.release();
+            result
+        });
+        bus.done();
+        assert_eq!(result, Err(PartError::NotReady));
+    }
+
     #[test]
     fn lps22hb_async_same_script() {
         let expected = [

@@ -63,6 +63,8 @@ pub mod lps22;
 #[cfg(feature = "ms56xx")]
 #[cfg_attr(docsrs, doc(cfg(feature = "ms56xx")))]
 pub mod ms56xx;
+#[cfg(feature = "embedded-hal-async")]
+pub mod paced;
 
 pub use crate::part::PartDescription;
 
@@ -77,6 +79,19 @@ pub struct PartReading {
     /// Relative humidity over water, % (`None` for a part without humidity or with the
     /// humidity channel switched off).
     pub humidity_pct: Option<f32>,
+}
+
+impl PartReading {
+    /// The reading as the sensor layer takes it: the die temperature goes to
+    /// `sensor_temperature_c`, never to the air's.
+    pub const fn to_reading(&self) -> crate::sensor::Reading {
+        crate::sensor::Reading {
+            pressure_pa: self.pressure_pa,
+            sensor_temperature_c: Some(self.die_temperature_c),
+            air_temperature_c: None,
+            humidity_pct: self.humidity_pct,
+        }
+    }
 }
 
 /// Why a driver call failed. After an error the driver's own state is as it was before
@@ -107,6 +122,9 @@ pub enum PartError<E> {
     /// The compensation refused this sample: an intermediate value left the range the
     /// datasheet's arithmetic allows (only possible with corrupt data).
     Compensation,
+    /// A conversion was still not done well after the part's longest conversion time
+    /// (`paced::Paced`).
+    NotReady,
 }
 
 /// Two bytes, least significant first, as an unsigned word.
