@@ -118,20 +118,30 @@ core_name() {
     esac
 }
 
-# build TARGET NAME CARGO-FEATURE-ARGS...: builds and copies the ELF to $out/NAME.elf
+# build TARGET NAME CARGO-FEATURE-ARGS...: builds the measuring firmware and copies the
+# ELF to $out/NAME.elf
 build() {
     local target="$1" name="$2"
     shift 2
-    cargo build --quiet --release --target "$target" "$@"
+    cargo build --quiet --release --target "$target" --bin isohypse-firmware "$@"
     cp "$CARGO_TARGET_DIR/$target/release/isohypse-firmware" "$out/$name.elf"
 }
 
-# build_probe TARGET NAME CARGO-FEATURE-ARGS...: the flash probe (src/bin/probe.rs)
-build_probe() {
-    local target="$1" name="$2"
-    shift 2
-    cargo build --quiet --release --target "$target" --bin probe "$@"
-    cp "$CARGO_TARGET_DIR/$target/release/probe" "$out/$name.elf"
+# The flash probes (src/bin/probe.rs, probe_balloon.rs, probe_walk.rs): one use type each.
+PROBES="probe probe_balloon probe_walk"
+
+# build_probes TARGET NAME SUFFIX BIN... -- CARGO-FEATURE-ARGS...: builds the probes BIN
+# in one cargo call and copies each ELF to $out/NAME-BIN$SUFFIX.elf ("_" in BIN as "-":
+# NAME-probe.elf, NAME-probe-balloon.elf, ...)
+build_probes() {
+    local target="$1" name="$2" suffix="$3" bins=() b
+    shift 3
+    while [ "$1" != -- ]; do bins+=("$1"); shift; done
+    shift
+    cargo build --quiet --release --target "$target" "${bins[@]/#/--bin=}" "$@"
+    for b in "${bins[@]}"; do
+        cp "$CARGO_TARGET_DIR/$target/release/$b" "$out/$name-${b//_/-}$suffix.elf"
+    done
 }
 
 # run_elf TARGET ELF LOG: runs ELF on the target's QEMU board with the instruction count
@@ -169,14 +179,15 @@ for backend in $BACKENDS; do
         # shellcheck disable=SC2046
         build "$target" "$name-size-baseline" --no-default-features --features baseline-only \
             $(features_for "$backend")
-        # shellcheck disable=SC2046
-        build_probe "$target" "$name-probe" --no-default-features $(features_for "$backend")
-        # shellcheck disable=SC2046
-        build_probe "$target" "$name-probe-empty" --no-default-features --features probe-empty \
+        # shellcheck disable=SC2046,SC2086
+        build_probes "$target" "$name" "" $PROBES -- --no-default-features \
             $(features_for "$backend")
+        # shellcheck disable=SC2046,SC2086
+        build_probes "$target" "$name" -empty $PROBES -- --no-default-features \
+            --features probe-empty $(features_for "$backend")
         # shellcheck disable=SC2046
-        build_probe "$target" "$name-probe-reuse" --no-default-features --features probe-reuse \
-            $(features_for "$backend")
+        build_probes "$target" "$name" -reuse probe -- --no-default-features \
+            --features probe-reuse $(features_for "$backend")
 
         say "run $name on QEMU ($(core_name "$target"))"
         for attempt in 1 2; do
@@ -207,15 +218,18 @@ for backend in $BACKENDS; do
             status=1
         fi
 
-        # The flash probe runs its eight samples through the drone and exits.
-        run_elf "$target" "$out/$name-probe.elf" "$out/$name-probe.run.txt"
-        if [ "$rc" != 0 ]; then
-            cat "$out/$name-probe.run.txt" >&2
-            echo "FAIL: $name-probe exited with status $rc (124 = timeout)" >&2
-            status=1
-        else
-            echo "flash probe ($name): ran, exit status 0"
-        fi
+        # Each flash probe runs its eight samples through its use type and exits.
+        for b in $PROBES; do
+            probe="$name-${b//_/-}"
+            run_elf "$target" "$out/$probe.elf" "$out/$probe.run.txt"
+            if [ "$rc" != 0 ]; then
+                cat "$out/$probe.run.txt" >&2
+                echo "FAIL: $probe exited with status $rc (124 = timeout)" >&2
+                status=1
+            else
+                echo "flash probe ($probe): ran, exit status 0"
+            fi
+        done
     done
 done
 
@@ -298,6 +312,8 @@ for backend in $BACKENDS; do
         pairs+=("$(core_name "$target") $target $backend, the drone only (Drone, two settings)=$out/$target-$backend-size-drone.elf:$out/$target-$backend-size-baseline.elf")
         pairs+=("$(core_name "$target") $target $backend, flash probe: Drone alone minus an empty loop (src/bin/probe.rs)=$out/$target-$backend-probe.elf:$out/$target-$backend-probe-empty.elf")
         pairs+=("$(core_name "$target") $target $backend, flash probe, Kalman gain reuse on (feature probe-reuse)=$out/$target-$backend-probe-reuse.elf:$out/$target-$backend-probe-empty.elf")
+        pairs+=("$(core_name "$target") $target $backend, flash probe: Balloon<64> alone minus an empty loop (src/bin/probe_balloon.rs)=$out/$target-$backend-probe-balloon.elf:$out/$target-$backend-probe-balloon-empty.elf")
+        pairs+=("$(core_name "$target") $target $backend, flash probe: Walk alone minus an empty loop (src/bin/probe_walk.rs)=$out/$target-$backend-probe-walk.elf:$out/$target-$backend-probe-walk-empty.elf")
     done
 done
 python3 "$here/elf_sizes.py" --symbols "${pairs[@]}"

@@ -1,13 +1,8 @@
 //! Flash probe: a `Drone` and nothing else.
 //!
-//! The flash the library takes in a firmware is this ELF minus the same ELF built with
-//! feature `probe-empty`, which runs the same loop over the same samples with the
-//! `Drone::process` call left out (the samples still go through `black_box`). No checks,
-//! no printing, no timing: unlike the measuring firmware (`main.rs`), nothing of a
-//! harness is in the difference, so it is the library's code, constants and the maths
-//! and soft-float routines it pulls in. `run.sh` builds both (the library with
-//! `default-features = false, features = ["libm"]`) and prints the difference
-//! (`elf_sizes.py`). The run only exits with success (it checks nothing).
+//! The flash the library takes is this ELF minus the same ELF built with feature
+//! `probe-empty` (the same loop over the same samples, no `Drone`): see `src/probe.rs`,
+//! the loop the three probes share.
 //!
 //! The drone's settings are a `static` (`DroneSettings::DEFAULT`), borrowed by the
 //! `Drone` as on a device. With feature `probe-reuse` they turn on the Kalman filter's
@@ -27,6 +22,9 @@ use core::hint::black_box;
 #[path = "../arch/mod.rs"]
 #[allow(dead_code, unused_imports)]
 mod arch;
+/// The loop the probes share.
+#[path = "../probe.rs"]
+mod probe;
 
 use arch::entry;
 
@@ -55,6 +53,16 @@ static PRESSURE_PA: [f32; N] = [
 /// Vertical acceleration, gravity removed, up positive, m/s^2.
 static ACCEL_MPS2: [f32; N] = [0.02, -0.01, 0.03, 0.6, 1.2, 1.4, 1.3, 1.1];
 
+/// Sample `i`: pressure and vertical acceleration, read through `black_box`.
+fn sample(i: usize) -> Sample {
+    let mut sample = Sample::pressure(
+        Instant::from_micros(black_box(TIME_US[i])),
+        black_box(PRESSURE_PA[i]),
+    );
+    sample.accel_up_mps2 = Some(black_box(ACCEL_MPS2[i]));
+    sample
+}
+
 /// `Drone::process`, never inlined, so that its code shows under a library symbol in
 /// `elf_sizes.py --symbols` (names with `lib_process` count as the library's).
 #[cfg(not(feature = "probe-empty"))]
@@ -69,16 +77,11 @@ fn main() -> ! {
     let Ok(mut drone) = Drone::new(&SETTINGS) else {
         arch::exit(false)
     };
-    for i in 0..N {
-        let mut sample = Sample::pressure(
-            Instant::from_micros(black_box(TIME_US[i])),
-            black_box(PRESSURE_PA[i]),
-        );
-        sample.accel_up_mps2 = Some(black_box(ACCEL_MPS2[i]));
-        #[cfg(not(feature = "probe-empty"))]
-        black_box(lib_process_probe(&mut drone, &sample));
-        #[cfg(feature = "probe-empty")]
-        black_box(sample);
-    }
-    arch::exit(true)
+    #[cfg(not(feature = "probe-empty"))]
+    let process = |sample: &Sample| {
+        black_box(lib_process_probe(&mut drone, sample));
+    };
+    #[cfg(feature = "probe-empty")]
+    let process = |_: &Sample| {};
+    probe::run(N, sample, process)
 }
