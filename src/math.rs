@@ -162,45 +162,40 @@ pub(crate) fn sigma_from_variance(var: f32) -> f32 {
     y
 }
 
-/// sin(x), x in radians.
+/// sin(x), x in radians: `x` reduced to [-pi/2, pi/2] and the Taylor series to x^13
+/// (truncation below 6e-8; Abramowitz & Stegun 4.3.65), for both backends.
 ///
-/// micromath 2.1's `sin` is off by up to 1.1e-3 (measured against f64), 5e-5 of
-/// gravity; the `micromath` backend reduces `x` to [-pi/2, pi/2] and uses the Taylor
-/// series to x^13 (truncation below 6e-8; Abramowitz & Stegun 4.3.65).
+/// Written here rather than taken from a backend: micromath 2.1's `sin` is off by up
+/// to 1.1e-3 (measured against f64), 5e-5 of gravity, and libm's `sinf` brings an f64
+/// range reduction for any argument with its soft-float routines (6.6 KB of flash on
+/// the Cortex-M4F, measured in the balloon's flash probe) where the crate only ever
+/// takes the sine of a latitude.
 #[inline]
 pub(crate) fn sin(x: f32) -> f32 {
-    #[cfg(all(feature = "micromath", not(feature = "libm")))]
-    {
-        use core::f32::consts::{FRAC_PI_2, PI, TAU};
-        if !x.is_finite() {
-            return f32::NAN;
-        }
-        // reduce to [-pi, pi], then fold into [-pi/2, pi/2] with sin(pi - x) = sin(x)
-        let turns = x / TAU;
-        let whole = (if turns >= 0.0 {
-            turns + 0.5
-        } else {
-            turns - 0.5
-        }) as i64 as f32;
-        let mut r = x - whole * TAU;
-        if r > FRAC_PI_2 {
-            r = PI - r;
-        } else if r < -FRAC_PI_2 {
-            r = -PI - r;
-        }
-        let r2 = r * r;
-        r * (1.0
-            - r2 / 6.0
-                * (1.0
-                    - r2 / 20.0
-                        * (1.0
-                            - r2 / 42.0
-                                * (1.0 - r2 / 72.0 * (1.0 - r2 / 110.0 * (1.0 - r2 / 156.0))))))
+    use core::f32::consts::{FRAC_PI_2, PI, TAU};
+    if !x.is_finite() {
+        return f32::NAN;
     }
-    #[cfg(feature = "libm")]
-    {
-        libm::sinf(x)
+    // reduce to [-pi, pi], then fold into [-pi/2, pi/2] with sin(pi - x) = sin(x)
+    let turns = x / TAU;
+    let whole = (if turns >= 0.0 {
+        turns + 0.5
+    } else {
+        turns - 0.5
+    }) as i64 as f32;
+    let mut r = x - whole * TAU;
+    if r > FRAC_PI_2 {
+        r = PI - r;
+    } else if r < -FRAC_PI_2 {
+        r = -PI - r;
     }
+    let r2 = r * r;
+    r * (1.0
+        - r2 / 6.0
+            * (1.0
+                - r2 / 20.0
+                    * (1.0
+                        - r2 / 42.0 * (1.0 - r2 / 72.0 * (1.0 - r2 / 110.0 * (1.0 - r2 / 156.0))))))
 }
 
 /// Natural logarithm written here, used by both backends where speed matters (the

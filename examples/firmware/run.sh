@@ -157,7 +157,7 @@ run_elf() {
 }
 
 features_for() { # backend -> cargo args
-    if [ "$1" = micromath ]; then echo "--features micromath"; fi
+    if [ "$1" = micromath ]; then echo "--features micromath"; else echo "--features libm"; fi
 }
 
 status=0
@@ -170,7 +170,8 @@ for backend in $BACKENDS; do
         name="$target-$backend"
         say "build $name"
         # shellcheck disable=SC2046
-        build "$target" "$name" $(features_for "$backend")
+        build "$target" "$name" --no-default-features --features breakdown \
+            $(features_for "$backend")
         # shellcheck disable=SC2046
         build "$target" "$name-size" --no-default-features $(features_for "$backend")
         # shellcheck disable=SC2046
