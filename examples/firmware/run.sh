@@ -8,9 +8,9 @@
 #   TARGETS=thumbv6m-none-eabi examples/firmware/run.sh
 #
 # Installs what it needs when missing: the Rust targets (rustup), qemu-system-arm and
-# qemu-system-misc (apt-get; qemu-system-riscv32). Exits non-zero when a build fails, a run fails (results differ from the
-# host's, or the timer calibration is off), a run times out, or two runs of the same
-# firmware print different output.
+# qemu-system-misc (apt-get; qemu-system-riscv32). Exits non-zero when a build fails, a
+# run fails (results differ from the host's, or the timer calibration is off), a run
+# times out, or two runs of the same firmware print different output.
 # Profile: release, opt-level "s", lto = true, codegen-units = 1 (Cargo.toml); override
 # the opt-level with CARGO_PROFILE_RELEASE_OPT_LEVEL=3.
 
@@ -52,7 +52,7 @@ apt_install_backports() {
         /^URIs:/ {u = $2} /^Signed-By:/ {k = $2}
         /^Suites:/ {for (i = 2; i <= NF; i++) if ($i == c) hit = 1}
         /^$/ {if (hit && u) {print u, k; exit} hit = 0; u = ""; k = ""}
-        END {if (hit && u) print u, k}' /etc/apt/sources.list.d/*.sources 2>/dev/null || true)
+        END {if (hit && u) print u, k}' /etc/apt/sources.list.d/*.sources 2>/dev/null) || true
     if [ -z "${uri:-}" ]; then
         uri="$(sed -E 's/\[[^]]*\] //' /etc/apt/sources.list 2>/dev/null |
             awk -v c="$codename" '$1 == "deb" && $3 == c {print $2; exit}')"
