@@ -8,12 +8,14 @@
 //! `atmosphere::US_1976`, itself checked against the standard's tables in
 //! tests/atmosphere.rs); the scenarios are our own.
 
-use isohypse::atmosphere::US_1976;
+mod common;
+
+use common::{air_c, pressure_at};
+use isohypse::Error;
 use isohypse::time::{Instant, WrappingTicks};
 use isohypse::uses::{
     Balloon, BalloonSettings, Drone, DroneSettings, Flags, Output, Sample, Use, Walk, WalkSettings,
 };
-use isohypse::{Error, Height};
 use std::fmt::Debug;
 
 /// The use types of the table.
@@ -103,22 +105,6 @@ fn device_ms(fault: Fault, u: &Case, k: u64) -> u64 {
         Fault::LongSleep if k >= FAULT_AT => normal + (u.max_gap_s as u64 + 60) * 1_000,
         _ => normal,
     }
-}
-
-fn pressure_at(z: f64) -> f32 {
-    US_1976
-        .pressure_at(Height::from_meters(z as f32).unwrap())
-        .unwrap()
-        .pa()
-}
-
-/// The standard atmosphere's air temperature at `z`, degC (the balloon's sounding
-/// integrates it).
-fn air_c(z: f64) -> f32 {
-    US_1976
-        .temperature_at(Height::from_meters(z as f32).unwrap())
-        .unwrap()
-        .celsius()
 }
 
 struct Run<S> {

@@ -4,24 +4,12 @@
 //! Standard Atmosphere 1976 (the library's `atmosphere::US_1976`, itself checked against
 //! the standard's tables in tests/atmosphere.rs); the goals are the design notes'.
 
-use isohypse::atmosphere::US_1976;
+mod common;
+
+use common::{air_c, pressure_at};
+use isohypse::Pressure;
 use isohypse::time::Instant;
 use isohypse::uses::{Balloon, BalloonSettings, Drone, DroneSettings, Flags, Output, Sample};
-use isohypse::{Height, Pressure};
-
-fn pressure_at(z: f64) -> f32 {
-    US_1976
-        .pressure_at(Height::from_meters(z as f32).unwrap())
-        .unwrap()
-        .pa()
-}
-
-fn air_c(z: f64) -> f32 {
-    US_1976
-        .temperature_at(Height::from_meters(z as f32).unwrap())
-        .unwrap()
-        .celsius()
-}
 
 /// A small deterministic generator (64-bit LCG, Knuth's MMIX constants: common
 /// practice) for sensor noise: uniform in [-1, 1).

@@ -10,8 +10,9 @@
 //! table 2: 300-1100 hPa; the LPS22HB datasheet, ST DocID027083, table 3: 260-1260 hPa;
 //! parts for balloons read to 10 hPa: common practice).
 
-use isohypse::Height;
-use isohypse::atmosphere::US_1976;
+mod common;
+
+use common::{air_c, pressure_at};
 use isohypse::part::PartDescription;
 use isohypse::time::Instant;
 use isohypse::uses::{
@@ -34,20 +35,6 @@ const SETTINGS: BalloonSettings = BalloonSettings {
     ..BalloonSettings::DEFAULT
 }
 .with_part(&PART);
-
-fn pressure_at(z: f64) -> f32 {
-    US_1976
-        .pressure_at(Height::from_meters(z as f32).unwrap())
-        .unwrap()
-        .pa()
-}
-
-fn air_c(z: f64) -> f32 {
-    US_1976
-        .temperature_at(Height::from_meters(z as f32).unwrap())
-        .unwrap()
-        .celsius()
-}
 
 /// 60 s on the ground at 300 m, up at 5 m/s to 33 km, then down at 20 m/s.
 fn height_at(t: f64) -> f64 {

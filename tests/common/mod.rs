@@ -183,6 +183,19 @@ pub fn p_at(z: f32) -> f32 {
         .pa()
 }
 
+/// [`p_at`] for a height given in f64 (the scenarios' heights), Pa.
+pub fn pressure_at(z: f64) -> f32 {
+    p_at(z as f32)
+}
+
+/// Air temperature of the U.S. 1976 atmosphere at geometric height `z`, degC.
+pub fn air_c(z: f64) -> f32 {
+    isohypse::atmosphere::US_1976
+        .temperature_at(h(z as f32))
+        .unwrap()
+        .celsius()
+}
+
 /// The instant `s` seconds after the epoch, rounded to the microsecond (tests keep
 /// their scenarios in seconds; the library takes integer time).
 pub fn at(s: f64) -> isohypse::time::Instant {
