@@ -59,6 +59,21 @@ fn bme_configure_default() -> Vec<Transaction> {
     ]
 }
 
+/// An LPS22HB found, configured with `Lps22Config::DEFAULT` (one-shot, low-noise) and
+/// started: identity, power-down, RES_CONF read and written, CTRL_REG2, CTRL_REG1,
+/// ONE_SHOT.
+fn lps_hb_default_started() -> Vec<Transaction> {
+    vec![
+        Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
+        Transaction::write(LPS, vec![0x10, 0x00]),
+        Transaction::write_read(LPS, vec![0x1A], vec![0x00]),
+        Transaction::write(LPS, vec![0x1A, 0x00]),
+        Transaction::write(LPS, vec![0x11, 0x10]),
+        Transaction::write(LPS, vec![0x10, 0x02]),
+        Transaction::write(LPS, vec![0x11, 0x11]),
+    ]
+}
+
 fn script(parts: &[Vec<Transaction>]) -> Vec<Transaction> {
     parts.concat()
 }
@@ -410,18 +425,14 @@ mod asynchronous {
         // fetch that finds it not done yet, a millisecond, the fetch that has it.
         use isohypse::parts::paced::Paced;
         use isohypse::sensor_async::AsyncBarometricSensor;
-        let expected = [
-            Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
-            Transaction::write(LPS, vec![0x10, 0x00]),
-            Transaction::write_read(LPS, vec![0x1A], vec![0x00]),
-            Transaction::write(LPS, vec![0x1A, 0x00]),
-            Transaction::write(LPS, vec![0x11, 0x10]),
-            Transaction::write(LPS, vec![0x10, 0x02]),
-            Transaction::write(LPS, vec![0x11, 0x11]),
-            Transaction::write_read(LPS, vec![0x27], vec![0x00]),
-            Transaction::write_read(LPS, vec![0x27], vec![0x03]),
-            Transaction::write_read(LPS, vec![0x28], vec![0x00, 0x80, 0x3F, 0xD2, 0x04]),
-        ];
+        let expected = script(&[
+            lps_hb_default_started(),
+            vec![
+                Transaction::write_read(LPS, vec![0x27], vec![0x00]),
+                Transaction::write_read(LPS, vec![0x27], vec![0x03]),
+                Transaction::write_read(LPS, vec![0x28], vec![0x00, 0x80, 0x3F, 0xD2, 0x04]),
+            ],
+        ]);
         let mut bus = Mock::new(&expected);
         let mut part = Lps22Async::new(AsyncBus(&mut bus), LPS);
         let (reading, waited) = block_on(async {
@@ -445,15 +456,7 @@ mod asynchronous {
     fn a_conversion_that_never_comes_is_not_ready() {
         use isohypse::parts::paced::Paced;
         use isohypse::sensor_async::AsyncBarometricSensor;
-        let mut expected = vec![
-            Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
-            Transaction::write(LPS, vec![0x10, 0x00]),
-            Transaction::write_read(LPS, vec![0x1A], vec![0x00]),
-            Transaction::write(LPS, vec![0x1A, 0x00]),
-            Transaction::write(LPS, vec![0x11, 0x10]),
-            Transaction::write(LPS, vec![0x10, 0x02]),
-            Transaction::write(LPS, vec![0x11, 0x11]),
-        ];
+        let mut expected = lps_hb_default_started();
         // a status that never says ready: the first fetch and 100 more
         expected.extend((0..101).map(|_| Transaction::write_read(LPS, vec![0x27], vec![0x00])));
         let mut bus = Mock::new(&expected);
@@ -472,18 +475,14 @@ mod asynchronous {
 
     #[test]
     fn lps22hb_async_same_script() {
-        let expected = [
-            Transaction::write_read(LPS, vec![0x0F], vec![0xB1]),
-            Transaction::write(LPS, vec![0x10, 0x00]),
-            Transaction::write_read(LPS, vec![0x1A], vec![0x00]),
-            Transaction::write(LPS, vec![0x1A, 0x00]),
-            Transaction::write(LPS, vec![0x11, 0x10]),
-            Transaction::write(LPS, vec![0x10, 0x02]),
-            Transaction::write(LPS, vec![0x11, 0x11]),
-            Transaction::write_read(LPS, vec![0x27], vec![0x00]),
-            Transaction::write_read(LPS, vec![0x27], vec![0x03]),
-            Transaction::write_read(LPS, vec![0x28], vec![0x00, 0x80, 0x3F, 0xD2, 0x04]),
-        ];
+        let expected = script(&[
+            lps_hb_default_started(),
+            vec![
+                Transaction::write_read(LPS, vec![0x27], vec![0x00]),
+                Transaction::write_read(LPS, vec![0x27], vec![0x03]),
+                Transaction::write_read(LPS, vec![0x28], vec![0x00, 0x80, 0x3F, 0xD2, 0x04]),
+            ],
+        ]);
         let mut bus = Mock::new(&expected);
         let mut part = Lps22Async::new(AsyncBus(&mut bus), LPS);
         block_on(async {
