@@ -178,31 +178,12 @@ impl Envelope {
     /// Double the width of the spans, merging them in pairs.
     fn widen(&mut self) {
         self.width_s *= 2.0;
-        for i in 0..BUCKETS {
-            let merged = if i < BUCKETS / 2 {
-                let pair = |k: usize| self.spans.get(k).copied().unwrap_or([None; SERIES]);
-                let (a, b) = (pair(2 * i), pair(2 * i + 1));
-                std::array::from_fn(|s| match (a[s], b[s]) {
-                    (Some(x), Some(y)) => Some(x.then(y)),
-                    (x, y) => x.or(y),
-                })
-            } else {
-                [None; SERIES]
-            };
-            if let Some(slot) = self.spans.get_mut(i) {
-                *slot = merged;
-            }
-            let marks = if i < BUCKETS / 2 {
-                let pair = |k: usize| self.marks.get(k).copied().unwrap_or([None; MARKS]);
-                let (a, b) = (pair(2 * i), pair(2 * i + 1));
-                std::array::from_fn(|m| a[m].or(b[m]))
-            } else {
-                [None; MARKS]
-            };
-            if let Some(slot) = self.marks.get_mut(i) {
-                *slot = marks;
-            }
-        }
+        halve(&mut self.spans, |a, b| match (a, b) {
+            (Some(x), Some(y)) => Some(x.then(y)),
+            (x, y) => x.or(y),
+        });
+        // a mark keeps the first of the pair's
+        halve(&mut self.marks, Option::or);
     }
 
     /// The marks of kind `m` in time order.
@@ -232,5 +213,26 @@ impl Envelope {
     /// First and last time drawn, s.
     pub(crate) fn time_range(&self) -> Option<(f64, f64)> {
         Some((self.start_s?, self.last_s))
+    }
+}
+
+/// Merges the slots of `buckets` in pairs into the first half (slot `i` from `2 i` and
+/// `2 i + 1`, each entry by `merge(earlier, later)`) and empties the second half.
+fn halve<T: Copy, const K: usize>(
+    buckets: &mut [[Option<T>; K]],
+    merge: impl Fn(Option<T>, Option<T>) -> Option<T>,
+) {
+    let n = buckets.len();
+    for i in 0..n {
+        let merged = if i < n / 2 {
+            let pair = |k: usize| buckets.get(k).copied().unwrap_or([None; K]);
+            let (a, b) = (pair(2 * i), pair(2 * i + 1));
+            std::array::from_fn(|s| merge(a[s], b[s]))
+        } else {
+            [None; K]
+        };
+        if let Some(slot) = buckets.get_mut(i) {
+            *slot = merged;
+        }
     }
 }
